@@ -6,7 +6,7 @@ the same work, and the ratio between them.
 
 The naive baselines are a Python loop that handles one point at a time:
 
-* forward curve: ``saturation`` called on one scalar PO2 at a time;
+* forward curve: the model's own ``saturation`` called on one scalar PO2 at a time;
 * inverse curve: ``scipy.optimize.brentq`` on ``saturation(p) - so2`` for each point;
 * transport chain: one case at a time, the capillary integrated with
   ``scipy.integrate.solve_ivp`` and every PO2-from-content step solved with ``brentq``,
@@ -57,7 +57,7 @@ def extrapolated(fn, items, n_total: int) -> float:
 
 def row(label: str, fast_s: float, naive_s: float, note: str = "") -> None:
     print(
-        f"{label:<38} {fast_s * 1e3:>11.3f} ms {naive_s * 1e3:>14.1f} ms "
+        f"{label:<38} {fast_s * 1e3:>11.3f} ms {naive_s:>14.2f} s "
         f"{naive_s / fast_s:>10.0f}x  {note}"
     )
 
@@ -90,7 +90,7 @@ def bench_curves(n: int, n_naive: int, repeats: int) -> bool:
     po2 = rng.uniform(1.0, 600.0, n)
     so2 = rng.uniform(0.01, 0.99, n)
     print(f"\nDissociation curves, {n:,} points (naive: {n_naive} points, extrapolated)")
-    print(f"{'':<38} {'vectorised':>14} {'naive loop':>17} {'ratio':>11}")
+    print(f"{'':<38} {'vectorised':>14} {'naive loop':>16} {'ratio':>11}")
     ok = True
     for curve in CURVE_NAMES:
         if curve not in CURVES:
@@ -160,7 +160,7 @@ def batch_inputs(n: int) -> dict:
 
 def bench_transport(n: int, n_naive: int, repeats: int) -> bool:
     print("\nTransport chain (naive: scalar scipy chain, see module docstring)")
-    print(f"{'':<38} {'vectorised':>14} {'naive':>17} {'ratio':>11}")
+    print(f"{'':<38} {'vectorised':>14} {'naive':>16} {'ratio':>11}")
     ok = True
     one = {"hb_g_dl": 15.0, "fio2": 0.21, "shunt_fraction": 0.02}
     result = solve_transport(**one)
