@@ -1,0 +1,64 @@
+"""Build and serve the o2transit dashboard (one independent case state per browser session)."""
+
+from __future__ import annotations
+
+import ipaddress
+
+import panel as pn
+
+from dashboard.state import CaseState
+from dashboard.views import (
+    ACCENT,
+    CascadePlot,
+    CaseControls,
+    CurvePlot,
+    InputPanel,
+    NumbersTable,
+    caution_pane,
+)
+
+TITLE = "o2transit · oxygen path"
+
+
+def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template.BootstrapTemplate:
+    """Page for one session: inputs in the sidebar, curves, cascade and numbers in the main area."""
+    pn.extension()
+    state = CaseState() if state is None else state
+    template = pn.template.BootstrapTemplate(
+        title=TITLE, header_background=ACCENT, sidebar_width=340, collapsed_sidebar=False,
+    )
+    template.sidebar.append(InputPanel(state))
+    template.main.append(
+        pn.Column(
+            caution_pane(),
+            CaseControls(state, scenario_dir=scenario_dir),
+            pn.Row(
+                pn.Column(CurvePlot(state), sizing_mode="stretch_width", min_width=420),
+                pn.Column(NumbersTable(state), sizing_mode="stretch_width", min_width=420),
+                sizing_mode="stretch_width",
+            ),
+            CascadePlot(state),
+            sizing_mode="stretch_width",
+        )
+    )
+    return template
+
+
+def _is_loopback(address: str) -> bool:
+    if address == "localhost":
+        return True
+    try:
+        return ipaddress.ip_address(address).is_loopback
+    except ValueError:
+        return False
+
+
+def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwargs):
+    """Serve the dashboard; blocks unless ``threaded=True`` is passed (then returns the server)."""
+    url = f"http://{address}:{port}/"
+    print(f"o2transit dashboard at {url}", flush=True)
+    if not _is_loopback(address):
+        print(f"WARNING: listening on {address}: the page is reachable from the network, "
+              "not only from this computer.", flush=True)
+    return pn.serve(create_app, address=address, port=port, show=show, title=TITLE,
+                    websocket_origin=[f"{address}:{port}", f"localhost:{port}"], **kwargs)
