@@ -1,0 +1,49 @@
+"""o2transit's physiology model: oxygen from inspired air to venous blood.
+
+One module per stage, in the order oxygen travels: ``air`` -> ``lungs`` ->
+``dissociation``, ``content``, ``acid_base`` (blood) -> ``circulation`` (and tissue);
+``transport`` runs the chain. Everything is pure and numpy-vectorised.
+"""
+
+from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base_excess
+from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
+from .circulation import (
+                          body_surface_area,
+                          extraction_ratio,
+                          oxygen_delivery,
+                          venous_content_fick,
+                          vo2_at_temperature,
+)
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
+from .dissociation import (
+                          CURVES,
+                          NORMAL_DPG_MMOL_L,
+                          STANDARD_P50_MMHG,
+                          p50,
+                          po2_from_saturation,
+                          saturation,
+)
+from .limits import INPUT_LIMITS
+from .lungs import aa_gradient, alveolar_po2, end_capillary_po2, mix_by_content, po2_from_content
+from .scenario import Scenario, ScenarioError, load_scenario
+from .transport import BloodState, TransportResult, solve_transport
+from .units import (
+                          hb_g_dl_to_g_l,
+                          hb_g_dl_to_mmol_l,
+                          hb_g_l_to_g_dl,
+                          hb_mmol_l_to_g_dl,
+                          kpa_to_mmhg,
+                          mmhg_to_kpa,
+)
+
+__all__ = [
+    "CURVES", "HUFNER_ML_G", "INPUT_LIMITS", "NORMAL_DPG_MMOL_L", "O2_SOLUBILITY_ML_DL_MMHG",
+    "PRESSURE_MODELS", "STANDARD_P50_MMHG", "BloodState", "Scenario", "ScenarioError",
+    "TransportResult", "aa_gradient", "alveolar_po2", "barometric_pressure", "base_excess",
+    "bicarbonate", "blood_co2_content", "body_surface_area", "end_capillary_po2",
+    "extraction_ratio", "hb_g_dl_to_g_l", "hb_g_dl_to_mmol_l", "hb_g_l_to_g_dl",
+    "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "load_scenario", "mix_by_content",
+    "mmhg_to_kpa", "oxygen_content", "oxygen_delivery", "p50", "ph_from_base_excess",
+    "po2_from_content", "po2_from_saturation", "saturation", "solve_transport",
+    "venous_content_fick", "vo2_at_temperature", "water_vapour_pressure",
+]

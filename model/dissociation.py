@@ -1,0 +1,360 @@
+"""Stage 3a, blood: the oxygen-haemoglobin dissociation curve.
+
+Four published curves, selected by name, each under pH, PCO2, temperature,
+2,3-DPG, carbon monoxide and methaemoglobin:
+
+* ``"severinghaus1979"`` (alias ``"severinghaus"``): Severinghaus' equation for the
+  standard curve, applied to Kelman's virtual PO2;
+* ``"dash2016"`` (alias ``"dash"``): Dash, Korman and Bassingthwaighte's Hill form with a
+  PO2-dependent Hill coefficient and a P50 made of independent multiplicative factors;
+* ``"siggaard_andersen1990"``: the tanh equation of Siggaard-Andersen and
+  Siggaard-Andersen;
+* ``"hill1910"`` (alias ``"hill"``): the Hill equation, n = 2.7.
+
+``p50_mmhg`` overrides the curve's *standard-state* P50 (fetal blood, haemoglobin
+variants, stored blood); the condition factors still act on top of it.
+
+Carbon monoxide follows Haldane's first law with the Siggaard-Andersen and
+Fogh-Andersen formulation: the curve holds for total ligand saturation at the
+"equivalent" pressure ``PO2 + M PCO``, which shifts the remaining haemoglobin left.
+Saturations returned are *functional*, O2Hb / (O2Hb + HHb).
+
+References
+----------
+1. Severinghaus JW. Simple, accurate equations for human blood O2 dissociation
+   computations. J Appl Physiol 1979; 46:599-602.
+2. Kelman GR. Digital computer subroutine for the conversion of oxygen tension into
+   saturation. J Appl Physiol 1966; 21:1375-1376.
+3. Ellis RK. Determination of PO2 from saturation. J Appl Physiol 1989; 67:902.
+4. Dash RK, Korman B, Bassingthwaighte JB. Simple accurate mathematical models of
+   blood HbO2 and HbCO2 dissociation curves at varied physiological conditions:
+   evaluation and comparison with other models. Eur J Appl Physiol 2016; 116:97-113.
+5. Siggaard-Andersen O, Siggaard-Andersen M. The oxygen status algorithm: a computer
+   program for calculating and displaying pH and blood gas data. Scand J Clin Lab
+   Invest 1990; 50 Suppl 203:29-45.
+6. Siggaard-Andersen O, Siggaard-Andersen M, Fogh-Andersen N. The TANH-equation
+   modified for the hemoglobin, oxygen, and carbon monoxide equilibrium. Scand J Clin
+   Lab Invest 1993; 53 Suppl 214:113-119.
+7. Hill AV. The possible effects of the aggregation of the molecules of haemoglobin on
+   its dissociation curves. J Physiol 1910; 40:iv-vii.
+8. Lykkeboe G, Johansen K. A cladistic analysis of oxygen dissociation curves of
+   vertebrate bloods. Respir Physiol 1978; 35:119-127 (human n = 2.7).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+CURVES = ("severinghaus", "severinghaus1979", "dash", "dash2016", "siggaard_andersen1990",
+          "hill", "hill1910")
+_ALIASES = {"severinghaus": "severinghaus1979", "dash": "dash2016", "hill": "hill1910"}
+
+NORMAL_DPG_MMOL_L = 5.0
+"""Normal red-cell 2,3-DPG [mmol/L] (Siggaard-Andersen 1990 reference value)."""
+
+STANDARD_P50_MMHG = {
+    "severinghaus1979": 26.857,  # root of Eq 1 of [1]
+    "dash2016": 26.8,  # P50,S of [4]
+    "siggaard_andersen1990": 26.840,  # tanh model at a = b = 0, [5]
+    "hill1910": 26.8,
+}
+"""Each curve's own P50 at pH 7.40, PCO2 40 mmHg, 37 degC, normal DPG [mmHg]."""
+
+DASH2016 = {"alpha": 2.82, "beta": 1.20, "gamma_mmhg": 29.25, "p50_mmhg": 26.8,
+            "dpg_rbc_m": 4.65e-3}
+"""Dash et al. 2016 [4], Table 1: Hill coefficient nH = alpha - beta 10^(-PO2/gamma)."""
+
+HILL_N = 2.7
+"""Human Hill coefficient over S 0.36-0.98 (Lykkeboe & Johansen 1978 [8])."""
+
+_SA_DLNP50_DA = 1.121  # p50 = 3.578 kPa exp(1.121 a), [5]
+_DPG_LN_PER_MMOL = 0.06 * _SA_DLNP50_DA  # DPG term of the tanh model's a, [5]
+_METHB_LN = -0.7 * _SA_DLNP50_DA  # MetHb term of the tanh model's a, [6]
+_MMHG_PER_KPA = 7.500615758
+
+_LIMITS = {
+    "ph": (6.5, 8.0, ""),
+    "pco2_mmhg": (1.0, 200.0, "mmHg"),
+    "temperature_c": (15.0, 45.0, "degC"),
+    "dpg_mmol_l": (0.0, 20.0, "mmol/L"),
+    "cohb_fraction": (0.0, 0.9, ""),
+    "methb_fraction": (0.0, 0.9, ""),
+    "p50_mmhg": (5.0, 80.0, "mmHg"),
+}
+
+
+def _check(name, value):
+    lo, hi, unit = _LIMITS[name]
+    bad = (value < lo) | (value > hi)
+    if np.any(bad):
+        v = np.asarray(value)[bad].ravel()[0]
+        raise ValueError(f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip())
+
+
+def _canonical(curve: str) -> str:
+    name = _ALIASES.get(curve, curve)
+    if name not in STANDARD_P50_MMHG:
+        raise ValueError(f"curve {curve!r} is unknown; choose one of {CURVES}")
+    return name
+
+
+def _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction,
+                p50_mmhg, curve):
+    name = _canonical(curve)
+    dpg = NORMAL_DPG_MMOL_L if dpg_mmol_l is None else dpg_mmol_l
+    p50_std = STANDARD_P50_MMHG[name] if p50_mmhg is None else p50_mmhg
+    vals = [np.asarray(v, dtype=float) for v in
+            (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)]
+    for key, v in zip(("ph", "pco2_mmhg", "temperature_c", "dpg_mmol_l", "cohb_fraction",
+                       "methb_fraction", "p50_mmhg"), vals):
+        _check(key, v)
+    if np.any(vals[4] + vals[5] >= 1.0):
+        raise ValueError("cohb_fraction + methb_fraction must stay below 1")
+    keys = ("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std")
+    return name, dict(zip(keys, vals))
+
+
+def _ln_shift(name, c):
+    """ln of the factor by which the curve's P50 moves away from its standard value."""
+    fmet = _METHB_LN * c["fmet"]
+    override = np.log(c["p50std"] / STANDARD_P50_MMHG[name])
+    if name in ("severinghaus1979", "hill1910"):
+        # Kelman's virtual-PO2 factors, [2]; DPG and MetHb terms of the tanh model, [5, 6]
+        log10 = -0.024 * (37.0 - c["t"]) - 0.40 * (c["ph"] - 7.40) - 0.06 * np.log10(40.0 / c["pco2"])
+        return np.log(10.0) * log10 + _DPG_LN_PER_MMOL * (c["dpg"] - NORMAL_DPG_MMOL_L) + fmet + override
+    if name == "dash2016":
+        return np.log(_dash_p50(c) / DASH2016["p50_mmhg"]) + fmet + override
+    # siggaard_andersen1990: handled inside its own equation; only the override shifts x.
+    return override
+
+
+def _dash_p50(c):
+    """Eq 9a-d and 10 of Dash et al. 2016 [4]: P50 under the given conditions [mmHg]."""
+    p50s = DASH2016["p50_mmhg"]
+    d_ph = (0.795 * c["ph"] + 1.357) - 7.24  # red-cell pH, Siggaard-Andersen 1971 as used in [4]
+    d_co2 = c["pco2"] - 40.0
+    d_dpg = DASH2016["dpg_rbc_m"] * (c["dpg"] / NORMAL_DPG_MMOL_L - 1.0)
+    d_t = c["t"] - 37.0
+    p_ph = p50s - 25.535 * d_ph + 10.646 * d_ph**2 - 1.764 * d_ph**3
+    p_co2 = p50s + 0.1273 * d_co2 + 1.083e-4 * d_co2**2
+    p_dpg = p50s + 795.63 * d_dpg - 19660.89 * d_dpg**2
+    p_t = p50s + 1.435 * d_t + 4.163e-2 * d_t**2 + 6.86e-4 * d_t**3
+    return p50s * (p_ph / p50s) * (p_co2 / p50s) * (p_dpg / p50s) * (p_t / p50s)
+
+
+def _sa_a_b(c):
+    a = (-0.88 * (c["ph"] - 7.40) + 0.048 * np.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
+         - 0.7 * c["fmet"] + 0.06 * (c["dpg"] - NORMAL_DPG_MMOL_L))
+    b = 0.055 * (c["t"] - 37.0)
+    return a, b
+
+
+def _total(name, p, c, shift):
+    """Total-ligand saturation of the curve at pressure p [mmHg] (no CO handling)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if name == "severinghaus1979":
+            x = p * np.exp(-shift)
+            return 1.0 / (23400.0 / (x**3 + 150.0 * x) + 1.0)
+        if name == "hill1910":
+            x = p * np.exp(-shift) / STANDARD_P50_MMHG["hill1910"]
+            xn = x**HILL_N
+            return xn / (1.0 + xn)
+        if name == "dash2016":
+            p50 = DASH2016["p50_mmhg"] * np.exp(shift)
+            nh = DASH2016["alpha"] - DASH2016["beta"] * 10.0 ** (-p / DASH2016["gamma_mmhg"])
+            xn = (p / p50) ** nh
+            return xn / (1.0 + xn)
+        a, b = _sa_a_b(c)
+        x = np.log(p / _MMHG_PER_KPA) - shift
+        x0 = np.log(7.0) + a + b
+        y = 1.8747 + (x - x0) + (3.5 + a) * np.tanh(0.5343 * (x - x0))
+        return 1.0 / (1.0 + np.exp(-y))
+
+
+def _total_inverse(name, s, c, shift):
+    """Pressure [mmHg] at which the curve's total-ligand saturation equals s."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        if name == "severinghaus1979":
+            # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1)
+            bb = 11700.0 / (1.0 / s - 1.0)
+            root = np.sqrt(bb**2 + 50.0**3)
+            x = np.cbrt(bb + root) - np.cbrt(root - bb)
+            return x * np.exp(shift)
+        if name == "hill1910":
+            return STANDARD_P50_MMHG["hill1910"] * np.exp(shift) * (s / (1.0 - s)) ** (1.0 / HILL_N)
+        y = np.log(s / (1.0 - s))
+        if name == "siggaard_andersen1990":
+            a, b = _sa_a_b(c)
+            x0 = np.log(7.0) + a + b
+            h = 3.5 + a
+            u = (y - 1.8747) / (1.0 + h * 0.5343)  # start on the steepest line
+            for _ in range(60):
+                th = np.tanh(0.5343 * u)
+                f = u + h * th - (y - 1.8747)
+                du = f / (1.0 + h * 0.5343 * (1.0 - th**2))
+                u = u - du
+                if np.all(~(np.abs(du) > 1e-13)):
+                    break
+            return np.exp(u + x0 + shift) * _MMHG_PER_KPA
+        # dash2016: Newton in ln p on y(ln p) = nH(p) (ln p - ln p50)
+        p50 = DASH2016["p50_mmhg"] * np.exp(shift)
+        lp50 = np.log(p50)
+        lp = lp50 + y / 2.7
+        k = DASH2016["beta"] * np.log(10.0) / DASH2016["gamma_mmhg"]
+        for _ in range(60):
+            p = np.exp(lp)
+            decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
+            nh = DASH2016["alpha"] - DASH2016["beta"] * decay
+            f = nh * (lp - lp50) - y
+            df = nh + k * decay * p * (lp - lp50)
+            step = np.clip(f / df, -2.0, 2.0)
+            lp = lp - step
+            if np.all(~(np.abs(step) > 1e-13)):
+                break
+        return np.exp(lp)
+
+
+def _broadcast(first, c):
+    arrays = np.broadcast_arrays(np.asarray(first, dtype=float), *c.values())
+    return arrays[0], dict(zip(c.keys(), arrays[1:]))
+
+
+def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
+               cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+    """Functional O2 saturation of haemoglobin at a PO2 [-].
+
+    Severinghaus 1979 Eq 1, ``S = 1 / (23400 / (x^3 + 150 x) + 1)`` with Kelman's
+    virtual PO2 ``x = PO2 10^(0.024 (37 - T) + 0.40 (pH - 7.40) + 0.06 log10(40 / PCO2))``;
+    or the Dash 2016, Siggaard-Andersen 1990 or Hill curve (module docstring).
+
+    Parameters
+    ----------
+    po2_mmhg : array_like
+        O2 tension [mmHg], >= 0.
+    ph : array_like
+        Plasma pH at body temperature [-].
+    pco2_mmhg : array_like
+        CO2 tension [mmHg].
+    temperature_c : array_like
+        Blood temperature [degC].
+    dpg_mmol_l : array_like or None
+        Red-cell 2,3-DPG [mmol/L]; None means normal (5.0).
+    cohb_fraction, methb_fraction : array_like
+        Carboxy- and methaemoglobin as fractions of total haemoglobin [-].
+    p50_mmhg : array_like or None
+        Standard-state P50 override [mmHg] (e.g. 20 for fetal blood).
+    curve : str
+        One of ``CURVES``.
+
+    Returns
+    -------
+    ndarray
+        Functional saturation O2Hb / (O2Hb + HHb) [-], broadcast over all arguments.
+
+    Notes
+    -----
+    Severinghaus Eq 1 fits the standard curve within 0.0055 S. The DPG effect for the
+    Severinghaus and Hill curves uses the tanh model's DPG term (0.06 per mmol/L in a).
+    For the Dash curve, DPG is scaled to its 4.65 mM standard. CO: Haldane's first
+    law, valid up to about 30 % COHb (Siggaard-Andersen 1993).
+
+    Examples
+    --------
+    >>> round(float(saturation(40.0)), 5)
+    0.74946
+    >>> float(saturation(40.0, ph=7.2)) < float(saturation(40.0))
+    True
+    """
+    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
+                          methb_fraction, p50_mmhg, curve)
+    p, c = _broadcast(po2_mmhg, c)
+    if np.any(p < 0):
+        raise ValueError(f"po2_mmhg = {p[p < 0].ravel()[0]:g} is outside the allowed range 0-inf mmHg")
+    shift = _ln_shift(name, c)
+    if not np.any(c["fco"] > 0):
+        return _total(name, p, c, shift)
+    sco = c["fco"] / (1.0 - c["fmet"])
+    # Haldane: total saturation s solves s = S(PO2 s / (s - sCO)); s - S(...) rises with s.
+    lo, hi = sco.copy(), np.ones_like(sco)
+    for _ in range(56):
+        mid = 0.5 * (lo + hi)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            f = mid - _total(name, p * mid / (mid - sco), c, shift)
+        up = f > 0
+        hi = np.where(up, mid, hi)
+        lo = np.where(up, lo, mid)
+    s = 0.5 * (lo + hi)
+    so2 = np.where(sco > 0, (s - sco) / (1.0 - sco), _total(name, p, c, shift))
+    return np.where(np.isnan(p), np.nan, so2)
+
+
+def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
+                        cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None,
+                        curve="severinghaus"):
+    """PO2 at which the functional saturation equals ``so2`` [mmHg].
+
+    The exact inverse of :func:`saturation`: Ellis' closed form for Severinghaus Eq 1,
+    the closed form for Hill, Newton iteration (to 1e-13 in ln PO2) for the Dash and tanh
+    curves, and Haldane's law inverted exactly for CO.
+
+    Parameters
+    ----------
+    so2 : array_like
+        Functional saturation [-], 0 <= so2 <= 1 (0 gives 0, 1 gives inf).
+    **conditions
+        As for :func:`saturation`.
+
+    Returns
+    -------
+    ndarray
+        PO2 [mmHg].
+
+    Examples
+    --------
+    >>> round(float(po2_from_saturation(0.5)), 3)
+    26.857
+    >>> round(float(po2_from_saturation(0.75, curve="dash")), 2)
+    39.86
+    """
+    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
+                          methb_fraction, p50_mmhg, curve)
+    s, c = _broadcast(so2, c)
+    if np.any((s < 0) | (s > 1)):
+        bad = s[(s < 0) | (s > 1)].ravel()[0]
+        raise ValueError(f"so2 = {bad:g} is outside the allowed range 0-1")
+    shift = _ln_shift(name, c)
+    sco = c["fco"] / (1.0 - c["fmet"])
+    total = s * (1.0 - sco) + sco
+    p_eq = _total_inverse(name, total, c, shift)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
+    po2 = np.where(s == 0, 0.0, po2)
+    return np.where(s == 1, np.inf, po2)
+
+
+def p50(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None, cohb_fraction=0.0,
+        methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+    """P50, the PO2 at half functional saturation, under the given conditions [mmHg].
+
+    Examples
+    --------
+    >>> round(float(p50(temperature_c=39.0, curve="siggaard_andersen1990")), 2)
+    29.96
+    """
+    return po2_from_saturation(0.5, ph=ph, pco2_mmhg=pco2_mmhg, temperature_c=temperature_c,
+                               dpg_mmol_l=dpg_mmol_l, cohb_fraction=cohb_fraction,
+                               methb_fraction=methb_fraction, p50_mmhg=p50_mmhg, curve=curve)
+
+
+def saturation_slope(po2_mmhg, **conditions):
+    """dS/dPO2 of :func:`saturation` by a central difference [1/mmHg].
+
+    Examples
+    --------
+    >>> round(float(saturation_slope(26.86)), 4)
+    0.0247
+    """
+    p = np.asarray(po2_mmhg, dtype=float)
+    h = np.maximum(1e-4 * p, 1e-6)
+    return (saturation(p + h, **conditions) - saturation(np.maximum(p - h, 0.0), **conditions)) / (
+        p + h - np.maximum(p - h, 0.0))

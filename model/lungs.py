@@ -1,0 +1,176 @@
+"""Stage 2, lungs: alveolar gas, diffusion along the capillary, venous admixture."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .air import water_vapour_pressure
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
+from .dissociation import po2_from_saturation, saturation, saturation_slope
+
+
+def alveolar_po2(*, fio2, pb_mmhg, paco2_mmhg, rq=0.8, temperature_c=37.0):
+    """Alveolar PO2 by the alveolar gas equation, full form [mmHg].
+
+    ``PAO2 = FiO2 (PB - PH2O) - PaCO2 (FiO2 + (1 - FiO2) / R)``
+
+    Parameters
+    ----------
+    fio2 : array_like
+        Inspired O2 fraction [-].
+    pb_mmhg : array_like
+        Barometric pressure [mmHg].
+    paco2_mmhg : array_like
+        Arterial (taken as alveolar) PCO2 [mmHg].
+    rq : array_like
+        Respiratory exchange ratio [-].
+    temperature_c : array_like
+        Body temperature, for the water vapour pressure [degC].
+
+    Returns
+    -------
+    ndarray
+        [mmHg]; may be negative for impossible inputs (the caller must check).
+
+    References
+    ----------
+    1. Fenn WO, Rahn H, Otis AB. A theoretical study of the composition of the alveolar
+       air at altitude. Am J Physiol 1946; 146:637-653.
+
+    Examples
+    --------
+    >>> round(float(alveolar_po2(fio2=0.21, pb_mmhg=760.0, paco2_mmhg=40.0, temperature_c=37.0)), 1)
+    101.8
+    """
+    fio2 = np.asarray(fio2, dtype=float)
+    rq = np.asarray(rq, dtype=float)
+    pio2 = fio2 * (np.asarray(pb_mmhg, dtype=float) - water_vapour_pressure(temperature_c))
+    return pio2 - np.asarray(paco2_mmhg, dtype=float) * (fio2 + (1.0 - fio2) / rq)
+
+
+def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
+                      diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
+                      transit_time_s=0.75, hufner_ml_g=HUFNER_ML_G,
+                      o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, steps=64,
+                      **curve_conditions):
+    """PO2 at the end of the lung capillary by Bohr integration [mmHg].
+
+    ``dPc/dt = DLO2 (PA - Pc) / (beta(Pc) Vc)``, ``beta = (k Hb' dS/dP + alpha) / 100``
+    [mL O2 per mL blood per mmHg], from the mixed venous PO2 at t = 0 to the transit time.
+
+    Each step uses the exact solution with beta frozen at the step's midpoint
+    (exponential integrator), which stays stable when beta is small at high PO2.
+
+    Parameters
+    ----------
+    alveolar_po2_mmhg, mixed_venous_po2_mmhg : array_like
+        [mmHg]
+    hb_g_dl : array_like
+        [g/dL]
+    diffusing_capacity_ml_min_mmhg : array_like
+        Lung O2 diffusing capacity DLO2 [mL O2/min/mmHg].
+    capillary_volume_ml : array_like
+        Pulmonary capillary blood volume Vc [mL].
+    transit_time_s : array_like
+        Capillary transit time [s].
+    **curve_conditions
+        Keywords of :func:`model.dissociation.saturation` (capillary = arterial conditions).
+
+    Returns
+    -------
+    ndarray
+        End-capillary PO2 [mmHg].
+
+    References
+    ----------
+    1. Bohr C. Ueber die spezifische Tätigkeit der Lungen bei der respiratorischen
+       Gasaufnahme. Skand Arch Physiol 1909; 22:221-280.
+    2. Roughton FJW, Forster RE. J Appl Physiol 1957; 11:290-302 (DL and Vc).
+
+    Examples
+    --------
+    >>> round(float(end_capillary_po2(35.0, 21.0, 15.0, transit_time_s=0.75)), 1)
+    29.8
+    """
+    pa = np.asarray(alveolar_po2_mmhg, dtype=float)
+    pv = np.asarray(mixed_venous_po2_mmhg, dtype=float)
+    hb = np.asarray(hb_g_dl, dtype=float)
+    carrying = 1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0)) - np.asarray(
+        curve_conditions.get("methb_fraction", 0.0))
+    k = np.asarray(diffusing_capacity_ml_min_mmhg, dtype=float) / 60.0 / np.asarray(
+        capillary_volume_ml, dtype=float)
+    dt = np.asarray(transit_time_s, dtype=float) / steps
+    p = np.minimum(pv, pa)
+
+    def beta(x):
+        return (hufner_ml_g * hb * carrying * saturation_slope(x, **curve_conditions)
+                + o2_solubility_ml_dl_mmhg) / 100.0
+
+    for _ in range(steps):
+        trial = pa - (pa - p) * np.exp(-k * dt / beta(p))
+        p = pa - (pa - p) * np.exp(-k * dt / beta(0.5 * (p + trial)))
+    return p
+
+
+def mix_by_content(end_capillary_content_ml_dl, venous_content_ml_dl, shunt_fraction):
+    """Arterial O2 content after venous admixture [mL O2/dL].
+
+    ``CaO2 = (1 - Qs/Qt) CcO2 + Qs/Qt CvO2`` (Berggren's shunt equation rearranged).
+    Blood mixes by content, never by pressure.
+
+    Examples
+    --------
+    >>> round(float(mix_by_content(20.3, 15.3, 0.1)), 2)
+    19.8
+    """
+    qs = np.asarray(shunt_fraction, dtype=float)
+    return (1.0 - qs) * np.asarray(end_capillary_content_ml_dl, dtype=float) + qs * np.asarray(
+        venous_content_ml_dl, dtype=float)
+
+
+def aa_gradient(alveolar_po2_mmhg, arterial_po2_mmhg):
+    """Alveolar-arterial PO2 difference [mmHg].
+
+    Examples
+    --------
+    >>> float(aa_gradient(101.8, 90.0))
+    11.8
+    """
+    return np.round(np.asarray(alveolar_po2_mmhg, dtype=float) - np.asarray(arterial_po2_mmhg, dtype=float), 12)
+
+
+def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
+                     o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, **curve_conditions):
+    """PO2 at which blood of given Hb holds a given O2 content [mmHg].
+
+    Solves ``k Hb' S(P) + alpha P = C`` by Newton's method safeguarded by bisection
+    (the left side rises strictly with P).
+
+    Examples
+    --------
+    >>> round(float(po2_from_content(19.998, 15.0)), 2)
+    103.32
+    """
+    c = np.asarray(content_ml_dl, dtype=float)
+    c, hb = np.broadcast_arrays(c, np.asarray(hb_g_dl, dtype=float))
+    lo = np.zeros(c.shape)
+    hi = np.maximum(c / o2_solubility_ml_dl_mmhg, 1e-9)
+    carrying = hufner_ml_g * hb * (1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
+                                   - np.asarray(curve_conditions.get("methb_fraction", 0.0)))
+    s0 = np.clip(c / np.maximum(carrying, 1e-9), 1e-6, 0.999)
+    p = np.clip(po2_from_saturation(s0, **curve_conditions), lo, hi)
+    for _ in range(80):
+        f = oxygen_content(hb, saturation(p, **curve_conditions), p, hufner_ml_g=hufner_ml_g,
+                           o2_solubility_ml_dl_mmhg=o2_solubility_ml_dl_mmhg,
+                           cohb_fraction=curve_conditions.get("cohb_fraction", 0.0),
+                           methb_fraction=curve_conditions.get("methb_fraction", 0.0)) - c
+        hi = np.where(f > 0, p, hi)
+        lo = np.where(f > 0, lo, p)
+        df = carrying * saturation_slope(p, **curve_conditions) + o2_solubility_ml_dl_mmhg
+        new = p - f / df
+        new = np.where((new <= lo) | (new >= hi) | ~np.isfinite(new), 0.5 * (lo + hi), new)
+        done = np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)
+        p = new
+        if np.all(done | np.isnan(c)):
+            break
+    return p

@@ -1,0 +1,279 @@
+"""The chain: inspired air to venous blood, solved arterial and venous sides together."""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from .acid_base import base_excess, blood_co2_content, ph_from_base_excess
+from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
+from .circulation import oxygen_delivery, vo2_at_temperature
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
+from .dissociation import _canonical, p50, saturation
+from .limits import check_range
+from .lungs import aa_gradient, alveolar_po2, end_capillary_po2, po2_from_content
+
+
+@dataclass(frozen=True)
+class BloodState:
+    """One blood sample of the chain (arterial or mixed venous)."""
+
+    po2_mmhg: np.ndarray
+    so2: np.ndarray
+    o2_content_ml_dl: np.ndarray
+    p50_mmhg: np.ndarray
+    ph: np.ndarray
+    pco2_mmhg: np.ndarray
+    co2_content_ml_dl: np.ndarray
+    base_excess_mmol_l: np.ndarray
+
+
+@dataclass(frozen=True)
+class TransportResult:
+    """Every intermediate value of :func:`solve_transport`; units are in the names.
+
+    Arrays are 0-d for scalar inputs. ``arterial_conditions`` and ``venous_conditions``
+    hold the keywords that draw each curve with :func:`model.saturation`.
+    """
+
+    barometric_pressure_mmhg: np.ndarray
+    water_vapour_pressure_mmhg: np.ndarray
+    inspired_po2_mmhg: np.ndarray
+    alveolar_po2_mmhg: np.ndarray
+    end_capillary_po2_mmhg: np.ndarray
+    end_capillary_so2: np.ndarray
+    end_capillary_o2_content_ml_dl: np.ndarray
+    capillary_transit_time_s: np.ndarray
+    arterial: BloodState
+    venous: BloodState
+    aa_gradient_mmhg: np.ndarray
+    shunt_fraction: np.ndarray
+    fio2: np.ndarray
+    cardiac_output_l_min: np.ndarray
+    hb_g_dl: np.ndarray
+    temperature_c: np.ndarray
+    do2_ml_min: np.ndarray
+    vo2_ml_min: np.ndarray
+    extraction_ratio: np.ndarray
+    o2_extracted_ml_per_l: np.ndarray
+    venous_shift_gain_ml_per_l: np.ndarray
+    iterations: int
+    arterial_conditions: dict = field(repr=False)
+    venous_conditions: dict = field(repr=False)
+
+    def to_dict(self) -> dict:
+        """Plain nested dict of floats (or lists for array input), JSON-ready."""
+
+        def plain(v):
+            if isinstance(v, dict):
+                return {k: plain(x) for k, x in v.items()}
+            if isinstance(v, str) or v is None:
+                return v
+            a = np.asarray(v)
+            return a.item() if a.ndim == 0 else a.tolist()
+
+        d = asdict(self)
+        d.pop("arterial_conditions")
+        d.pop("venous_conditions")
+        return plain(d)
+
+
+def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve):
+    return {"ph": ph, "pco2_mmhg": pco2, "temperature_c": t, "dpg_mmol_l": dpg,
+            "cohb_fraction": cohb, "methb_fraction": methb, "p50_mmhg": p50_override,
+            "curve": curve}
+
+
+def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start):
+    """PvCO2 and pHv such that Douglas content equals cvco2 on the venous buffer line."""
+    p = p_start.copy()
+    for _ in range(30):
+        ph = ph_from_base_excess(be_ox, p, hb, svo2)
+        f = blood_co2_content(p, ph, svo2, hb, t) - cvco2
+        h = 1e-4 * p
+        ph2 = ph_from_base_excess(be_ox, p + h, hb, svo2)
+        df = (blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
+        step = np.clip(f / df, -0.5 * p, 40.0)
+        p = p - step
+        if np.all(~(np.abs(step) > 1e-9)):
+            break
+    return p, ph_from_base_excess(be_ox, p, hb, svo2)
+
+
+def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_model="standard",
+                    fio2=0.21, paco2_mmhg=40.0, rq=0.8, shunt_fraction=0.02,
+                    diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
+                    hb_g_dl=15.0, temperature_c=37.0, ph=None, base_excess_mmol_l=None,
+                    dpg_mmol_l=None, cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None,
+                    curve="severinghaus", cardiac_output_l_min=5.0, vo2_ml_min=250.0,
+                    vo2_temperature_scaling=False, hufner_ml_g=HUFNER_ML_G,
+                    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, tol=1e-9,
+                    max_iterations=60) -> TransportResult:
+    """Solve the O2 chain from inspired air to mixed venous blood.
+
+    Air: PB (ICAO standard atmosphere or West's mountain model), PH2O(T), PIO2.
+    Lungs: alveolar gas equation (full form); end-capillary PO2 by Bohr integration over
+    the transit time ``Vc / ((1 - Qs) Q)``; venous admixture mixed by content,
+    ``CaO2 = CcO2 - Qs/(1 - Qs) VO2/(10 Q)``. Blood: the chosen dissociation curve at
+    arterial pH and PCO2. Tissue: Fick, ``CvO2 = CaO2 - VO2/(10 Q)``; CO2 added by mass
+    balance, ``CvCO2 = CaCO2 + RQ VO2 / (10 Q)`` (Douglas 1988 content), with the base
+    excess at full oxygenation held constant (Zander), so venous PCO2 and pH, hence the
+    venous right shift, follow from the physiology. The capillary start (mixed venous
+    PO2) couples the sides: they are iterated to ``tol`` [mmHg] in every PO2.
+
+    Parameters
+    ----------
+    altitude_m : array_like
+        [m]; ignored when ``barometric_pressure_mmhg`` is given.
+    barometric_pressure_mmhg : array_like or None
+        [mmHg]
+    pressure_model : {"standard", "mountain"}
+    fio2 : array_like
+        [-]
+    paco2_mmhg : array_like
+        Arterial PCO2 [mmHg].
+    rq : array_like
+        Respiratory quotient [-].
+    shunt_fraction : array_like
+        Venous admixture Qs/Qt [-].
+    diffusing_capacity_ml_min_mmhg, capillary_volume_ml : array_like
+        DLO2 [mL/min/mmHg], pulmonary capillary blood volume [mL].
+    hb_g_dl, temperature_c : array_like
+        [g/dL], [degC].
+    ph, base_excess_mmol_l : array_like or None
+        Arterial pH at body temperature, or actual base excess [mmol/L]; not both
+        (pH 7.40 when neither).
+    dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+        As for :func:`model.saturation`.
+    cardiac_output_l_min : array_like
+        [L/min]
+    vo2_ml_min : array_like
+        O2 consumption [mL/min]; the value at 37 degC when ``vo2_temperature_scaling``.
+    vo2_temperature_scaling : bool
+        Scale VO2 by 1.10 per degC (common practice).
+    hufner_ml_g, o2_solubility_ml_dl_mmhg : float
+        See :func:`model.oxygen_content`.
+
+    Returns
+    -------
+    TransportResult
+
+    Raises
+    ------
+    ValueError
+        An input outside its range (message names field, value, range and unit), both
+        pH and base excess, an unknown model name, an inspired PO2 too low to leave any
+        alveolar O2, or a VO2 that the delivery cannot supply.
+
+    Notes
+    -----
+    pH and PCO2 are taken as measured at body temperature. Resting check (Hb 15, Q 5,
+    VO2 250, sea level): DO2 about 1000 mL/min, SvO2 about 0.75, PvO2 about 40 mmHg.
+
+    Examples
+    --------
+    >>> r = solve_transport()
+    >>> 950 < float(r.do2_ml_min) < 1050 and 0.70 < float(r.venous.so2) < 0.80
+    True
+    """
+    if pressure_model not in PRESSURE_MODELS:
+        raise ValueError(f"pressure_model {pressure_model!r} is unknown; choose one of {PRESSURE_MODELS}")
+    _canonical(curve)
+    if ph is not None and base_excess_mmol_l is not None:
+        raise ValueError("give either ph or base_excess_mmol_l, not both")
+    if barometric_pressure_mmhg is None:
+        pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
+    else:
+        pb = check_range("barometric_pressure_mmhg", barometric_pressure_mmhg)
+    names = ("fio2", "paco2_mmhg", "rq", "shunt_fraction", "diffusing_capacity_ml_min_mmhg",
+             "capillary_volume_ml", "hb_g_dl", "temperature_c", "cohb_fraction",
+             "methb_fraction", "cardiac_output_l_min", "vo2_ml_min")
+    values = (fio2, paco2_mmhg, rq, shunt_fraction, diffusing_capacity_ml_min_mmhg,
+              capillary_volume_ml, hb_g_dl, temperature_c, cohb_fraction, methb_fraction,
+              cardiac_output_l_min, vo2_ml_min)
+    arrs = {n: check_range(n, v) for n, v in zip(names, values)}
+    optional = {"ph": ph, "base_excess_mmol_l": base_excess_mmol_l, "dpg_mmol_l": dpg_mmol_l,
+                "p50_mmhg": p50_mmhg}
+    for n, v in optional.items():
+        if v is not None:
+            arrs[n] = check_range(n, v)
+    keys = list(arrs)
+    bcast = np.broadcast_arrays(pb, *arrs.values())
+    pb = bcast[0]
+    a = dict(zip(keys, bcast[1:]))
+    if np.any(a["cohb_fraction"] + a["methb_fraction"] >= 0.9):
+        raise ValueError("cohb_fraction + methb_fraction must stay below 0.9")
+    dpg = a.get("dpg_mmol_l")
+    p50o = a.get("p50_mmhg")
+    hb, t, q, qs = a["hb_g_dl"], a["temperature_c"], a["cardiac_output_l_min"], a["shunt_fraction"]
+    paco2, cohb, methb = a["paco2_mmhg"], a["cohb_fraction"], a["methb_fraction"]
+    vo2 = vo2_at_temperature(a["vo2_ml_min"], t) if vo2_temperature_scaling else a["vo2_ml_min"]
+    content_kw = {"hufner_ml_g": hufner_ml_g, "o2_solubility_ml_dl_mmhg": o2_solubility_ml_dl_mmhg}
+
+    ph2o = water_vapour_pressure(t)
+    pio2 = inspired_po2(a["fio2"], pb, t)
+    pao2_alv = alveolar_po2(fio2=a["fio2"], pb_mmhg=pb, paco2_mmhg=paco2, rq=a["rq"], temperature_c=t)
+    if np.any(pao2_alv <= 1.0):
+        v = pao2_alv[pao2_alv <= 1.0].ravel()[0]
+        raise ValueError(f"alveolar PO2 = {v:.1f} mmHg: the inspired PO2 leaves no alveolar O2 "
+                         "at this PaCO2 (raise FiO2 or pressure, or lower PaCO2)")
+    transit = a["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
+    d_av = vo2 / (10.0 * q)  # arteriovenous O2 content difference [mL/dL]
+
+    given_be = a.get("base_excess_mmol_l")
+    ph_a = a["ph"] if "ph" in a else np.full(pb.shape, 7.40)
+    pv_o2 = np.minimum(0.4 * pao2_alv, 40.0)
+    pv_co2 = paco2 + 5.0
+    ph_v = ph_a - 0.03
+    sao2 = np.full(pb.shape, 0.97)
+    iterations = 0
+    for iterations in range(1, max_iterations + 1):
+        if given_be is not None:
+            ph_a = ph_from_base_excess(given_be, paco2, hb, sao2)
+        art = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
+        pc = end_capillary_po2(pao2_alv, pv_o2, hb,
+                               diffusing_capacity_ml_min_mmhg=a["diffusing_capacity_ml_min_mmhg"],
+                               capillary_volume_ml=a["capillary_volume_ml"], transit_time_s=transit,
+                               **content_kw, **art)
+        sc = saturation(pc, **art)
+        cc = oxygen_content(hb, sc, pc, cohb_fraction=cohb, methb_fraction=methb, **content_kw)
+        cao2 = cc - qs / (1.0 - qs) * d_av
+        cvo2 = cao2 - d_av
+        if np.any(cvo2 <= 0.0):
+            raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
+                             "output (venous O2 content would be below zero)")
+        pa_o2 = po2_from_content(cao2, hb, **content_kw, **art)
+        sao2 = saturation(pa_o2, **art)
+        be_ox = base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
+        caco2 = blood_co2_content(paco2, ph_a, sao2, hb, t)
+        cvco2 = caco2 + a["rq"] * d_av
+        ven = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
+        new_pv = po2_from_content(cvo2, hb, **content_kw, **ven)
+        svo2 = saturation(new_pv, **ven)
+        pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(pv_co2, 1.0))
+        change = np.abs(new_pv - pv_o2)
+        pv_o2 = new_pv
+        if np.all(~(change > tol)):
+            break
+    ven = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
+    pv_o2 = po2_from_content(cvo2, hb, **content_kw, **ven)
+    svo2 = saturation(pv_o2, **ven)
+    art = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
+    c_art_curve = oxygen_content(hb, saturation(pv_o2, **art), pv_o2, cohb_fraction=cohb,
+                                 methb_fraction=methb, **content_kw)
+
+    arterial = BloodState(pa_o2, sao2, cao2, p50(**art), ph_a, paco2, caco2,
+                          base_excess(ph_a, paco2, hb, sao2))
+    venous = BloodState(pv_o2, svo2, cvo2, p50(**ven), ph_v, pv_co2, cvco2,
+                        base_excess(ph_v, pv_co2, hb, svo2))
+    return TransportResult(
+        barometric_pressure_mmhg=pb, water_vapour_pressure_mmhg=ph2o, inspired_po2_mmhg=pio2,
+        alveolar_po2_mmhg=pao2_alv, end_capillary_po2_mmhg=pc, end_capillary_so2=sc,
+        end_capillary_o2_content_ml_dl=cc, capillary_transit_time_s=transit, arterial=arterial,
+        venous=venous, aa_gradient_mmhg=aa_gradient(pao2_alv, pa_o2), shunt_fraction=qs,
+        fio2=a["fio2"], cardiac_output_l_min=q, hb_g_dl=hb, temperature_c=t,
+        do2_ml_min=oxygen_delivery(q, cao2), vo2_ml_min=vo2,
+        extraction_ratio=(cao2 - cvo2) / cao2, o2_extracted_ml_per_l=10.0 * (cao2 - cvo2),
+        venous_shift_gain_ml_per_l=10.0 * (c_art_curve - cvo2), iterations=iterations,
+        arterial_conditions=art, venous_conditions=ven)
