@@ -9,7 +9,6 @@ Everything the views show is read from here, already in the chosen display units
 from __future__ import annotations
 
 import dataclasses
-import math
 from pathlib import Path
 
 import numpy as np
@@ -27,6 +26,7 @@ CURVE_LABELS = {
     "Hill (n 2.7, P50 26.8)": "hill",
     "Siggaard-Andersen 1990": "siggaard_andersen1990",
 }
+_CURVE_ALIASES = {"severinghaus1979": "severinghaus", "dash2016": "dash", "hill1910": "hill"}
 PRESSURE_UNITS = ("mmHg", "kPa")
 HB_UNITS = ("g/dL", "g/L", "mmol/L")
 
@@ -74,6 +74,19 @@ def _num(name: str, default: float, fallback: tuple[float, float], label: str, d
     return param.Number(
         default=default, bounds=_bounds(name, fallback), label=label, doc=doc, step=step
     )
+
+
+def _field(label: str) -> str:
+    """'Hb (g/dL)' -> 'Hb'."""
+    return label.rsplit(" (", 1)[0] if label.endswith(")") else label
+
+
+def _unit(label: str) -> str:
+    """'Hb (g/dL)' -> ' g/dL'; units '-' and 'fraction' give ''."""
+    if not label.endswith(")"):
+        return ""
+    unit = label.rsplit(" (", 1)[1][:-1]
+    return "" if unit in ("-", "fraction") or unit.startswith("fraction") else f" {unit}"
 
 
 @dataclasses.dataclass(frozen=True)
@@ -235,8 +248,9 @@ class CaseState(param.Parameterized):
         if bounds and value is not None:
             lo, hi = bounds
             if not lo <= value <= hi:
-                self.error_message = (f"{p.label} = {value:g} is outside the allowed range "
-                                      f"{lo:g}–{hi:g}; kept {getattr(self, name)}.")
+                self.error_message = (f"{_field(p.label)} = {value:g} is outside the allowed "
+                                      f"range {lo:g}–{hi:g}{_unit(p.label)}; kept "
+                                      f"{getattr(self, name):g}.")
                 return False
         try:
             setattr(self, name, value)
@@ -283,8 +297,9 @@ class CaseState(param.Parameterized):
         lo, hi = self.display_bounds(name)
         tol = 1e-9 * max(abs(lo), abs(hi), 1.0)
         if not lo - tol <= value <= hi + tol:
-            self.error_message = (f"{self.display_label(name)} = {value:g} is outside the "
-                                  f"allowed range {lo:.4g}–{hi:.4g}; kept the last valid value.")
+            label = self.display_label(name)
+            self.error_message = (f"{_field(label)} = {value:g} is outside the allowed range "
+                                  f"{lo:.4g}–{hi:.4g}{_unit(label)}; kept the last valid value.")
             return False
         _, _, _, from_display = self._display_pair(name)
         return self.set_input(name, min(max(from_display(value), p.bounds[0]), p.bounds[1]))
@@ -332,7 +347,7 @@ class CaseState(param.Parameterized):
                 continue
             if key not in known:
                 raise ValueError(f"scenario input {key!r} is not handled by the dashboard")
-            updates[key] = value
+            updates[key] = _CURVE_ALIASES.get(value, value) if key == "curve" else value
         for name, value in updates.items():
             p = self.param[name]
             bounds = getattr(p, "bounds", None)
@@ -382,7 +397,7 @@ class CaseState(param.Parameterized):
         """Mosteller body surface area sqrt(height_cm * weight_kg / 3600) [m²], if given."""
         if self.height_cm is None or self.weight_kg is None:
             return None
-        return math.sqrt(self.height_cm * self.weight_kg / 3600.0)
+        return float(model.body_surface_area(self.height_cm, self.weight_kg))
 
     def _raw_numbers(self, result) -> dict[str, float]:
         a, v = result.arterial, result.venous
@@ -464,3 +479,37 @@ class CaseState(param.Parameterized):
                   ("Venous", r.venous.po2_mmhg)]
         return {"stage": [s for s, _ in stages],
                 "po2": [self.pressure_to_display(float(p)) for _, p in stages]}
+
+    def _pressure_array(self, mmhg) -> np.ndarray:
+        mmhg = np.asarray(mmhg, dtype=float)
+        return np.asarray(model.mmhg_to_kpa(mmhg), dtype=float) if self.pressure_unit == "kPa" else mmhg
+
+    def curve_view(self, baseline: bool = False) -> dict | None:
+        """Curves and marked points in display units (PO2 in the pressure unit, SO2 in %).
+
+        Keys: x, arterial, venous, standard (arrays); loading, unloading, arterial_p50,
+        venous_p50 ((x, y) pairs); extracted_ml_per_l, shift_gain_ml_per_l (floats).
+        """
+        result = self.baseline if baseline else self.result
+        curves = self.baseline_curves if baseline else self.curves
+        if result is None or not curves:
+            return None
+
+        def point(po2_mmhg, so2):
+            return (self.pressure_to_display(float(po2_mmhg)), 100.0 * float(so2))
+
+        return {
+            "x": self._pressure_array(curves["po2_mmhg"]),
+            "arterial": 100.0 * curves["arterial"],
+            "venous": 100.0 * curves["venous"],
+            "standard": 100.0 * curves["standard"],
+            "loading": point(result.arterial.po2_mmhg, result.arterial.so2),
+            "unloading": point(result.venous.po2_mmhg, result.venous.so2),
+            "arterial_p50": point(*curves["arterial_p50"]),
+            "venous_p50": point(*curves["venous_p50"]),
+            "extracted_ml_per_l": float(result.o2_extracted_ml_per_l),
+            "shift_gain_ml_per_l": float(result.venous_shift_gain_ml_per_l),
+        }
+
+    def x_max_display(self) -> float:
+        return self.pressure_to_display(float(PO2_GRID_MMHG[-1]))
