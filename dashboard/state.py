@@ -76,6 +76,28 @@ def _num(name: str, default: float, fallback: tuple[float, float], label: str, d
     )
 
 
+READING_ROWS = (
+    # key, label, kind
+    ("alveolar_po2", "PAO2 alveolar", "pressure"),
+    ("arterial_po2", "PaO2 arterial", "pressure"),
+    ("arterial_so2", "SaO2", "percent"),
+    ("arterial_o2_content", "CaO2", "content"),
+    ("venous_po2", "PvO2 venous", "pressure"),
+    ("venous_so2", "SvO2", "percent"),
+    ("venous_o2_content", "CvO2", "content"),
+    ("do2", "DO2 delivery", "flow"),
+    ("do2i", "DO2I delivery index", "flow_index"),
+    ("vo2", "VO2 uptake", "flow"),
+    ("extraction_ratio", "O2ER extraction ratio", "percent"),
+    ("o2_extracted_per_l", "O2 extracted per litre", "per_litre"),
+    ("arterial_p50", "P50 arterial", "pressure"),
+    ("venous_p50", "P50 venous", "pressure"),
+)
+KIND_UNITS = {"percent": ("%", 1), "content": ("mL/dL", 1), "flow": ("mL/min", 0),
+               "flow_index": ("mL/min/m²", 0), "per_litre": ("mL O2/L", 0)}
+
+
+
 def _field(label: str) -> str:
     """'Hb (g/dL)' -> 'Hb'."""
     return label.rsplit(" (", 1)[0] if label.endswith(")") else label
@@ -423,26 +445,6 @@ class CaseState(param.Parameterized):
             numbers["do2i"] = numbers["do2"] / bsa
         return numbers
 
-    _ROWS = (
-        # key, label, kind
-        ("alveolar_po2", "PAO2 alveolar", "pressure"),
-        ("arterial_po2", "PaO2 arterial", "pressure"),
-        ("arterial_so2", "SaO2", "percent"),
-        ("arterial_o2_content", "CaO2", "content"),
-        ("venous_po2", "PvO2 venous", "pressure"),
-        ("venous_so2", "SvO2", "percent"),
-        ("venous_o2_content", "CvO2", "content"),
-        ("do2", "DO2 delivery", "flow"),
-        ("do2i", "DO2I delivery index", "flow_index"),
-        ("vo2", "VO2 uptake", "flow"),
-        ("extraction_ratio", "O2ER extraction ratio", "percent"),
-        ("o2_extracted_per_l", "O2 extracted per litre", "per_litre"),
-        ("arterial_p50", "P50 arterial", "pressure"),
-        ("venous_p50", "P50 venous", "pressure"),
-    )
-    _KIND_UNITS = {"percent": ("%", 1), "content": ("mL/dL", 1), "flow": ("mL/min", 0),
-                   "flow_index": ("mL/min/m²", 0), "per_litre": ("mL O2/L", 0)}
-
     def _to_display(self, kind: str, value: float) -> float:
         if kind == "pressure":
             return self.pressure_to_display(value)
@@ -457,13 +459,13 @@ class CaseState(param.Parameterized):
         now = self._raw_numbers(self.result)
         base = self._raw_numbers(self.baseline) if self.baseline is not None else {}
         rows = []
-        for key, label, kind in self._ROWS:
+        for key, label, kind in READING_ROWS:
             if key not in now:
                 continue
             if kind == "pressure":
                 unit, digits = self.pressure_unit, self.pressure_digits
             else:
-                unit, digits = self._KIND_UNITS[kind]
+                unit, digits = KIND_UNITS[kind]
             value = self._to_display(kind, now[key])
             rng = NORMAL_RANGES.get(key)
             low, high = (self._to_display(kind, rng[0]), self._to_display(kind, rng[1])) if rng else (None, None)
