@@ -64,7 +64,7 @@ class NumberInput(pn.viewable.Viewer):
         self._state, self._name = state, name
         p = state.param[name]
         self._widget = pn.widgets.FloatInput(
-            name=state.display_label(name), value=state.display_value(name),
+            label=state.display_label(name), value=state.display_value(name),
             step=p.step or 0.1, placeholder="optional" if p.allow_None else "",
             css_classes=["o2-input", f"o2-in-{name}"], sizing_mode="stretch_width",
         )
@@ -89,7 +89,7 @@ class NumberInput(pn.viewable.Viewer):
     def _refresh(self, *_events) -> None:
         self._syncing = True
         try:
-            self._widget.name = self._state.display_label(self._name)
+            self._widget.label = self._state.display_label(self._name)
             self._widget.value = self._state.display_value(self._name)
         finally:
             self._syncing = False
@@ -349,15 +349,15 @@ class CaseControls(pn.viewable.Viewer):
         self._state = state
         files = state.scenario_files(scenario_dir) if scenario_dir else state.scenario_files()
         options = {f.stem.replace("_", " "): str(f) for f in files}
-        self._picker = pn.widgets.Select(name="Scenario", options=options,
+        self._picker = pn.widgets.Select(label="Scenario", options=options,
                                          css_classes=["o2-scenario"], width=240,
                                          disabled=not options)
-        self._load = pn.widgets.Button(name="Load", button_type="primary",
+        self._load = pn.widgets.Button(label="Load", button_type="primary",
                                        css_classes=["o2-load"], disabled=not options,
                                        align="end", width=80)
-        self._keep = pn.widgets.Button(name="Keep as baseline", css_classes=["o2-keep"],
+        self._keep = pn.widgets.Button(label="Keep as baseline", css_classes=["o2-keep"],
                                        button_type="success", align="end", width=150)
-        self._clear = pn.widgets.Button(name="Clear baseline", css_classes=["o2-clear"],
+        self._clear = pn.widgets.Button(label="Clear baseline", css_classes=["o2-clear"],
                                         align="end", width=130)
         self._load.on_click(lambda _e: state.load_scenario(self._picker.value))
         self._keep.on_click(lambda _e: state.keep_baseline())

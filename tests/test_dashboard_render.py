@@ -1,0 +1,98 @@
+"""Render smoke tests: every view builds a Bokeh root; a threaded server answers HTTP 200."""
+
+import socket
+import time
+import urllib.request
+
+import panel as pn
+import pytest
+from bokeh.document import Document
+
+from dashboard.app import _is_loopback, create_app, serve
+from dashboard.state import CaseState
+from dashboard.views import (
+    CAUTION,
+    CascadePlot,
+    CaseControls,
+    CurvePlot,
+    InputPanel,
+    NumbersTable,
+)
+
+
+@pytest.mark.parametrize("view", [InputPanel, CurvePlot, CascadePlot, NumbersTable, CaseControls])
+def test_view_renders_root(view):
+    state = CaseState()
+    root = view(state).__panel__().get_root(Document())
+    assert root is not None
+
+
+def test_numbers_table_shows_flags_units_and_deltas():
+    state = CaseState()
+    table = NumbersTable(state)
+    html = table.__panel__().object
+    assert "PaO2" in html and "mmHg" in html and "Δ vs baseline" not in html
+    state.keep_baseline()
+    state.altitude_m = 5000.0
+    html = table.__panel__().object
+    assert "Δ vs baseline" in html and "▼ low" in html
+    state.pressure_unit = "kPa"
+    assert "kPa" in table.__panel__().object
+
+
+def test_curve_plot_sources_follow_state():
+    state = CaseState()
+    plot = CurvePlot(state)
+    y0 = list(plot._points.data["y"])
+    state.altitude_m = 5000.0
+    assert plot._points.data["y"][0] < y0[0]
+    assert len(plot._base.data["x"]) == 0
+    state.keep_baseline()
+    assert len(plot._base.data["x"]) == len(plot._now.data["x"])
+    assert "extracted per L" in plot._note.data["text"][0]
+
+
+def test_template_builds_document_with_caution():
+    doc = Document()
+    create_app().server_doc(doc)
+    assert doc.roots
+    assert CAUTION.startswith("o2transit is an aid for education and planning, not a medical device.")
+
+
+def test_loopback_detection():
+    assert _is_loopback("127.0.0.1") and _is_loopback("localhost") and _is_loopback("::1")
+    assert not _is_loopback("0.0.0.0") and not _is_loopback("192.168.1.10")
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def test_threaded_server_answers_200(capsys):
+    port = _free_port()
+    server = serve(port=port, show=False, threaded=True)
+    try:
+        assert f"http://127.0.0.1:{port}/" in capsys.readouterr().out
+        deadline = time.monotonic() + 20
+        while True:
+            try:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=5) as r:
+                    assert r.status == 200
+                    assert "o2transit" in r.read().decode()
+                    break
+            except OSError:
+                if time.monotonic() > deadline:
+                    raise
+                time.sleep(0.1)
+    finally:
+        server.stop()
+        server.join(timeout=5)
+
+
+def test_non_loopback_address_warns(capsys, monkeypatch):
+    monkeypatch.setattr(pn, "serve", lambda *a, **k: k)
+    kwargs = serve(port=5999, address="0.0.0.0", show=False)
+    assert "reachable from the network" in capsys.readouterr().out
+    assert kwargs["websocket_origin"] == ["0.0.0.0:5999", "localhost:5999"]
