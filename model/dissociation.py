@@ -270,22 +270,68 @@ def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmo
     p, c = _broadcast(po2_mmhg, c)
     if np.any(p < 0):
         raise ValueError(f"po2_mmhg = {p[p < 0].ravel()[0]:g} is outside the allowed range 0-inf mmHg")
-    shift = _ln_shift(name, c)
-    if not np.any(c["fco"] > 0):
-        return _total(name, p, c, shift)
-    sco = c["fco"] / (1.0 - c["fmet"])
-    # Haldane: total saturation s solves s = S(PO2 s / (s - sCO)); s - S(...) rises with s.
-    lo, hi = sco.copy(), np.ones_like(sco)
-    for _ in range(56):
-        mid = 0.5 * (lo + hi)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            f = mid - _total(name, p * mid / (mid - sco), c, shift)
-        up = f > 0
-        hi = np.where(up, mid, hi)
-        lo = np.where(up, lo, mid)
-    s = 0.5 * (lo + hi)
-    so2 = np.where(sco > 0, (s - sco) / (1.0 - sco), _total(name, p, c, shift))
-    return np.where(np.isnan(p), np.nan, so2)
+    return PreparedCurve(name, c).saturation(p)
+
+
+class PreparedCurve:
+    """A curve with its conditions validated once, for inner loops of the chain.
+
+    Use :func:`prepare_curve`; evaluation skips validation and broadcasting checks.
+    """
+
+    def __init__(self, name, c):
+        self.name, self.c = name, c
+        self.shift = _ln_shift(name, c)
+        self.sco = c["fco"] / (1.0 - c["fmet"])
+        self.has_co = bool(np.any(self.sco > 0))
+
+    def saturation(self, p):
+        """Functional saturation at p [mmHg] (see :func:`saturation`)."""
+        name, c, shift, sco = self.name, self.c, self.shift, self.sco
+        if not self.has_co:
+            return _total(name, p, c, shift)
+        # Haldane: total saturation s solves s = S(PO2 s / (s - sCO)); s - S(...) rises with s.
+        lo, hi = sco * np.ones_like(p), np.ones_like(p * sco)
+        for _ in range(56):
+            mid = 0.5 * (lo + hi)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                f = mid - _total(name, p * mid / (mid - sco), c, shift)
+            up = f > 0
+            hi = np.where(up, mid, hi)
+            lo = np.where(up, lo, mid)
+        s = 0.5 * (lo + hi)
+        so2 = np.where(sco > 0, (s - sco) / (1.0 - sco), _total(name, p, c, shift))
+        return np.where(np.isnan(p), np.nan, so2)
+
+    def slope(self, p):
+        """dS/dPO2 by a central difference [1/mmHg]."""
+        h = np.maximum(1e-4 * p, 1e-6)
+        lo = np.maximum(p - h, 0.0)
+        return (self.saturation(p + h) - self.saturation(lo)) / (p + h - lo)
+
+    def inverse(self, s):
+        """PO2 [mmHg] at functional saturation s (exact inverse of :meth:`saturation`)."""
+        sco = self.sco
+        total = s * (1.0 - sco) + sco
+        p_eq = _total_inverse(self.name, total, self.c, self.shift)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
+        po2 = np.where(s == 0, 0.0, po2)
+        return np.where(s == 1, np.inf, po2)
+
+
+def prepare_curve(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
+                  cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+    """Validate curve conditions once and return a :class:`PreparedCurve`.
+
+    Examples
+    --------
+    >>> round(float(prepare_curve(ph=7.2).saturation(40.0)), 4) == round(float(saturation(40.0, ph=7.2)), 4)
+    True
+    """
+    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
+                          methb_fraction, p50_mmhg, curve)
+    return PreparedCurve(name, c)
 
 
 def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
@@ -322,14 +368,7 @@ def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg
     if np.any((s < 0) | (s > 1)):
         bad = s[(s < 0) | (s > 1)].ravel()[0]
         raise ValueError(f"so2 = {bad:g} is outside the allowed range 0-1")
-    shift = _ln_shift(name, c)
-    sco = c["fco"] / (1.0 - c["fmet"])
-    total = s * (1.0 - sco) + sco
-    p_eq = _total_inverse(name, total, c, shift)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
-    po2 = np.where(s == 0, 0.0, po2)
-    return np.where(s == 1, np.inf, po2)
+    return PreparedCurve(name, c).inverse(s)
 
 
 def p50(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None, cohb_fraction=0.0,
@@ -354,7 +393,4 @@ def saturation_slope(po2_mmhg, **conditions):
     >>> round(float(saturation_slope(26.86)), 4)
     0.0247
     """
-    p = np.asarray(po2_mmhg, dtype=float)
-    h = np.maximum(1e-4 * p, 1e-6)
-    return (saturation(p + h, **conditions) - saturation(np.maximum(p - h, 0.0), **conditions)) / (
-        p + h - np.maximum(p - h, 0.0))
+    return prepare_curve(**conditions).slope(np.asarray(po2_mmhg, dtype=float))

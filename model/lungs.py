@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from .air import water_vapour_pressure
-from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
-from .dissociation import po2_from_saturation, saturation, saturation_slope
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG
+from .dissociation import prepare_curve
 
 
 def alveolar_po2(*, fio2, pb_mmhg, paco2_mmhg, rq=0.8, temperature_c=37.0):
@@ -51,7 +51,7 @@ def alveolar_po2(*, fio2, pb_mmhg, paco2_mmhg, rq=0.8, temperature_c=37.0):
 def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
                       diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
                       transit_time_s=0.75, hufner_ml_g=HUFNER_ML_G,
-                      o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, steps=64,
+                      o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, steps=24,
                       **curve_conditions):
     """PO2 at the end of the lung capillary by Bohr integration [mmHg].
 
@@ -101,10 +101,10 @@ def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
         capillary_volume_ml, dtype=float)
     dt = np.asarray(transit_time_s, dtype=float) / steps
     p = np.minimum(pv, pa)
+    curve = prepare_curve(**curve_conditions)
 
     def beta(x):
-        return (hufner_ml_g * hb * carrying * saturation_slope(x, **curve_conditions)
-                + o2_solubility_ml_dl_mmhg) / 100.0
+        return (hufner_ml_g * hb * carrying * curve.slope(x) + o2_solubility_ml_dl_mmhg) / 100.0
 
     for _ in range(steps):
         trial = pa - (pa - p) * np.exp(-k * dt / beta(p))
@@ -157,16 +157,14 @@ def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
     hi = np.maximum(c / o2_solubility_ml_dl_mmhg, 1e-9)
     carrying = hufner_ml_g * hb * (1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
                                    - np.asarray(curve_conditions.get("methb_fraction", 0.0)))
+    curve = prepare_curve(**curve_conditions)
     s0 = np.clip(c / np.maximum(carrying, 1e-9), 1e-6, 0.999)
-    p = np.clip(po2_from_saturation(s0, **curve_conditions), lo, hi)
+    p = np.clip(curve.inverse(s0), lo, hi)
     for _ in range(80):
-        f = oxygen_content(hb, saturation(p, **curve_conditions), p, hufner_ml_g=hufner_ml_g,
-                           o2_solubility_ml_dl_mmhg=o2_solubility_ml_dl_mmhg,
-                           cohb_fraction=curve_conditions.get("cohb_fraction", 0.0),
-                           methb_fraction=curve_conditions.get("methb_fraction", 0.0)) - c
+        f = carrying * curve.saturation(p) + o2_solubility_ml_dl_mmhg * p - c
         hi = np.where(f > 0, p, hi)
         lo = np.where(f > 0, lo, p)
-        df = carrying * saturation_slope(p, **curve_conditions) + o2_solubility_ml_dl_mmhg
+        df = carrying * curve.slope(p) + o2_solubility_ml_dl_mmhg
         new = p - f / df
         new = np.where((new <= lo) | (new >= hi) | ~np.isfinite(new), 0.5 * (lo + hi), new)
         done = np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)

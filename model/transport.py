@@ -108,7 +108,7 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
                     dpg_mmol_l=None, cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None,
                     curve="severinghaus", cardiac_output_l_min=5.0, vo2_ml_min=250.0,
                     vo2_temperature_scaling=False, hufner_ml_g=HUFNER_ML_G,
-                    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, tol=1e-9,
+                    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, tol=1e-6,
                     max_iterations=60) -> TransportResult:
     """Solve the O2 chain from inspired air to mixed venous blood.
 
