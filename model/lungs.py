@@ -158,17 +158,21 @@ def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
     carrying = hufner_ml_g * hb * (1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
                                    - np.asarray(curve_conditions.get("methb_fraction", 0.0)))
     curve = prepare_curve(**curve_conditions)
-    s0 = np.clip(c / np.maximum(carrying, 1e-9), 1e-6, 0.999)
-    p = np.clip(curve.inverse(s0), lo, hi)
+    p = np.zeros(c.shape)
+    for _ in range(3):  # fixed-point start: contracts fast where the curve is steep
+        s0 = np.clip((c - o2_solubility_ml_dl_mmhg * p) / np.maximum(carrying, 1e-9), 1e-6, 0.9995)
+        p = np.clip(curve.inverse(s0), lo, hi)
     for _ in range(80):
         f = carrying * curve.saturation(p) + o2_solubility_ml_dl_mmhg * p - c
         hi = np.where(f > 0, p, hi)
         lo = np.where(f > 0, lo, p)
         df = carrying * curve.slope(p) + o2_solubility_ml_dl_mmhg
         new = p - f / df
-        new = np.where((new <= lo) | (new >= hi) | ~np.isfinite(new), 0.5 * (lo + hi), new)
-        done = np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)
-        p = new
+        outside = (new < lo) | (new > hi) | ~np.isfinite(new)
+        new = np.where(outside, 0.5 * (lo + hi), new)
+        hit = np.abs(f) <= 1e-12 * np.maximum(c, 1e-3)
+        done = hit | (~outside & (np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)))
+        p = np.where(hit, p, new)
         if np.all(done | np.isnan(c)):
             break
     return p
