@@ -274,12 +274,20 @@ class CaseState(param.Parameterized):
                                       f"range {lo:g}–{hi:g}{_unit(p.label)}; kept "
                                       f"{getattr(self, name):g}.")
                 return False
+        previous = getattr(self, name)
         try:
             setattr(self, name, value)
         except ValueError as exc:
             self.error_message = f"{p.label}: {exc}"
             return False
-        return not self.error_message
+        if self.error_message:
+            # The model refused the case: put the input back so inputs and result agree.
+            refusal = self.error_message
+            with param.parameterized.discard_events(self):
+                setattr(self, name, previous)
+            self.error_message = f"{_field(p.label)} = {value:g} not applied: {refusal}"
+            return False
+        return True
 
     # Inputs whose unit follows the display choice, and the unit written in their label.
     _PRESSURE_INPUTS = ("paco2_mmhg", "barometric_pressure_mmhg", "p50_mmhg")
@@ -464,6 +472,8 @@ class CaseState(param.Parameterized):
                 continue
             if kind == "pressure":
                 unit, digits = self.pressure_unit, self.pressure_digits
+                if key.endswith("_p50"):
+                    digits += 1  # P50 moves by tenths; whole numbers would hide its shifts
             else:
                 unit, digits = KIND_UNITS[kind]
             value = self._to_display(kind, now[key])

@@ -352,11 +352,11 @@ class CaseControls(pn.viewable.Viewer):
         self._picker = pn.widgets.Select(label="Scenario", options=options,
                                          css_classes=["o2-scenario"], width=240,
                                          disabled=not options)
-        self._load = pn.widgets.Button(label="Load", button_type="primary",
+        self._load = pn.widgets.Button(label="Load", color="primary",
                                        css_classes=["o2-load"], disabled=not options,
                                        align="end", width=80)
         self._keep = pn.widgets.Button(label="Keep as baseline", css_classes=["o2-keep"],
-                                       button_type="success", align="end", width=150)
+                                       color="success", align="end", width=150)
         self._clear = pn.widgets.Button(label="Clear baseline", css_classes=["o2-clear"],
                                         align="end", width=130)
         self._load.on_click(lambda _e: state.load_scenario(self._picker.value))

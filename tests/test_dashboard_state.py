@@ -154,3 +154,12 @@ def test_bad_scenario_changes_nothing(tmp_path: Path):
     assert not s.load_scenario(f)
     assert s.altitude_m == 0.0 and s.hb_g_dl == 15.0 and s.result is result
     assert "Scenario not loaded" in s.error_message
+
+
+def test_case_the_model_refuses_puts_input_back():
+    s = CaseState(altitude_m=4500.0, hb_g_dl=9.0, temperature_c=40.0)
+    result = s.result
+    s.set_input("vo2_ml_min", 250.0)
+    assert not s.set_input("vo2_ml_min", 4000.0)
+    assert s.vo2_ml_min == 250.0 and s.result is result
+    assert "VO2 = 4000 not applied" in s.error_message
