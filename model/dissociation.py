@@ -53,9 +53,10 @@ NORMAL_DPG_MMOL_L = 5.0
 """Normal red-cell 2,3-DPG [mmol/L] (Siggaard-Andersen 1990 reference value)."""
 
 STANDARD_P50_MMHG = {
-    "severinghaus1979": 26.857,  # root of Eq 1 of [1]
+    "severinghaus1979": float(np.cbrt(11700.0 + np.sqrt(11700.0**2 + 50.0**3))
+                              - np.cbrt(np.sqrt(11700.0**2 + 50.0**3) - 11700.0)),  # Eq 1 of [1]: 26.856
     "dash2016": 26.8,  # P50,S of [4]
-    "siggaard_andersen1990": 26.840,  # tanh model at a = b = 0, [5]
+    "siggaard_andersen1990": 26.840,  # tanh model at a = b = 0, [5]; made exact below
     "hill1910": 26.8,
 }
 """Each curve's own P50 at pH 7.40, PCO2 40 mmHg, 37 degC, normal DPG [mmHg]."""
@@ -70,7 +71,7 @@ HILL_N = 2.7
 _SA_DLNP50_DA = 1.121  # p50 = 3.578 kPa exp(1.121 a), [5]
 _DPG_LN_PER_MMOL = 0.06 * _SA_DLNP50_DA  # DPG term of the tanh model's a, [5]
 _METHB_LN = -0.7 * _SA_DLNP50_DA  # MetHb term of the tanh model's a, [6]
-_MMHG_PER_KPA = 7.500615758
+_MMHG_PER_KPA = 760.0 / 101.325
 
 _LIMITS = {
     "ph": (6.5, 8.0, ""),
@@ -394,3 +395,12 @@ def saturation_slope(po2_mmhg, **conditions):
     0.0247
     """
     return prepare_curve(**conditions).slope(np.asarray(po2_mmhg, dtype=float))
+
+
+def _tanh_standard_p50() -> float:
+    c = {"ph": np.array(7.40), "pco2": np.array(40.0), "t": np.array(37.0),
+         "dpg": np.array(NORMAL_DPG_MMOL_L), "fco": np.array(0.0), "fmet": np.array(0.0)}
+    return float(_total_inverse("siggaard_andersen1990", np.array(0.5), c, np.array(0.0)))
+
+
+STANDARD_P50_MMHG["siggaard_andersen1990"] = _tanh_standard_p50()

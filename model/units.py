@@ -7,8 +7,8 @@ from __future__ import annotations
 
 import numpy as np
 
-MMHG_PER_KPA = 7.500615758
-"""mmHg in one kPa [mmHg/kPa] (1 mmHg = 133.322387 Pa, ISO 80000-4)."""
+MMHG_PER_KPA = 760.0 / 101.325
+"""mmHg in one kPa [mmHg/kPa]; clinical mmHg taken equal to the torr (101325/760 Pa)."""
 
 HB_MMOL_L_PER_G_DL = 0.62056
 """Haemoglobin monomer mmol/L per g/dL [-]: 10 / 16.1145 (tetramer 64 458 g/mol)."""
