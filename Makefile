@@ -5,7 +5,7 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.o2transit-installed
 PORT ?= 5006
 
-.PHONY: serve test evaluate bench lint venv chromium clean-venv
+.PHONY: serve test evaluate bench lint format-check venv chromium clean-venv
 
 venv: $(STAMP)
 
@@ -58,6 +58,9 @@ bench: $(STAMP)
 
 lint: $(STAMP)
 	$(BIN)/ruff check model dashboard tests bench
+
+# Reports the files ruff would reformat; `ruff format FILE` applies it.
+format-check: $(STAMP)
 	$(BIN)/ruff format --check model dashboard tests bench
 
 clean-venv:
