@@ -25,7 +25,10 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
     pn.extension()
     state = CaseState() if state is None else state
     template = pn.template.BootstrapTemplate(
-        title=TITLE, header_background=ACCENT, sidebar_width=340, collapsed_sidebar=False,
+        title=TITLE,
+        header_background=ACCENT,
+        sidebar_width=340,
+        collapsed_sidebar=False,
     )
     template.sidebar.append(InputPanel(state))
     template.main.append(
@@ -58,7 +61,17 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
     url = f"http://{address}:{port}/"
     print(f"o2transit dashboard at {url}", flush=True)
     if not _is_loopback(address):
-        print(f"WARNING: listening on {address}: the page is reachable from the network, "
-              "not only from this computer.", flush=True)
-    return pn.serve(create_app, address=address, port=port, show=show, title=TITLE,
-                    websocket_origin=[f"{address}:{port}", f"localhost:{port}"], **kwargs)
+        print(
+            f"WARNING: listening on {address}: the page is reachable from the network, "
+            "not only from this computer.",
+            flush=True,
+        )
+    return pn.serve(
+        create_app,
+        address=address,
+        port=port,
+        show=show,
+        title=TITLE,
+        websocket_origin=[f"{address}:{port}", f"localhost:{port}"],
+        **kwargs,
+    )

@@ -70,7 +70,9 @@ def _bounds(name: str, fallback: tuple[float, float]) -> tuple[float, float]:
     return (float(limits[0]), float(limits[1])) if limits else fallback
 
 
-def _num(name: str, default: float, fallback: tuple[float, float], label: str, doc: str, step: float):
+def _num(
+    name: str, default: float, fallback: tuple[float, float], label: str, doc: str, step: float
+):
     return param.Number(
         default=default, bounds=_bounds(name, fallback), label=label, doc=doc, step=step
     )
@@ -93,9 +95,13 @@ READING_ROWS = (
     ("arterial_p50", "P50 arterial", "pressure"),
     ("venous_p50", "P50 venous", "pressure"),
 )
-KIND_UNITS = {"percent": ("%", 1), "content": ("mL/dL", 1), "flow": ("mL/min", 0),
-               "flow_index": ("mL/min/m²", 0), "per_litre": ("mL O2/L", 0)}
-
+KIND_UNITS = {
+    "percent": ("%", 1),
+    "content": ("mL/dL", 1),
+    "flow": ("mL/min", 0),
+    "flow_index": ("mL/min/m²", 0),
+    "per_litre": ("mL O2/L", 0),
+}
 
 
 def _field(label: str) -> str:
@@ -138,73 +144,162 @@ class CaseState(param.Parameterized):
     """Inputs of one case along the oxygen path, its result and an optional baseline."""
 
     # --- Air
-    altitude_m = _num("altitude_m", 0.0, (-500.0, 9000.0), "Altitude (m)",
-                      "Altitude above sea level [m].", 100.0)
+    altitude_m = _num(
+        "altitude_m", 0.0, (-500.0, 9000.0), "Altitude (m)", "Altitude above sea level [m].", 100.0
+    )
     use_pressure_override = param.Boolean(
-        default=False, label="Enter barometric pressure instead of altitude",
-        doc="Use barometric_pressure_mmhg rather than the pressure from altitude.")
+        default=False,
+        label="Enter barometric pressure instead of altitude",
+        doc="Use barometric_pressure_mmhg rather than the pressure from altitude.",
+    )
     barometric_pressure_mmhg = _num(
-        "barometric_pressure_mmhg", 760.0, (200.0, 2300.0), "Barometric pressure (mmHg)",
-        "Ambient pressure when entered directly [mmHg].", 5.0)
+        "barometric_pressure_mmhg",
+        760.0,
+        (200.0, 2300.0),
+        "Barometric pressure (mmHg)",
+        "Ambient pressure when entered directly [mmHg].",
+        5.0,
+    )
     pressure_model = param.Selector(
-        default="standard", objects=["standard", "mountain"], label="Pressure–altitude model",
-        doc="'standard' atmosphere or the heavier 'mountain' atmosphere of high ranges.")
-    fio2 = _num("fio2", 0.21, (0.10, 1.0), "FiO2 (fraction)",
-                "Inspired O2 fraction, dry gas [-].", 0.01)
+        default="standard",
+        objects=["standard", "mountain"],
+        label="Pressure–altitude model",
+        doc="'standard' atmosphere or the heavier 'mountain' atmosphere of high ranges.",
+    )
+    fio2 = _num(
+        "fio2", 0.21, (0.10, 1.0), "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01
+    )
 
     # --- Lungs
-    paco2_mmhg = _num("paco2_mmhg", 40.0, (10.0, 120.0), "PaCO2 (mmHg)",
-                      "Arterial = alveolar PCO2 [mmHg].", 1.0)
-    rq = _num("rq", 0.8, (0.6, 1.3), "Respiratory quotient (-)",
-              "CO2 output / O2 uptake [-].", 0.05)
-    shunt_fraction = _num("shunt_fraction", 0.02, (0.0, 0.6), "Shunt (fraction of output)",
-                          "Venous admixture Qs/Qt [-].", 0.01)
+    paco2_mmhg = _num(
+        "paco2_mmhg", 40.0, (10.0, 120.0), "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0
+    )
+    rq = _num(
+        "rq", 0.8, (0.6, 1.3), "Respiratory quotient (-)", "CO2 output / O2 uptake [-].", 0.05
+    )
+    shunt_fraction = _num(
+        "shunt_fraction",
+        0.02,
+        (0.0, 0.6),
+        "Shunt (fraction of output)",
+        "Venous admixture Qs/Qt [-].",
+        0.01,
+    )
     diffusing_capacity_ml_min_mmhg = _num(
-        "diffusing_capacity_ml_min_mmhg", 30.0, (1.0, 100.0),
-        "O2 diffusing capacity (mL/min/mmHg)", "Lung O2 diffusing capacity [mL/min/mmHg].", 1.0)
-    capillary_volume_ml = _num("capillary_volume_ml", 75.0, (10.0, 250.0),
-                               "Pulmonary capillary volume (mL)",
-                               "Blood volume in the lung capillaries [mL].", 5.0)
+        "diffusing_capacity_ml_min_mmhg",
+        30.0,
+        (1.0, 100.0),
+        "O2 diffusing capacity (mL/min/mmHg)",
+        "Lung O2 diffusing capacity [mL/min/mmHg].",
+        1.0,
+    )
+    capillary_volume_ml = _num(
+        "capillary_volume_ml",
+        75.0,
+        (10.0, 250.0),
+        "Pulmonary capillary volume (mL)",
+        "Blood volume in the lung capillaries [mL].",
+        5.0,
+    )
 
     # --- Blood
     hb_g_dl = _num("hb_g_dl", 15.0, (2.0, 25.0), "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
-    temperature_c = _num("temperature_c", 37.0, (25.0, 43.0), "Temperature (°C)",
-                         "Blood temperature [°C].", 0.1)
+    temperature_c = _num(
+        "temperature_c", 37.0, (25.0, 43.0), "Temperature (°C)", "Blood temperature [°C].", 0.1
+    )
     acid_base_input = param.Selector(
-        default="pH", objects=["pH", "base excess"], label="Acid–base given as",
-        doc="Give arterial pH, or base excess (pH then follows from PaCO2).")
+        default="pH",
+        objects=["pH", "base excess"],
+        label="Acid–base given as",
+        doc="Give arterial pH, or base excess (pH then follows from PaCO2).",
+    )
     ph = _num("ph", 7.40, (6.8, 7.8), "Arterial pH (-)", "Arterial pH [-].", 0.01)
-    base_excess_mmol_l = _num("base_excess_mmol_l", 0.0, (-30.0, 30.0),
-                              "Base excess (mmol/L)", "Base excess [mmol/L].", 0.5)
-    dpg_mmol_l = _num("dpg_mmol_l", 5.0, (0.0, 15.0), "2,3-DPG (mmol/L)",
-                      "Red-cell 2,3-DPG [mmol/L]; 5.0 is normal.", 0.1)
-    cohb_fraction = _num("cohb_fraction", 0.0, (0.0, 0.7), "COHb (fraction)",
-                         "Carboxyhaemoglobin fraction of total Hb [-].", 0.01)
-    methb_fraction = _num("methb_fraction", 0.0, (0.0, 0.7), "MetHb (fraction)",
-                          "Methaemoglobin fraction of total Hb [-].", 0.01)
-    use_p50_override = param.Boolean(default=False, label="Set standard P50",
-                                     doc="Override the standard-state P50 of the curve.")
-    p50_mmhg = _num("p50_mmhg", 26.8, (10.0, 60.0), "Standard P50 (mmHg)",
-                    "Standard-state P50 when overridden [mmHg].", 0.1)
-    curve = param.Selector(default="severinghaus", objects=CURVE_LABELS,
-                           label="Dissociation curve", doc="Model of the O2 dissociation curve.")
+    base_excess_mmol_l = _num(
+        "base_excess_mmol_l",
+        0.0,
+        (-30.0, 30.0),
+        "Base excess (mmol/L)",
+        "Base excess [mmol/L].",
+        0.5,
+    )
+    dpg_mmol_l = _num(
+        "dpg_mmol_l",
+        5.0,
+        (0.0, 15.0),
+        "2,3-DPG (mmol/L)",
+        "Red-cell 2,3-DPG [mmol/L]; 5.0 is normal.",
+        0.1,
+    )
+    cohb_fraction = _num(
+        "cohb_fraction",
+        0.0,
+        (0.0, 0.7),
+        "COHb (fraction)",
+        "Carboxyhaemoglobin fraction of total Hb [-].",
+        0.01,
+    )
+    methb_fraction = _num(
+        "methb_fraction",
+        0.0,
+        (0.0, 0.7),
+        "MetHb (fraction)",
+        "Methaemoglobin fraction of total Hb [-].",
+        0.01,
+    )
+    use_p50_override = param.Boolean(
+        default=False, label="Set standard P50", doc="Override the standard-state P50 of the curve."
+    )
+    p50_mmhg = _num(
+        "p50_mmhg",
+        26.8,
+        (10.0, 60.0),
+        "Standard P50 (mmHg)",
+        "Standard-state P50 when overridden [mmHg].",
+        0.1,
+    )
+    curve = param.Selector(
+        default="severinghaus",
+        objects=CURVE_LABELS,
+        label="Dissociation curve",
+        doc="Model of the O2 dissociation curve.",
+    )
 
     # --- Circulation & demand
-    cardiac_output_l_min = _num("cardiac_output_l_min", 5.0, (0.5, 30.0),
-                                "Cardiac output (L/min)", "Cardiac output [L/min].", 0.1)
-    vo2_ml_min = _num("vo2_ml_min", 250.0, (50.0, 5000.0), "VO2 (mL/min)",
-                      "Whole-body O2 uptake [mL/min].", 10.0)
+    cardiac_output_l_min = _num(
+        "cardiac_output_l_min",
+        5.0,
+        (0.5, 30.0),
+        "Cardiac output (L/min)",
+        "Cardiac output [L/min].",
+        0.1,
+    )
+    vo2_ml_min = _num(
+        "vo2_ml_min", 250.0, (50.0, 5000.0), "VO2 (mL/min)", "Whole-body O2 uptake [mL/min].", 10.0
+    )
     vo2_temperature_scaling = param.Boolean(
-        default=False, label="Scale VO2 with temperature",
-        doc="Let the model scale VO2 with body temperature.")
-    height_cm = param.Number(default=None, allow_None=True, bounds=(50.0, 250.0),
-                             label="Height (cm)", doc="Height for BSA and DO2I [cm]; optional.")
-    weight_kg = param.Number(default=None, allow_None=True, bounds=(2.0, 350.0),
-                             label="Weight (kg)", doc="Weight for BSA and DO2I [kg]; optional.")
+        default=False,
+        label="Scale VO2 with temperature",
+        doc="Let the model scale VO2 with body temperature.",
+    )
+    height_cm = param.Number(
+        default=None,
+        allow_None=True,
+        bounds=(50.0, 250.0),
+        label="Height (cm)",
+        doc="Height for BSA and DO2I [cm]; optional.",
+    )
+    weight_kg = param.Number(
+        default=None,
+        allow_None=True,
+        bounds=(2.0, 350.0),
+        label="Weight (kg)",
+        doc="Weight for BSA and DO2I [kg]; optional.",
+    )
 
     # --- Display
-    pressure_unit = param.Selector(default="mmHg", objects=list(PRESSURE_UNITS),
-                                   label="Pressure unit")
+    pressure_unit = param.Selector(
+        default="mmHg", objects=list(PRESSURE_UNITS), label="Pressure unit"
+    )
     hb_unit = param.Selector(default="g/dL", objects=list(HB_UNITS), label="Hb unit")
 
     # --- Derived (read-only for views)
@@ -237,11 +332,16 @@ class CaseState(param.Parameterized):
     def _curves_for(self, result) -> dict:
         standard = {"curve": result.arterial_conditions.get("curve", self.curve)}
         out = {"po2_mmhg": PO2_GRID_MMHG}
-        for name, cond in (("arterial", result.arterial_conditions),
-                           ("venous", result.venous_conditions), ("standard", standard)):
+        for name, cond in (
+            ("arterial", result.arterial_conditions),
+            ("venous", result.venous_conditions),
+            ("standard", standard),
+        ):
             out[name] = np.asarray(model.saturation(PO2_GRID_MMHG, **cond), dtype=float)
-        for name, cond, blood in (("arterial", result.arterial_conditions, result.arterial),
-                                  ("venous", result.venous_conditions, result.venous)):
+        for name, cond, blood in (
+            ("arterial", result.arterial_conditions, result.arterial),
+            ("venous", result.venous_conditions, result.venous),
+        ):
             p50 = float(blood.p50_mmhg)
             out[f"{name}_p50"] = (p50, float(model.saturation(p50, **cond)))
         return out
@@ -270,9 +370,11 @@ class CaseState(param.Parameterized):
         if bounds and value is not None:
             lo, hi = bounds
             if not lo <= value <= hi:
-                self.error_message = (f"{_field(p.label)} = {value:g} is outside the allowed "
-                                      f"range {lo:g}–{hi:g}{_unit(p.label)}; kept "
-                                      f"{getattr(self, name):g}.")
+                self.error_message = (
+                    f"{_field(p.label)} = {value:g} is outside the allowed "
+                    f"range {lo:g}–{hi:g}{_unit(p.label)}; kept "
+                    f"{getattr(self, name):g}."
+                )
                 return False
         previous = getattr(self, name)
         try:
@@ -295,7 +397,12 @@ class CaseState(param.Parameterized):
 
     def _display_pair(self, name: str):
         if name in self._PRESSURE_INPUTS:
-            return "(mmHg)", f"({self.pressure_unit})", self.pressure_to_display, self.pressure_from_display
+            return (
+                "(mmHg)",
+                f"({self.pressure_unit})",
+                self.pressure_to_display,
+                self.pressure_from_display,
+            )
         if name in self._HB_INPUTS:
             return "(g/dL)", f"({self.hb_unit})", self.hb_to_display, self.hb_from_display
         return None, None, float, float
@@ -312,9 +419,17 @@ class CaseState(param.Parameterized):
         return to_display(lo), to_display(hi)
 
     def display_value(self, name: str) -> float | None:
+        """Current value of an input in its display unit, rounded for reading."""
         value = getattr(self, name)
+        if value is None:
+            return None
         _, _, to_display, _ = self._display_pair(name)
-        return None if value is None else to_display(value)
+        shown = to_display(value)
+        if name in self._PRESSURE_INPUTS and self.pressure_unit == "kPa":
+            return round(shown, 2)
+        if name in self._HB_INPUTS and self.hb_unit != "g/dL":
+            return round(shown, 1 if self.hb_unit == "g/L" else 2)
+        return round(shown, 6)
 
     def set_display_input(self, name: str, value: float | None) -> bool:
         """Set an input typed in display units; refuse it with a message if out of bounds."""
@@ -328,8 +443,10 @@ class CaseState(param.Parameterized):
         tol = 1e-9 * max(abs(lo), abs(hi), 1.0)
         if not lo - tol <= value <= hi + tol:
             label = self.display_label(name)
-            self.error_message = (f"{_field(label)} = {value:g} is outside the allowed range "
-                                  f"{lo:.4g}–{hi:.4g}{_unit(label)}; kept the last valid value.")
+            self.error_message = (
+                f"{_field(label)} = {value:g} is outside the allowed range "
+                f"{lo:.4g}–{hi:.4g}{_unit(label)}; kept the last valid value."
+            )
             return False
         _, _, _, from_display = self._display_pair(name)
         return self.set_input(name, min(max(from_display(value), p.bounds[0]), p.bounds[1]))
@@ -385,7 +502,9 @@ class CaseState(param.Parameterized):
                 lo, hi = bounds
                 if not lo <= value <= hi:
                     label = p.label or name
-                    raise ValueError(f"{label} = {value} is outside the allowed range {lo:g}–{hi:g}")
+                    raise ValueError(
+                        f"{label} = {value} is outside the allowed range {lo:g}–{hi:g}"
+                    )
         return updates
 
     def _inputs_after(self, updates: dict) -> dict:
@@ -478,7 +597,11 @@ class CaseState(param.Parameterized):
                 unit, digits = KIND_UNITS[kind]
             value = self._to_display(kind, now[key])
             rng = NORMAL_RANGES.get(key)
-            low, high = (self._to_display(kind, rng[0]), self._to_display(kind, rng[1])) if rng else (None, None)
+            low, high = (
+                (self._to_display(kind, rng[0]), self._to_display(kind, rng[1]))
+                if rng
+                else (None, None)
+            )
             delta = value - self._to_display(kind, base[key]) if key in base else None
             rows.append(Reading(key, label, value, unit, digits, low, high, delta))
         return rows
@@ -486,15 +609,25 @@ class CaseState(param.Parameterized):
     def cascade(self) -> dict[str, list]:
         """PO2 at each stop of the path, in the display pressure unit."""
         r = self.result
-        stages = [("Inspired", r.inspired_po2_mmhg), ("Alveolar", r.alveolar_po2_mmhg),
-                  ("End-capillary", r.end_capillary_po2_mmhg), ("Arterial", r.arterial.po2_mmhg),
-                  ("Venous", r.venous.po2_mmhg)]
-        return {"stage": [s for s, _ in stages],
-                "po2": [self.pressure_to_display(float(p)) for _, p in stages]}
+        stages = [
+            ("Inspired", r.inspired_po2_mmhg),
+            ("Alveolar", r.alveolar_po2_mmhg),
+            ("End-capillary", r.end_capillary_po2_mmhg),
+            ("Arterial", r.arterial.po2_mmhg),
+            ("Venous", r.venous.po2_mmhg),
+        ]
+        return {
+            "stage": [s for s, _ in stages],
+            "po2": [self.pressure_to_display(float(p)) for _, p in stages],
+        }
 
     def _pressure_array(self, mmhg) -> np.ndarray:
         mmhg = np.asarray(mmhg, dtype=float)
-        return np.asarray(model.mmhg_to_kpa(mmhg), dtype=float) if self.pressure_unit == "kPa" else mmhg
+        return (
+            np.asarray(model.mmhg_to_kpa(mmhg), dtype=float)
+            if self.pressure_unit == "kPa"
+            else mmhg
+        )
 
     def curve_view(self, baseline: bool = False) -> dict | None:
         """Curves and marked points in display units (PO2 in the pressure unit, SO2 in %).

@@ -64,13 +64,20 @@ class NumberInput(pn.viewable.Viewer):
         self._state, self._name = state, name
         p = state.param[name]
         self._widget = pn.widgets.FloatInput(
-            label=state.display_label(name), value=state.display_value(name),
-            step=p.step or 0.1, placeholder="optional" if p.allow_None else "",
-            css_classes=["o2-input", f"o2-in-{name}"], sizing_mode="stretch_width",
+            label=state.display_label(name),
+            value=state.display_value(name),
+            step=p.step or 0.1,
+            placeholder="optional" if p.allow_None else "",
+            css_classes=["o2-input", f"o2-in-{name}"],
+            sizing_mode="stretch_width",
         )
-        self._message = pn.pane.HTML("", visible=False, css_classes=["o2-input-msg", f"o2-msg-{name}"],
-                                     styles={"color": "#9a1b1b", "font-size": "13px"},
-                                     margin=(0, 10, 6, 10))
+        self._message = pn.pane.HTML(
+            "",
+            visible=False,
+            css_classes=["o2-input-msg", f"o2-msg-{name}"],
+            styles={"color": "#9a1b1b", "font-size": "13px"},
+            margin=(0, 10, 6, 10),
+        )
         self._syncing = False
         self._widget.param.watch(self._typed, "value")
         state.param.watch(self._refresh, [name, "pressure_unit", "hb_unit"])
@@ -110,7 +117,9 @@ class InputPanel(pn.viewable.Viewer):
             return NumberInput(state, name)
 
         def choice(p, widget=pn.widgets.Select):
-            return widget.from_param(p, css_classes=[f"o2-in-{p.name}"], sizing_mode="stretch_width")
+            return widget.from_param(
+                p, css_classes=[f"o2-in-{p.name}"], sizing_mode="stretch_width"
+            )
 
         def toggle(p):
             return pn.widgets.Checkbox.from_param(p, css_classes=[f"o2-in-{p.name}"])
@@ -126,27 +135,69 @@ class InputPanel(pn.viewable.Viewer):
         self._p50_col = pn.Column(self._p50, margin=0, sizing_mode="stretch_width")
 
         groups = [
-            ("Air", [self._alt_col, toggle(s.use_pressure_override), self._pb_col,
-                     choice(s.pressure_model, pn.widgets.RadioButtonGroup), num("fio2")]),
-            ("Lungs", [num("paco2_mmhg"), num("shunt_fraction"),
-                       num("diffusing_capacity_ml_min_mmhg"), num("capillary_volume_ml"), num("rq")]),
-            ("Blood", [num("hb_g_dl"), num("temperature_c"),
-                       choice(s.acid_base_input, pn.widgets.RadioButtonGroup), self._ph_col,
-                       self._be_col, num("dpg_mmol_l"), num("cohb_fraction"), num("methb_fraction"),
-                       choice(s.curve), toggle(s.use_p50_override), self._p50_col]),
-            ("Circulation & demand", [num("cardiac_output_l_min"), num("vo2_ml_min"),
-                                      toggle(s.vo2_temperature_scaling), num("height_cm"),
-                                      num("weight_kg")]),
+            (
+                "Air",
+                [
+                    self._alt_col,
+                    toggle(s.use_pressure_override),
+                    self._pb_col,
+                    choice(s.pressure_model, pn.widgets.RadioButtonGroup),
+                    num("fio2"),
+                ],
+            ),
+            (
+                "Lungs",
+                [
+                    num("paco2_mmhg"),
+                    num("shunt_fraction"),
+                    num("diffusing_capacity_ml_min_mmhg"),
+                    num("capillary_volume_ml"),
+                    num("rq"),
+                ],
+            ),
+            (
+                "Blood",
+                [
+                    num("hb_g_dl"),
+                    num("temperature_c"),
+                    choice(s.acid_base_input, pn.widgets.RadioButtonGroup),
+                    self._ph_col,
+                    self._be_col,
+                    num("dpg_mmol_l"),
+                    num("cohb_fraction"),
+                    num("methb_fraction"),
+                    choice(s.curve),
+                    toggle(s.use_p50_override),
+                    self._p50_col,
+                ],
+            ),
+            (
+                "Circulation & demand",
+                [
+                    num("cardiac_output_l_min"),
+                    num("vo2_ml_min"),
+                    toggle(s.vo2_temperature_scaling),
+                    num("height_cm"),
+                    num("weight_kg"),
+                ],
+            ),
         ]
         cards = [
-            pn.Card(*items, title=title, collapsed=False, sizing_mode="stretch_width",
-                    css_classes=[f"o2-group-{title.split()[0].lower()}"],
-                    header_background="#e6efee", margin=(4, 2))
+            pn.Card(
+                *items,
+                title=title,
+                collapsed=False,
+                sizing_mode="stretch_width",
+                css_classes=[f"o2-group-{title.split()[0].lower()}"],
+                header_background="#e6efee",
+                margin=(4, 2),
+            )
             for title, items in groups
         ]
         self._layout = pn.Column(*cards, sizing_mode="stretch_width", css_classes=["o2-inputs"])
-        state.param.watch(self._visibility, ["use_pressure_override", "acid_base_input",
-                                             "use_p50_override"])
+        state.param.watch(
+            self._visibility, ["use_pressure_override", "acid_base_input", "use_p50_override"]
+        )
         self._visibility()
 
     def _visibility(self, *_events) -> None:
@@ -171,55 +222,138 @@ class CurvePlot(pn.viewable.Viewer):
         self._base = ColumnDataSource(data={"x": [], "arterial": [], "venous": []})
         self._points = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": []})
         self._base_points = ColumnDataSource(data={"x": [], "y": []})
-        self._p50 = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": [],
-                                           "dx": [], "dy": [], "align": []})
+        self._p50 = ColumnDataSource(
+            data={
+                "x": [],
+                "y": [],
+                "color": [],
+                "label": [],
+                "dx": [],
+                "dy": [],
+                "align": [],
+                "label_y": [],
+            }
+        )
         self._segment = ColumnDataSource(data={"x0": [], "y0": [], "x1": [], "y1": []})
         self._bridge = ColumnDataSource(data={"x0": [], "y0": [], "x1": [], "y1": []})
         self._note = ColumnDataSource(data={"x": [], "y": [], "text": []})
 
-        fig = figure(height=430, sizing_mode="stretch_width", toolbar_location=None,
-                     x_range=Range1d(0, 150), y_range=Range1d(0, 102),
-                     title="Where blood loads and unloads O2")
+        fig = figure(
+            height=430,
+            sizing_mode="stretch_width",
+            toolbar_location=None,
+            x_range=Range1d(0, 150),
+            y_range=Range1d(0, 102),
+            title="Where blood loads and unloads O2",
+        )
         fig.title.text_font_size = "15px"
         fig.title.text_color = INK
         fig.yaxis.axis_label = "SO2 (%)"
         fig.background_fill_color = "#fbfaf7"
         fig.grid.grid_line_color = "#ebe7df"
-        fig.line("x", "standard", source=self._now, color=REFERENCE, line_width=1.5,
-                 line_dash="dotted", legend_label="standard (pH 7.40, PCO2 40, 37 °C)")
+        fig.line(
+            "x",
+            "standard",
+            source=self._now,
+            color=REFERENCE,
+            line_width=1.5,
+            line_dash="dotted",
+            legend_label="standard (pH 7.40, PCO2 40, 37 °C)",
+        )
         fig.line("x", "arterial", source=self._base, color=ARTERIAL, line_width=2, alpha=0.25)
         fig.line("x", "venous", source=self._base, color=VENOUS, line_width=2, alpha=0.25)
-        fig.scatter("x", "y", source=self._base_points, size=10, color=INK, alpha=0.25,
-                    legend_label="baseline")
-        fig.line("x", "arterial", source=self._now, color=ARTERIAL, line_width=3,
-                 legend_label="arterial conditions")
-        fig.line("x", "venous", source=self._now, color=VENOUS, line_width=3,
-                 legend_label="venous conditions")
-        fig.segment("x0", "y0", "x1", "y1", source=self._bridge, color=INK, line_dash="dashed",
-                    line_width=1)
+        fig.scatter(
+            "x",
+            "y",
+            source=self._base_points,
+            size=10,
+            color=INK,
+            alpha=0.25,
+            legend_label="baseline",
+        )
+        fig.line(
+            "x",
+            "arterial",
+            source=self._now,
+            color=ARTERIAL,
+            line_width=3,
+            legend_label="arterial conditions",
+        )
+        fig.line(
+            "x",
+            "venous",
+            source=self._now,
+            color=VENOUS,
+            line_width=3,
+            legend_label="venous conditions",
+        )
+        fig.segment(
+            "x0", "y0", "x1", "y1", source=self._bridge, color=INK, line_dash="dashed", line_width=1
+        )
         fig.segment("x0", "y0", "x1", "y1", source=self._segment, color=INK, line_width=4)
-        fig.scatter("x", "y", source=self._p50, marker="diamond", size=13, color="color",
-                    line_color="white")
-        fig.scatter("x", "y", source=self._points, size=14, color="color", line_color="white",
-                    line_width=2)
-        fig.add_layout(LabelSet(x="x", y="y", text="label", source=self._points, x_offset=10,
-                                y_offset=-18, text_font_size="13px", text_color=INK))
-        fig.add_layout(LabelSet(x="x", y="y", text="label", source=self._p50, x_offset="dx",
-                                y_offset="dy", text_align="align", text_font_size="12px",
-                                text_color="color", text_font_style="bold"))
-        fig.add_layout(LabelSet(x="x", y="y", text="text", source=self._note, x_offset=8,
-                                text_align="left", text_baseline="middle", text_font_size="14px",
-                                text_font_style="bold", text_color=INK,
-                                background_fill_color="white", background_fill_alpha=0.85))
+        fig.segment(
+            "x", "y", "x", 0, source=self._p50, color="color", line_dash="dotted", line_width=1.5
+        )
+        fig.scatter(
+            "x", "y", source=self._p50, marker="diamond", size=13, color="color", line_color="white"
+        )
+        fig.scatter(
+            "x", "y", source=self._points, size=14, color="color", line_color="white", line_width=2
+        )
+        fig.add_layout(
+            LabelSet(
+                x="x",
+                y="y",
+                text="label",
+                source=self._points,
+                x_offset=10,
+                y_offset=-18,
+                text_font_size="13px",
+                text_color=INK,
+            )
+        )
+        fig.add_layout(
+            LabelSet(
+                x="x",
+                y="label_y",
+                text="label",
+                source=self._p50,
+                x_offset="dx",
+                y_offset="dy",
+                text_align="align",
+                text_font_size="12px",
+                text_color="color",
+                text_font_style="bold",
+            )
+        )
+        fig.add_layout(
+            LabelSet(
+                x="x",
+                y="y",
+                text="text",
+                source=self._note,
+                x_offset=8,
+                text_align="left",
+                text_baseline="middle",
+                text_font_size="14px",
+                text_font_style="bold",
+                text_color=INK,
+                background_fill_color="white",
+                background_fill_alpha=0.85,
+            )
+        )
         fig.legend.location = "bottom_right"
         fig.legend.background_fill_alpha = 0.8
         fig.legend.label_text_font_size = "12px"
         self._fig = fig
-        self._caption = pn.pane.HTML("", css_classes=["o2-curve-caption"],
-                                     styles={"font-size": "13px", "color": "#46545c"})
-        self._layout = pn.Column(pn.pane.Bokeh(fig, sizing_mode="stretch_width",
-                                               css_classes=["o2-curve"]),
-                                 self._caption, sizing_mode="stretch_width")
+        self._caption = pn.pane.HTML(
+            "", css_classes=["o2-curve-caption"], styles={"font-size": "13px", "color": "#46545c"}
+        )
+        self._layout = pn.Column(
+            pn.pane.Bokeh(fig, sizing_mode="stretch_width", css_classes=["o2-curve"]),
+            self._caption,
+            sizing_mode="stretch_width",
+        )
         state.param.watch(self._update, ["result", "baseline", "pressure_unit"])
         self._update()
 
@@ -233,29 +367,43 @@ class CurvePlot(pn.viewable.Viewer):
         self._fig.x_range.end = st.x_max_display()
         self._now.data = {k: view[k] for k in ("x", "arterial", "venous", "standard")}
         (xa, ya), (xv, yv) = view["loading"], view["unloading"]
-        self._points.data = {"x": [xa, xv], "y": [ya, yv], "color": [ARTERIAL, VENOUS],
-                             "label": ["loading (arterial)", "unloading (venous)"]}
+        self._points.data = {
+            "x": [xa, xv],
+            "y": [ya, yv],
+            "color": [ARTERIAL, VENOUS],
+            "label": ["loading (arterial)", "unloading (venous)"],
+        }
         d = st.pressure_digits
         self._p50.data = {
             "x": [view["arterial_p50"][0], view["venous_p50"][0]],
             "y": [view["arterial_p50"][1], view["venous_p50"][1]],
             "color": [ARTERIAL, VENOUS],
-            "dx": [-9, 9], "dy": [4, -14], "align": ["right", "left"],
-            "label": [f"P50 {_fmt(view['arterial_p50'][0], d + 1)}",
-                      f"P50 {_fmt(view['venous_p50'][0], d + 1)}"],
+            "dx": [-5, 5],
+            "dy": [0, 0],
+            "align": ["right", "left"],
+            "label_y": [9, 3],
+            "label": [
+                f"P50 {_fmt(view['arterial_p50'][0], d + 1)}",
+                f"P50 {_fmt(view['venous_p50'][0], d + 1)}",
+            ],
         }
         self._segment.data = {"x0": [xv], "y0": [yv], "x1": [xv], "y1": [ya]}
         self._bridge.data = {"x0": [xv], "y0": [ya], "x1": [xa], "y1": [ya]}
-        self._note.data = {"x": [xv], "y": [(ya + yv) / 2],
-                           "text": [f"{view['extracted_ml_per_l']:.0f} mL O2 extracted per L"]}
+        self._note.data = {
+            "x": [xv],
+            "y": [(ya + yv) / 2],
+            "text": [f"{view['extracted_ml_per_l']:.0f} mL O2 extracted per L"],
+        }
         base = st.curve_view(baseline=True)
         if base is None:
             self._base.data = {"x": [], "arterial": [], "venous": []}
             self._base_points.data = {"x": [], "y": []}
         else:
             self._base.data = {k: base[k] for k in ("x", "arterial", "venous")}
-            self._base_points.data = {"x": [base["loading"][0], base["unloading"][0]],
-                                      "y": [base["loading"][1], base["unloading"][1]]}
+            self._base_points.data = {
+                "x": [base["loading"][0], base["unloading"][0]],
+                "y": [base["loading"][1], base["unloading"][1]],
+            }
         self._caption.object = (
             f"Black bar: O2 given up per litre of blood between arterial and venous points. "
             f"The venous curve's shift frees {view['shift_gain_ml_per_l']:.1f} mL O2/L more than "
@@ -273,18 +421,38 @@ class CascadePlot(pn.viewable.Viewer):
         super().__init__(**params)
         self._state = state
         stages = state.cascade()["stage"]
-        self._source = ColumnDataSource(data={"stage": stages, "po2": [0.0] * len(stages),
-                                              "label": [""] * len(stages),
-                                              "color": ["#7fa7a3"] * 2 + ["#5c8f8a", ARTERIAL, VENOUS]})
-        fig = figure(x_range=FactorRange(*stages), y_range=Range1d(0, 170), height=300,
-                     sizing_mode="stretch_width", toolbar_location=None,
-                     title="PO2 cascade: the drop at each step")
+        self._source = ColumnDataSource(
+            data={
+                "stage": stages,
+                "po2": [0.0] * len(stages),
+                "label": [""] * len(stages),
+                "color": ["#7fa7a3"] * 2 + ["#5c8f8a", ARTERIAL, VENOUS],
+            }
+        )
+        fig = figure(
+            x_range=FactorRange(*stages),
+            y_range=Range1d(0, 170),
+            height=300,
+            sizing_mode="stretch_width",
+            toolbar_location=None,
+            title="PO2 cascade: the drop at each step",
+        )
         fig.title.text_font_size = "15px"
         fig.title.text_color = INK
         fig.vbar(x="stage", top="po2", width=0.62, source=self._source, color="color")
-        fig.add_layout(LabelSet(x="stage", y="po2", text="label", source=self._source,
-                                text_align="center", y_offset=4, text_font_size="14px",
-                                text_font_style="bold", text_color=INK))
+        fig.add_layout(
+            LabelSet(
+                x="stage",
+                y="po2",
+                text="label",
+                source=self._source,
+                text_align="center",
+                y_offset=4,
+                text_font_size="14px",
+                text_font_style="bold",
+                text_color=INK,
+            )
+        )
         fig.background_fill_color = "#fbfaf7"
         fig.xgrid.grid_line_color = None
         fig.xaxis.major_label_text_font_size = "13px"
@@ -299,8 +467,9 @@ class CascadePlot(pn.viewable.Viewer):
         d = st.pressure_digits
         self._fig.yaxis.axis_label = f"PO2 ({st.pressure_unit})"
         self._fig.y_range.end = max(max(data["po2"]) * 1.15, 1.0)
-        self._source.data = dict(self._source.data, po2=data["po2"],
-                                 label=[_fmt(v, d) for v in data["po2"]])
+        self._source.data = dict(
+            self._source.data, po2=data["po2"], label=[_fmt(v, d) for v in data["po2"]]
+        )
 
     def __panel__(self):
         return self._layout
@@ -312,22 +481,25 @@ class NumbersTable(pn.viewable.Viewer):
     def __init__(self, state: CaseState, **params):
         super().__init__(**params)
         self._state = state
-        self._pane = pn.pane.HTML("", css_classes=["o2-numbers"], sizing_mode="stretch_width",
-                                  stylesheets=[TABLE_CSS])
-        state.param.watch(self._update, ["result", "baseline", "pressure_unit", "height_cm",
-                                         "weight_kg"])
+        self._pane = pn.pane.HTML(
+            "", css_classes=["o2-numbers"], sizing_mode="stretch_width", stylesheets=[TABLE_CSS]
+        )
+        state.param.watch(
+            self._update, ["result", "baseline", "pressure_unit", "height_cm", "weight_kg"]
+        )
         self._update()
 
     def _update(self, *_events) -> None:
         has_base = self._state.baseline is not None
-        head = ("<tr><th>Quantity</th><th style='text-align:right'>Value</th><th>Unit</th>"
-                "<th>Reference</th><th></th>"
-                f"<th style='text-align:right'>{'Δ vs baseline' if has_base else ''}</th></tr>")
+        head = (
+            "<tr><th>Quantity</th><th style='text-align:right'>Value</th><th>Unit</th>"
+            "<th>Reference</th><th></th>"
+            f"<th style='text-align:right'>{'Δ vs baseline' if has_base else ''}</th></tr>"
+        )
         rows = []
         for r in self._state.readings():
             flag = {"high": "▲ high", "low": "▼ low"}.get(r.flag, "")
-            ref = (f"{_fmt(r.low, r.digits)}–{_fmt(r.high, r.digits)}"
-                   if r.low is not None else "")
+            ref = f"{_fmt(r.low, r.digits)}–{_fmt(r.high, r.digits)}" if r.low is not None else ""
             rows.append(
                 f"<tr class='flag-{r.flag or 'none'}' data-key='{r.key}'>"
                 f"<td>{html.escape(r.label)}</td><td class='val'>{_fmt(r.value, r.digits)}</td>"
@@ -349,49 +521,89 @@ class CaseControls(pn.viewable.Viewer):
         self._state = state
         files = state.scenario_files(scenario_dir) if scenario_dir else state.scenario_files()
         options = {f.stem.replace("_", " "): str(f) for f in files}
-        self._picker = pn.widgets.Select(label="Scenario", options=options,
-                                         css_classes=["o2-scenario"], width=240,
-                                         disabled=not options)
-        self._load = pn.widgets.Button(label="Load", color="primary",
-                                       css_classes=["o2-load"], disabled=not options,
-                                       align="end", width=80)
-        self._keep = pn.widgets.Button(label="Keep as baseline", css_classes=["o2-keep"],
-                                       color="success", align="end", width=150)
-        self._clear = pn.widgets.Button(label="Clear baseline", css_classes=["o2-clear"],
-                                        align="end", width=130)
+        self._picker = pn.widgets.Select(
+            label="Scenario",
+            options=options,
+            css_classes=["o2-scenario"],
+            width=240,
+            disabled=not options,
+        )
+        self._load = pn.widgets.Button(
+            label="Load",
+            color="primary",
+            css_classes=["o2-load"],
+            disabled=not options,
+            align="end",
+            width=80,
+        )
+        self._keep = pn.widgets.Button(
+            label="Keep as baseline",
+            css_classes=["o2-keep"],
+            color="success",
+            align="end",
+            width=150,
+        )
+        self._clear = pn.widgets.Button(
+            label="Clear baseline", css_classes=["o2-clear"], align="end", width=130
+        )
         self._load.on_click(lambda _e: state.load_scenario(self._picker.value))
         self._keep.on_click(lambda _e: state.keep_baseline())
         self._clear.on_click(lambda _e: state.clear_baseline())
         units = pn.Row(
-            pn.widgets.RadioButtonGroup.from_param(state.param.pressure_unit,
-                                                   css_classes=["o2-pressure-unit"], align="end"),
-            pn.widgets.RadioButtonGroup.from_param(state.param.hb_unit,
-                                                   css_classes=["o2-hb-unit"], align="end"),
+            pn.widgets.RadioButtonGroup.from_param(
+                state.param.pressure_unit, css_classes=["o2-pressure-unit"], align="end"
+            ),
+            pn.widgets.RadioButtonGroup.from_param(
+                state.param.hb_unit, css_classes=["o2-hb-unit"], align="end"
+            ),
         )
-        self._status = pn.pane.HTML("", css_classes=["o2-status"], sizing_mode="stretch_width",
-                                    styles={"font-size": "14px"})
-        self._error = pn.pane.HTML("", css_classes=["o2-error"], visible=False,
-                                   sizing_mode="stretch_width",
-                                   styles={"background": "#fdecea", "color": "#7a1414",
-                                           "padding": "4px 10px", "border-radius": "4px",
-                                           "font-size": "14px"})
+        self._status = pn.pane.HTML(
+            "", css_classes=["o2-status"], sizing_mode="stretch_width", styles={"font-size": "14px"}
+        )
+        self._error = pn.pane.HTML(
+            "",
+            css_classes=["o2-error"],
+            visible=False,
+            sizing_mode="stretch_width",
+            styles={
+                "background": "#fdecea",
+                "color": "#7a1414",
+                "padding": "4px 10px",
+                "border-radius": "4px",
+                "font-size": "14px",
+            },
+        )
         state.param.watch(self._update, ["scenario_name", "baseline", "error_message"])
         self._update()
         self._layout = pn.Column(
-            pn.Row(self._picker, self._load, pn.Spacer(width=20), self._keep, self._clear,
-                   pn.Spacer(width=20), units, sizing_mode="stretch_width"),
-            self._status, self._error, sizing_mode="stretch_width",
+            pn.Row(
+                self._picker,
+                self._load,
+                pn.Spacer(width=20),
+                self._keep,
+                self._clear,
+                pn.Spacer(width=20),
+                units,
+                sizing_mode="stretch_width",
+            ),
+            self._status,
+            self._error,
+            sizing_mode="stretch_width",
         )
 
     def _update(self, *_events) -> None:
         st = self._state
         parts = []
         if st.scenario_name:
-            parts.append(f"<b>Case:</b> {html.escape(st.scenario_name)}"
-                         + (f" — {html.escape(st.scenario_description)}"
-                            if st.scenario_description else ""))
-        parts.append("<b>Baseline kept</b>: faint curves and Δ column compare against it."
-                     if st.baseline is not None else "No baseline kept.")
+            parts.append(
+                f"<b>Case:</b> {html.escape(st.scenario_name)}"
+                + (f" — {html.escape(st.scenario_description)}" if st.scenario_description else "")
+            )
+        parts.append(
+            "<b>Baseline kept</b>: faint curves and Δ column compare against it."
+            if st.baseline is not None
+            else "No baseline kept."
+        )
         self._status.object = " &nbsp;·&nbsp; ".join(parts)
         self._error.object = html.escape(st.error_message)
         self._error.visible = bool(st.error_message)
@@ -403,8 +615,14 @@ class CaseControls(pn.viewable.Viewer):
 def caution_pane() -> pn.pane.HTML:
     """The caution shown on every page."""
     return pn.pane.HTML(
-        f"<div>⚠ {html.escape(CAUTION)}</div>", css_classes=["o2-caution"],
+        f"<div>⚠ {html.escape(CAUTION)}</div>",
+        css_classes=["o2-caution"],
         sizing_mode="stretch_width",
-        styles={"background": "#fff6dc", "border-left": "5px solid #b7791f",
-                "padding": "6px 12px", "font-size": "14px", "color": INK},
+        styles={
+            "background": "#fff6dc",
+            "border-left": "5px solid #b7791f",
+            "padding": "6px 12px",
+            "font-size": "14px",
+            "color": INK,
+        },
     )

@@ -13,12 +13,21 @@ from urllib.parse import urlsplit
 
 import panel as pn
 import pytest
+from playwright.sync_api import expect, sync_playwright
 
 from dashboard.app import create_app
 
 CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-ARGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+ARGS = [
+    "--headless=new",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
 ARTIFACTS = Path(__file__).resolve().parent.parent / "artifacts"
 LOCAL_HOSTS = {"127.0.0.1", "localhost"}
 
@@ -27,16 +36,20 @@ if not Path(CHROMIUM).exists():
         pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
     pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
 
-from playwright.sync_api import expect, sync_playwright  # noqa: E402
-
 
 @pytest.fixture(scope="module")
 def server_url():
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
-    server = pn.serve({"o2": create_app}, address="127.0.0.1", port=port, show=False,
-                      threaded=True, websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"])
+    server = pn.serve(
+        {"o2": create_app},
+        address="127.0.0.1",
+        port=port,
+        show=False,
+        threaded=True,
+        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
+    )
     url = f"http://127.0.0.1:{port}/o2"
     deadline = time.monotonic() + 20
     while True:
@@ -128,7 +141,8 @@ def test_scenario_baseline_units_and_refusal(page):
     expect(page.locator(".o2-numbers")).to_contain_text("Δ vs baseline")
     type_into(page, "hb_g_dl", "12")
     expect(page.locator(".o2-numbers tr[data-key=arterial_o2_content] td.delta")).to_have_text(
-        re.compile(r"^−\d"))
+        re.compile(r"^−\d")
+    )
 
     page.locator(".o2-pressure-unit button", has_text="kPa").click()
     expect(page.locator(".o2-numbers tr[data-key=arterial_po2]")).to_contain_text("kPa")
@@ -144,6 +158,8 @@ def test_scenario_baseline_units_and_refusal(page):
     expect(page.locator(".o2-msg-paco2_mmhg")).to_contain_text("kPa")
 
     ARTIFACTS.mkdir(exist_ok=True)
+    page.set_viewport_size({"width": 1500, "height": 1500})
+    expect(page.locator(".o2-cascade")).to_be_visible()
     page.screenshot(path=str(ARTIFACTS / "dashboard.png"), full_page=True)
 
     hosts = {urlsplit(u).hostname for u in page.requests if not u.startswith(("data:", "blob:"))}

@@ -56,7 +56,9 @@ def test_template_builds_document_with_caution():
     doc = Document()
     create_app().server_doc(doc)
     assert doc.roots
-    assert CAUTION.startswith("o2transit is an aid for education and planning, not a medical device.")
+    assert CAUTION.startswith(
+        "o2transit is an aid for education and planning, not a medical device."
+    )
 
 
 def test_loopback_detection():

@@ -137,8 +137,10 @@ def test_every_shipped_scenario_loads(path):
 
 def test_scenario_applies_inputs_and_resets_others(tmp_path: Path):
     f = tmp_path / "climb.toml"
-    f.write_text('name = "Climb"\ndescription = "test"\n[air]\naltitude_m = 4000\n'
-                 'pressure_model = "mountain"\n[blood]\nhb_g_dl = 17.5\n')
+    f.write_text(
+        'name = "Climb"\ndescription = "test"\n[air]\naltitude_m = 4000\n'
+        'pressure_model = "mountain"\n[blood]\nhb_g_dl = 17.5\n'
+    )
     s = CaseState(fio2=0.5, temperature_c=39.0)
     assert s.load_scenario(f), s.error_message
     assert (s.altitude_m, s.pressure_model, s.hb_g_dl) == (4000, "mountain", 17.5)
