@@ -110,10 +110,13 @@ def test_chain_alveolar_equals_equation():
 
 
 def test_chain_transit_time():
-    # Capillary transit time = Vc / Q (Roughton & Forster 1957): 75 mL / (5000/60 mL/s)
-    # = 0.9 s. Exact arithmetic.
-    r = solve_transport(cardiac_output_l_min=5.0, capillary_volume_ml=75.0)
+    # Capillary transit time = Vc / capillary flow (Roughton & Forster 1957), the capillary
+    # flow being the non-shunted part of the cardiac output: 75 mL / (5000/60 mL/s) = 0.9 s
+    # with no shunt, 0.9 / 0.98 with shunt 0.02. Exact arithmetic.
+    r = solve_transport(cardiac_output_l_min=5.0, capillary_volume_ml=75.0, shunt_fraction=0.0)
     assert float(r.capillary_transit_time_s) == pytest.approx(0.9, rel=1e-9)
+    r = solve_transport(cardiac_output_l_min=5.0, capillary_volume_ml=75.0, shunt_fraction=0.02)
+    assert float(r.capillary_transit_time_s) == pytest.approx(0.9 / 0.98, rel=1e-9)
 
 
 def test_chain_no_shunt_equilibrates_at_sea_level():
@@ -135,12 +138,14 @@ def test_chain_summit_diffusion_limited():
     assert gap_top > gap_sea + 1.0
 
 
-@FAST
-@given(qs=st.floats(0.0, 0.6), dqs=st.floats(0.01, 0.2),
-       altitude=st.floats(0.0, 5000.0), fio2=st.floats(0.15, 1.0))
-def test_more_shunt_never_raises_pao2(qs, dqs, altitude, fio2):
+@settings(max_examples=60, deadline=None)
+@given(qs=st.lists(st.floats(0.0, 0.35), min_size=2, max_size=12),
+       altitude=st.floats(0.0, 3000.0), fio2=st.floats(0.21, 1.0))
+def test_more_shunt_never_raises_pao2(qs, altitude, fio2):
     # Berggren 1942 shunt equation: admixing more venous blood cannot raise arterial content
-    # or PO2.
-    a = solve_transport(shunt_fraction=qs, altitude_m=altitude, fio2=fio2)
-    b = solve_transport(shunt_fraction=min(qs + dqs, 0.8), altitude_m=altitude, fio2=fio2)
-    assert float(b.arterial.po2_mmhg) <= float(a.arterial.po2_mmhg) + 1e-6
+    # or PO2. Evaluated as one broadcast call over sorted shunt fractions.
+    q = np.sort(np.array(qs))
+    r = solve_transport(shunt_fraction=q, altitude_m=altitude, fio2=fio2)
+    assert r.arterial.po2_mmhg.shape == q.shape
+    assert np.all(np.diff(r.arterial.po2_mmhg) <= 1e-6)
+    assert np.all(np.diff(r.arterial.o2_content_ml_dl) <= 1e-9)
