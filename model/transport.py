@@ -101,6 +101,39 @@ def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start):
     return p, ph_from_base_excess(be_ox, p, hb, svo2)
 
 
+def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
+    """One pass of the coupled arterial-venous solution on the cases still moving."""
+    ph_a = st["ph_a"]
+    if "base_excess_mmol_l" in f:
+        ph_a = ph_from_base_excess(f["base_excess_mmol_l"], f["paco2"], f["hb"], st["sao2"])
+    art = _curve_kw(ph_a, f["paco2"], f["t"], f.get("dpg_mmol_l"), f["cohb"], f["methb"],
+                    f.get("p50_mmhg"), curve)
+    pc = end_capillary_po2(f["pao2_alv"], st["pv_o2"], f["hb"],
+                           diffusing_capacity_ml_min_mmhg=f["dl"], capillary_volume_ml=f["vc"],
+                           transit_time_s=f["transit"], **content_kw, **art)
+    sc = saturation(pc, **art)
+    cc = oxygen_content(f["hb"], sc, pc, cohb_fraction=f["cohb"], methb_fraction=f["methb"],
+                        **content_kw)
+    cao2 = cc - f["qs"] / (1.0 - f["qs"]) * f["d_av"]
+    cvo2 = cao2 - f["d_av"]
+    if np.any(cvo2 <= 0.0):
+        raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
+                         "output (venous O2 content would be below zero)")
+    pa_o2 = po2_from_content(cao2, f["hb"], **content_kw, **art)
+    sao2 = saturation(pa_o2, **art)
+    be_ox = base_excess(ph_a, f["paco2"], f["hb"], sao2)  # referred to full oxygenation (Zander)
+    caco2 = blood_co2_content(f["paco2"], ph_a, sao2, f["hb"], f["t"])
+    cvco2 = caco2 + f["rq"] * f["d_av"]
+    ven = _curve_kw(st["ph_v"], st["pv_co2"], f["t"], f.get("dpg_mmol_l"), f["cohb"],
+                    f["methb"], f.get("p50_mmhg"), curve)
+    pv_o2 = po2_from_content(cvo2, f["hb"], **content_kw, **ven)
+    svo2 = saturation(pv_o2, **ven)
+    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, f["hb"], f["t"], np.maximum(st["pv_co2"], 1.0))
+    return {"ph_a": ph_a, "pv_o2": pv_o2, "pv_co2": pv_co2, "ph_v": ph_v, "sao2": sao2,
+            "pc": pc, "sc": sc, "cc": cc, "cao2": cao2, "cvo2": cvo2, "pa_o2": pa_o2,
+            "caco2": caco2, "cvco2": cvco2}
+
+
 def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_model="standard",
                     fio2=0.21, paco2_mmhg=40.0, rq=0.8, shunt_fraction=0.02,
                     diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
@@ -221,41 +254,33 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     transit = a["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
     d_av = vo2 / (10.0 * q)  # arteriovenous O2 content difference [mL/dL]
 
-    given_be = a.get("base_excess_mmol_l")
-    ph_a = a["ph"] if "ph" in a else np.full(pb.shape, 7.40)
-    pv_o2 = np.minimum(0.4 * pao2_alv, 40.0)
-    pv_co2 = paco2 + 5.0
-    ph_v = ph_a - 0.03
-    sao2 = np.full(pb.shape, 0.97)
+    shape = pb.shape
+    flat = {k: np.array(v, dtype=float).ravel() for k, v in {
+        "pao2_alv": pao2_alv, "hb": hb, "t": t, "paco2": paco2, "cohb": cohb, "methb": methb,
+        "qs": qs, "d_av": d_av, "transit": transit, "rq": a["rq"],
+        "dl": a["diffusing_capacity_ml_min_mmhg"], "vc": a["capillary_volume_ml"],
+        **{k: a[k] for k in ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg") if k in a},
+    }.items()}
+    fixed = {"curve": curve, "content_kw": content_kw}
+    st = {"ph_a": flat["ph"].copy() if "ph" in flat else np.full(flat["hb"].shape, 7.40),
+          "pv_o2": np.minimum(0.4 * flat["pao2_alv"], 40.0), "pv_co2": flat["paco2"] + 5.0,
+          "sao2": np.full(flat["hb"].shape, 0.97)}
+    st["ph_v"] = st["ph_a"] - 0.03
+    active = np.arange(flat["hb"].size)
     iterations = 0
     for iterations in range(1, max_iterations + 1):
-        if given_be is not None:
-            ph_a = ph_from_base_excess(given_be, paco2, hb, sao2)
-        art = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
-        pc = end_capillary_po2(pao2_alv, pv_o2, hb,
-                               diffusing_capacity_ml_min_mmhg=a["diffusing_capacity_ml_min_mmhg"],
-                               capillary_volume_ml=a["capillary_volume_ml"], transit_time_s=transit,
-                               **content_kw, **art)
-        sc = saturation(pc, **art)
-        cc = oxygen_content(hb, sc, pc, cohb_fraction=cohb, methb_fraction=methb, **content_kw)
-        cao2 = cc - qs / (1.0 - qs) * d_av
-        cvo2 = cao2 - d_av
-        if np.any(cvo2 <= 0.0):
-            raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
-                             "output (venous O2 content would be below zero)")
-        pa_o2 = po2_from_content(cao2, hb, **content_kw, **art)
-        sao2 = saturation(pa_o2, **art)
-        be_ox = base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
-        caco2 = blood_co2_content(paco2, ph_a, sao2, hb, t)
-        cvco2 = caco2 + a["rq"] * d_av
-        ven = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
-        new_pv = po2_from_content(cvo2, hb, **content_kw, **ven)
-        svo2 = saturation(new_pv, **ven)
-        pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(pv_co2, 1.0))
-        change = np.abs(new_pv - pv_o2)
-        pv_o2 = new_pv
-        if np.all(~(change > tol)):
+        sub = {k: v[active] for k, v in flat.items()}
+        new = _iterate(sub, {k: v[active] for k, v in st.items()}, **fixed)
+        change = np.abs(new["pv_o2"] - st["pv_o2"][active])
+        for k, v in new.items():
+            st.setdefault(k, np.full(flat["hb"].shape, np.nan))[active] = v
+        active = active[change > tol]
+        if active.size == 0:
             break
+    st = {k: v.reshape(shape) for k, v in st.items()}
+    ph_a, pa_o2, sao2, cao2, cvo2 = st["ph_a"], st["pa_o2"], st["sao2"], st["cao2"], st["cvo2"]
+    pc, sc, cc, caco2, cvco2 = st["pc"], st["sc"], st["cc"], st["caco2"], st["cvco2"]
+    ph_v, pv_co2 = st["ph_v"], st["pv_co2"]
     ven = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
     pv_o2 = po2_from_content(cvo2, hb, **content_kw, **ven)
     svo2 = saturation(pv_o2, **ven)
