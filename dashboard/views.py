@@ -350,8 +350,9 @@ class CurvePlot(pn.viewable.Viewer):
             "", css_classes=["o2-curve-caption"], styles={"font-size": "13px", "color": "#46545c"}
         )
         self._layout = pn.Column(
-            pn.pane.Bokeh(fig, sizing_mode="stretch_width", css_classes=["o2-curve"]),
+            pn.pane.Bokeh(fig, sizing_mode="stretch_width"),
             self._caption,
+            css_classes=["o2-curve"],
             sizing_mode="stretch_width",
         )
         state.param.watch(self._update, ["result", "baseline", "pressure_unit"])
@@ -457,7 +458,11 @@ class CascadePlot(pn.viewable.Viewer):
         fig.xgrid.grid_line_color = None
         fig.xaxis.major_label_text_font_size = "13px"
         self._fig = fig
-        self._layout = pn.pane.Bokeh(fig, sizing_mode="stretch_width", css_classes=["o2-cascade"])
+        self._layout = pn.Column(
+            pn.pane.Bokeh(fig, sizing_mode="stretch_width"),
+            css_classes=["o2-cascade"],
+            sizing_mode="stretch_width",
+        )
         state.param.watch(self._update, ["result", "pressure_unit"])
         self._update()
 
