@@ -1,0 +1,259 @@
+"""Tests for model.transport.solve_transport: the whole chain, air to venous blood."""
+
+from __future__ import annotations
+
+import dataclasses
+import inspect
+import json
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from model import INPUT_LIMITS, oxygen_content, saturation, solve_transport
+
+FAST = settings(max_examples=60, deadline=None)
+SOLVER_KEYS = set(inspect.signature(solve_transport).parameters)
+
+
+@pytest.fixture(scope="module")
+def rest():
+    return solve_transport()
+
+
+# --- (d) textbook ranges for a healthy adult at rest at sea level ------------------------
+
+
+def test_resting_delivery(rest):
+    # DO2 ~1000 mL/min at rest (Hb 15, Q 5 L/min); +-15 % is common practice, no source.
+    assert 850.0 <= float(rest.do2_ml_min) <= 1150.0
+
+
+def test_resting_venous_point(rest):
+    # Mixed venous SvO2 0.70-0.80, PvO2 35-45 mmHg, O2ER 0.2-0.3 at rest: common textbook
+    # ranges (common practice, no source).
+    assert 0.70 <= float(rest.venous.so2) <= 0.80
+    assert 35.0 <= float(rest.venous.po2_mmhg) <= 45.0
+    assert 0.20 <= float(rest.extraction_ratio) <= 0.30
+
+
+def test_resting_arterial_point(rest):
+    # PaO2 80-100 mmHg, SaO2 0.95-0.99 and A-a gradient below ~15 mmHg in healthy young
+    # adults breathing air at sea level (common practice, no source).
+    assert 80.0 <= float(rest.arterial.po2_mmhg) <= 100.0
+    assert 0.95 <= float(rest.arterial.so2) <= 0.99
+    assert 0.0 <= float(rest.aa_gradient_mmhg) <= 15.0
+
+
+def test_resting_venous_point_regression(rest):
+    # The Fick / Douglas / Zander recipe computed by hand for the same inputs gives SvO2
+    # 0.733, PvO2 39.9, PvCO2 44.91, pHv 7.378 at PaO2 95; our PaO2 comes out of the
+    # chain (~96), so allow 0.01 / 1 mmHg / 0.3 mmHg / 0.003 (regression, not physiology).
+    assert abs(float(rest.venous.so2) - 0.733) <= 0.01
+    assert abs(float(rest.venous.po2_mmhg) - 39.9) <= 1.0
+    assert abs(float(rest.venous.pco2_mmhg) - 44.91) <= 0.3
+    assert abs(float(rest.venous.ph) - 7.378) <= 0.003
+
+
+# --- Fick and content arithmetic -----------------------------------------------------------
+
+
+def test_fick_arithmetic(rest):
+    # Fick principle: VO2 = Q (CaO2 - CvO2) x 10; DO2 = Q CaO2 x 10; O2ER = VO2 / DO2.
+    ca, cv = float(rest.arterial.o2_content_ml_dl), float(rest.venous.o2_content_ml_dl)
+    q = float(rest.cardiac_output_l_min)
+    assert q * (ca - cv) * 10.0 == pytest.approx(float(rest.vo2_ml_min), rel=1e-9)
+    assert float(rest.do2_ml_min) == pytest.approx(q * ca * 10.0, rel=1e-12)
+    assert float(rest.extraction_ratio) == pytest.approx(float(rest.vo2_ml_min / rest.do2_ml_min), rel=1e-9)
+    assert float(rest.o2_extracted_ml_per_l) == pytest.approx(10.0 * (ca - cv), rel=1e-9)
+
+
+def test_contents_consistent_with_curve(rest):
+    for side, cond in ((rest.arterial, rest.arterial_conditions),
+                       (rest.venous, rest.venous_conditions)):
+        s = float(saturation(side.po2_mmhg, **cond))
+        assert s == pytest.approx(float(side.so2), abs=1e-9)
+        c = float(oxygen_content(15.0, side.so2, side.po2_mmhg))
+        assert c == pytest.approx(float(side.o2_content_ml_dl), abs=1e-6)
+
+
+def test_shunt_mixing_by_content(rest):
+    # Berggren 1942: CaO2 = (1 - Qs) CcO2 + Qs CvO2 (blood mixes by content).
+    qs = float(rest.shunt_fraction)
+    mixed = (1 - qs) * float(rest.end_capillary_o2_content_ml_dl) + qs * float(rest.venous.o2_content_ml_dl)
+    assert float(rest.arterial.o2_content_ml_dl) == pytest.approx(mixed, abs=1e-6)
+
+
+def test_venous_shift_gain_definition(rest):
+    # Contract: extra O2 per litre unloaded because the venous curve is right-shifted, at
+    # the venous PO2: 10 k Hb [S_art(PvO2) - S_ven(PvO2)].
+    pv = rest.venous.po2_mmhg
+    ds = float(saturation(pv, **rest.arterial_conditions) - saturation(pv, **rest.venous_conditions))
+    assert float(rest.venous_shift_gain_ml_per_l) == pytest.approx(10 * 1.34 * 15.0 * ds, rel=1e-6)
+    # Venous blood is more acid and hypercapnic, so the shift helps unloading (Bohr effect).
+    assert float(rest.venous_shift_gain_ml_per_l) > 0.0
+    assert float(rest.venous.p50_mmhg) > float(rest.arterial.p50_mmhg)
+
+
+def test_delivery_1000(rest):
+    # DO2 = Q x CaO2 x 10: 5 L/min x 20 mL/dL = 1000 mL/min (arithmetic); here CaO2 ~19.9.
+    assert float(rest.do2_ml_min) == pytest.approx(5.0 * float(rest.arterial.o2_content_ml_dl) * 10)
+    hi = solve_transport(fio2=1.0, shunt_fraction=0.0, hufner_ml_g=1.34)
+    assert abs(float(hi.do2_ml_min) - 1000.0) <= 1000.0 * 0.15
+
+
+# --- result object -------------------------------------------------------------------------
+
+
+def test_result_frozen_and_json_ready(rest):
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        rest.do2_ml_min = 0.0
+    d = rest.to_dict()
+    text = json.dumps(d)
+    back = json.loads(text)
+    assert back["arterial"]["po2_mmhg"] == pytest.approx(float(rest.arterial.po2_mmhg))
+    assert isinstance(d["do2_ml_min"], float)
+    assert isinstance(d["venous"]["so2"], float)
+
+
+def test_scalar_fields_are_0d_arrays(rest):
+    for f in dataclasses.fields(rest):
+        v = getattr(rest, f.name)
+        if isinstance(v, np.ndarray):
+            assert v.shape == (), f.name
+    assert isinstance(rest.arterial.po2_mmhg, np.ndarray) and rest.arterial.po2_mmhg.shape == ()
+
+
+# --- (b) input matrix ----------------------------------------------------------------------
+
+
+def test_array_input_matches_scalars():
+    alt = np.array([0.0, 2000.0, 4000.0])
+    r = solve_transport(altitude_m=alt)
+    assert r.arterial.po2_mmhg.shape == (3,)
+    assert r.venous.so2.shape == (3,)
+    for i, h in enumerate(alt):
+        one = solve_transport(altitude_m=h)
+        assert float(r.arterial.po2_mmhg[i]) == pytest.approx(float(one.arterial.po2_mmhg), abs=1e-4)
+        assert float(r.venous.po2_mmhg[i]) == pytest.approx(float(one.venous.po2_mmhg), abs=1e-4)
+
+
+def test_broadcasting():
+    r = solve_transport(altitude_m=np.array([[0.0], [3000.0]]), fio2=np.array([0.21, 0.3, 0.5]))
+    assert r.arterial.po2_mmhg.shape == (2, 3)
+    assert r.do2_ml_min.shape == (2, 3)
+    one = solve_transport(altitude_m=3000.0, fio2=0.3)
+    assert float(r.arterial.po2_mmhg[1, 1]) == pytest.approx(float(one.arterial.po2_mmhg), abs=1e-4)
+
+
+def test_nan_propagates():
+    r = solve_transport(hb_g_dl=np.array([15.0, np.nan]))
+    assert np.isnan(r.arterial.o2_content_ml_dl[1])
+    assert np.isnan(r.venous.po2_mmhg[1])
+    assert np.isfinite(r.venous.po2_mmhg[0])
+    assert float(r.venous.po2_mmhg[0]) == pytest.approx(float(solve_transport().venous.po2_mmhg), abs=1e-4)
+
+
+_SOLVER_LIMITS = sorted(k for k in INPUT_LIMITS if k in SOLVER_KEYS)
+
+
+def test_limits_cover_solver_inputs():
+    numeric = {"altitude_m", "barometric_pressure_mmhg", "fio2", "paco2_mmhg", "rq",
+               "shunt_fraction", "diffusing_capacity_ml_min_mmhg", "capillary_volume_ml",
+               "hb_g_dl", "temperature_c", "ph", "base_excess_mmol_l", "dpg_mmol_l",
+               "cohb_fraction", "methb_fraction", "p50_mmhg", "cardiac_output_l_min", "vo2_ml_min"}
+    assert numeric <= set(_SOLVER_LIMITS)
+
+
+@pytest.mark.parametrize("name", _SOLVER_LIMITS)
+@pytest.mark.parametrize("side", ["below", "above"])
+def test_out_of_range_names_field(name, side):
+    lo, hi, unit, label = INPUT_LIMITS[name]
+    value = lo - max(abs(lo) * 0.5, 0.5) if side == "below" else hi + max(abs(hi) * 0.5, 0.5)
+    with pytest.raises(ValueError, match=name):
+        solve_transport(**{name: value})
+
+
+@pytest.mark.parametrize("name", ["fio2", "hb_g_dl", "altitude_m"])
+def test_out_of_range_in_array_names_field(name):
+    lo, hi, _, _ = INPUT_LIMITS[name]
+    with pytest.raises(ValueError, match=name):
+        solve_transport(**{name: np.array([lo, hi + 1.0])})
+
+
+def test_unknown_names_raise():
+    with pytest.raises(ValueError, match="curve"):
+        solve_transport(curve="nonsense")
+    with pytest.raises(ValueError, match="pressure_model"):
+        solve_transport(pressure_model="nonsense")
+
+
+def test_both_ph_and_base_excess_raise():
+    with pytest.raises(ValueError, match="ph"):
+        solve_transport(ph=7.4, base_excess_mmol_l=0.0)
+
+
+def test_impossible_cases_raise():
+    # Summit air with normal PaCO2 leaves no alveolar O2 (alveolar gas equation).
+    with pytest.raises(ValueError, match="alveolar"):
+        solve_transport(altitude_m=8848.0, paco2_mmhg=40.0)
+    # VO2 far above delivery: the venous content would be negative (Fick).
+    with pytest.raises(ValueError, match="vo2_ml_min"):
+        solve_transport(vo2_ml_min=3000.0, cardiac_output_l_min=1.0)
+
+
+# --- (c) invariants through the chain ------------------------------------------------------
+
+
+@FAST
+@given(q=st.lists(st.floats(4.0, 15.0), min_size=2, max_size=10),
+       vo2=st.floats(150.0, 300.0), hb=st.floats(10.0, 18.0), altitude=st.floats(0.0, 3000.0))
+def test_more_cardiac_output_never_lowers_svo2(q, vo2, hb, altitude):
+    # Fick: at fixed VO2 more flow means less extraction per litre, so SvO2 cannot fall.
+    # (Domain kept where the delivery can supply the VO2.)
+    qs = np.sort(np.array(q))
+    r = solve_transport(cardiac_output_l_min=qs, vo2_ml_min=vo2, hb_g_dl=hb, altitude_m=altitude)
+    assert np.all(np.diff(r.venous.so2) >= -1e-7)
+
+
+@FAST
+@given(h=st.lists(st.floats(0.0, 5000.0), min_size=2, max_size=10))
+def test_pao2_falls_with_altitude(h):
+    hs = np.unique(np.round(np.array(h)))
+    r = solve_transport(altitude_m=hs)
+    assert np.all(np.diff(r.arterial.po2_mmhg) < 0)
+    assert np.all(np.diff(r.inspired_po2_mmhg) < 0)
+
+
+@FAST
+@given(hb=st.lists(st.floats(6.0, 20.0), min_size=2, max_size=10))
+def test_delivery_rises_with_hb(hb):
+    # DO2 is proportional to Hb at fixed Q and SaO2 (content equation).
+    hs = np.unique(np.round(np.array(hb), 3))
+    r = solve_transport(hb_g_dl=hs)
+    assert np.all(np.diff(r.do2_ml_min) > 0)
+
+
+def test_fetal_p50_raises_sao2_at_altitude():
+    # A left-shifted curve (P50 20, fetal blood; from memory) loads more O2 at a low PAO2.
+    base = solve_transport(altitude_m=5000.0, paco2_mmhg=25.0)
+    left = solve_transport(altitude_m=5000.0, paco2_mmhg=25.0, p50_mmhg=20.0)
+    assert float(left.arterial.so2) > float(base.arterial.so2)
+
+
+def test_carbon_monoxide_lowers_content_and_pvo2():
+    # COHb removes O2 capacity and left-shifts the curve: less CaO2 and lower PvO2 at the
+    # same VO2 (Haldane's first law; Roughton & Darling 1944, from memory).
+    base = solve_transport()
+    co = solve_transport(cohb_fraction=0.25)
+    assert float(co.arterial.o2_content_ml_dl) < float(base.arterial.o2_content_ml_dl)
+    assert float(co.venous.po2_mmhg) < float(base.venous.po2_mmhg)
+
+
+def test_vo2_temperature_scaling():
+    # Fever raises VO2 about 10-13 % per degC (common practice, from memory); the model
+    # documents 1.10 per degC. Only the direction and rough size are checked.
+    r = solve_transport(temperature_c=39.0, vo2_temperature_scaling=True)
+    assert 250.0 * 1.15 <= float(r.vo2_ml_min) <= 250.0 * 1.30
+    assert float(solve_transport(temperature_c=39.0).vo2_ml_min) == pytest.approx(250.0)
