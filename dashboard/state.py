@@ -9,6 +9,7 @@ Everything the views show is read from here, already in the chosen display units
 from __future__ import annotations
 
 import dataclasses
+import inspect
 from pathlib import Path
 
 import numpy as np
@@ -655,6 +656,15 @@ class CaseState(param.Parameterized):
             "extracted_ml_per_l": float(result.o2_extracted_ml_per_l),
             "shift_gain_ml_per_l": float(result.venous_shift_gain_ml_per_l),
         }
+
+    def standard_conditions_text(self) -> str:
+        """The model's standard state (its saturation() defaults) in display units."""
+        defaults = {k: v.default for k, v in inspect.signature(model.saturation).parameters.items()}
+        pco2 = self.pressure_to_display(defaults["pco2_mmhg"])
+        return (
+            f"pH {defaults['ph']:.2f}, PCO2 {pco2:.{self.pressure_digits}f} "
+            f"{self.pressure_unit}, {defaults['temperature_c']:g} °C"
+        )
 
     def x_max_display(self) -> float:
         return self.pressure_to_display(float(PO2_GRID_MMHG[-1]))

@@ -11,6 +11,7 @@ import html
 from pathlib import Path
 
 import panel as pn
+from bokeh.core.properties import value as fixed_value
 from bokeh.models import ColumnDataSource, FactorRange, LabelSet, Range1d
 from bokeh.plotting import figure
 
@@ -251,14 +252,14 @@ class CurvePlot(pn.viewable.Viewer):
         fig.yaxis.axis_label = "SO2 (%)"
         fig.background_fill_color = "#fbfaf7"
         fig.grid.grid_line_color = "#ebe7df"
-        fig.line(
+        self._standard_line = fig.line(
             "x",
             "standard",
             source=self._now,
             color=REFERENCE,
             line_width=1.5,
             line_dash="dotted",
-            legend_label="standard (pH 7.40, PCO2 40, 37 °C)",
+            legend_label="standard state",
         )
         fig.line("x", "arterial", source=self._base, color=ARTERIAL, line_width=2, alpha=0.25)
         fig.line("x", "venous", source=self._base, color=VENOUS, line_width=2, alpha=0.25)
@@ -365,6 +366,9 @@ class CurvePlot(pn.viewable.Viewer):
             return
         unit = st.pressure_unit
         self._fig.xaxis.axis_label = f"PO2 ({unit})"
+        for item in self._fig.legend.items:
+            if self._standard_line in item.renderers:
+                item.label = fixed_value(f"standard ({st.standard_conditions_text()})")
         self._fig.x_range.end = st.x_max_display()
         self._now.data = {k: view[k] for k in ("x", "arterial", "venous", "standard")}
         (xa, ya), (xv, yv) = view["loading"], view["unloading"]

@@ -80,6 +80,7 @@ def page(browser, server_url):
     errors, requests = [], []
     pg.on("pageerror", lambda e: errors.append(str(e)))
     pg.on("request", lambda r: requests.append(r.url))
+    pg.on("websocket", lambda ws: requests.append(ws.url))
     pg.requests = requests
     pg.goto(server_url)
     expect(pg.locator(".o2-numbers")).to_contain_text("PaO2", timeout=15000)
@@ -162,5 +163,6 @@ def test_scenario_baseline_units_and_refusal(page):
     expect(page.locator(".o2-cascade")).to_be_visible()
     page.screenshot(path=str(ARTIFACTS / "dashboard.png"), full_page=True)
 
+    assert any(u.startswith("ws://") for u in page.requests), "websocket not recorded"
     hosts = {urlsplit(u).hostname for u in page.requests if not u.startswith(("data:", "blob:"))}
     assert hosts <= LOCAL_HOSTS, hosts

@@ -50,6 +50,9 @@ def test_curve_plot_sources_follow_state():
     state.keep_baseline()
     assert len(plot._base.data["x"]) == len(plot._now.data["x"])
     assert "extracted per L" in plot._note.data["text"][0]
+    state.pressure_unit = "kPa"
+    labels = [item.label.value for item in plot._fig.legend.items]
+    assert any("PCO2 5.3 kPa" in label for label in labels), labels
 
 
 def test_template_builds_document_with_caution():
