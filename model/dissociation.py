@@ -152,10 +152,11 @@ def _sa_a_b(c):
 
 def _total(name, p, c, shift):
     """Total-ligand saturation of the curve at pressure p [mmHg] (no CO handling)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         if name == "severinghaus1979":
             x = p * np.exp(-shift)
-            return 1.0 / (23400.0 / (x**3 + 150.0 * x) + 1.0)
+            cubic = x * (x * x + 150.0)
+            return cubic / (cubic + 23400.0)  # Eq 1 of [1], rearranged
         if name == "hill1910":
             x = p * np.exp(-shift) / STANDARD_P50_MMHG["hill1910"]
             xn = x**HILL_N
@@ -177,7 +178,7 @@ def _total_inverse(name, s, c, shift):
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         if name == "severinghaus1979":
             # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1)
-            bb = 11700.0 / (1.0 / s - 1.0)
+            bb = 11700.0 * s / (1.0 - s)
             root = np.sqrt(bb**2 + 50.0**3)
             x = np.cbrt(bb + root) - np.cbrt(root - bb)
             return x * np.exp(shift)
@@ -216,8 +217,11 @@ def _total_inverse(name, s, c, shift):
 
 
 def _broadcast(first, c):
-    arrays = np.broadcast_arrays(np.asarray(first, dtype=float), *c.values())
-    return arrays[0], dict(zip(c.keys(), arrays[1:]))
+    """Broadcast the first argument to the joint shape; conditions keep their own shapes
+    (they broadcast inside the arithmetic, so scalar conditions cost nothing per point)."""
+    first = np.asarray(first, dtype=float)
+    shape = np.broadcast_shapes(first.shape, *(v.shape for v in c.values()))
+    return (first if first.shape == shape else np.broadcast_to(first, shape)), c
 
 
 def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
