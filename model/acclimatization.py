@@ -333,9 +333,9 @@ def equivalent_altitude(altitude_m, fio2, *, pressure_model="standard", air_fio2
 
     Examples
     --------
-    >>> round(float(equivalent_altitude(5000.0, 0.25, pressure_model="mountain")))
+    >>> int(equivalent_altitude(5000.0, 0.25, pressure_model="mountain"))
     3717
-    >>> round(float(equivalent_altitude(5000.0, 0.25)))
+    >>> int(equivalent_altitude(5000.0, 0.25))
     3793
     """
     h = np.asarray(altitude_m, dtype=float)
