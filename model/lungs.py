@@ -106,9 +106,12 @@ def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
     def beta(x):
         return (hufner_ml_g * hb * carrying * curve.slope(x) + o2_solubility_ml_dl_mmhg) / 100.0
 
+    b = beta(p)
     for _ in range(steps):
-        trial = pa - (pa - p) * np.exp(-k * dt / beta(p))
-        p = pa - (pa - p) * np.exp(-k * dt / beta(0.5 * (p + trial)))
+        # predictor with the previous midpoint's beta, corrector at the new midpoint
+        trial = pa - (pa - p) * np.exp(-k * dt / b)
+        b = beta(0.5 * (p + trial))
+        p = pa - (pa - p) * np.exp(-k * dt / b)
     return p
 
 
