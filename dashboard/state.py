@@ -464,6 +464,17 @@ class CaseState(param.Parameterized):
     def scenario_files(self, directory: Path | str = SCENARIO_DIR) -> list[Path]:
         return sorted(Path(directory).glob("*.toml"))
 
+    def scenario_choices(self, directory: Path | str = SCENARIO_DIR) -> dict[str, str]:
+        """Scenario name -> file path, for a picker; unreadable files are marked, not hidden."""
+        choices = {}
+        for path in self.scenario_files(directory):
+            try:
+                label = model.load_scenario(path).name
+            except (ValueError, OSError):
+                label = f"{path.stem} (cannot be read)"
+            choices[label if label not in choices else f"{label} ({path.stem})"] = str(path)
+        return choices
+
     def load_scenario(self, path: Path | str) -> bool:
         """Apply a scenario's inputs all-or-nothing; False (and error_message) if refused.
 

@@ -528,8 +528,7 @@ class CaseControls(pn.viewable.Viewer):
     def __init__(self, state: CaseState, scenario_dir: Path | str | None = None, **params):
         super().__init__(**params)
         self._state = state
-        files = state.scenario_files(scenario_dir) if scenario_dir else state.scenario_files()
-        options = {f.stem.replace("_", " "): str(f) for f in files}
+        options = state.scenario_choices(scenario_dir) if scenario_dir else state.scenario_choices()
         self._picker = pn.widgets.Select(
             label="Scenario",
             options=options,

@@ -132,7 +132,7 @@ def test_widgets_move_numbers_the_right_way(page):
 
 
 def test_scenario_baseline_units_and_refusal(page):
-    page.locator(".o2-scenario select").select_option(label="trekker-5000m")
+    page.locator(".o2-scenario select").select_option(label="Acclimatising trekker at 5000 m")
     page.locator(".o2-load button").click()
     expect(page.locator(".o2-status")).to_contain_text("Acclimatising trekker")
     expect(page.locator(".o2-in-altitude_m input")).to_have_value(re.compile(r"^5000(\.0)?$"))
@@ -149,6 +149,12 @@ def test_scenario_baseline_units_and_refusal(page):
     expect(page.locator(".o2-numbers tr[data-key=arterial_po2]")).to_contain_text("kPa")
     expect(page.locator(".o2-in-paco2_mmhg")).to_contain_text("PaCO2 (kPa)")
     assert value(page, "arterial_po2") < 15  # a PaO2 near 5000 m in kPa, not mmHg
+
+    page.locator(".o2-hb-unit button", has_text="g/L").first.click()
+    expect(page.locator(".o2-in-hb_g_dl")).to_contain_text("Hb (g/L)")
+    expect(page.locator(".o2-in-hb_g_dl input")).to_have_value(re.compile(r"^120(\.0)?$"))
+    page.locator(".o2-hb-unit button", has_text="g/dL").click()
+    expect(page.locator(".o2-in-hb_g_dl")).to_contain_text("Hb (g/dL)")
 
     type_into(page, "hb_g_dl", "99")
     msg = page.locator(".o2-msg-hb_g_dl")

@@ -165,3 +165,11 @@ def test_case_the_model_refuses_puts_input_back():
     assert not s.set_input("vo2_ml_min", 4000.0)
     assert s.vo2_ml_min == 250.0 and s.result is result
     assert "VO2 = 4000 not applied" in s.error_message
+
+
+def test_scenario_choices_use_names_and_mark_bad_files(tmp_path: Path):
+    (tmp_path / "a.toml").write_text('name = "Case A"\n[air]\naltitude_m = 100\n')
+    (tmp_path / "b.toml").write_text("this is not toml [")
+    choices = CaseState().scenario_choices(tmp_path)
+    assert choices["Case A"] == str(tmp_path / "a.toml")
+    assert choices["b (cannot be read)"] == str(tmp_path / "b.toml")
