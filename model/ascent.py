@@ -1,0 +1,575 @@
+"""Ascent schedules: day-by-day acclimatization, the O2 chain each night and high point,
+ascent-rate guidance checks and a summary for comparing schedules.
+
+A schedule (``scenarios/ascents/*.toml``) is a person's sea-level baseline and one entry per
+day: the sleeping altitude, optionally the highest altitude reached that day and the FiO2
+breathed (or a nasal-cannula O2 flow). :func:`run_ascent` steps the acclimatization state of
+:mod:`model.acclimatization` night by night and solves the whole chain
+(:func:`model.solve_transport`) for all nights and high points in one vectorised call.
+"""
+
+from __future__ import annotations
+
+import csv
+import dataclasses
+import io
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .acclimatization import (
+    acclimatization_step,
+    acute_paco2,
+    baseline_state,
+    cardiac_output,
+    equivalent_altitude,
+    fio2_from_flow,
+    ph_henderson_hasselbalch,
+)
+from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2
+from .limits import INPUT_LIMITS
+from .scenario import ScenarioError
+from .transport import solve_transport
+
+GUIDANCE_ALTITUDE_M = 3000.0
+"""Sleeping altitude above which the ascent-rate rules apply [m] (Luks et al. 2019/2024)."""
+MAX_GAIN_M = 500.0
+"""Largest allowed rise in sleeping altitude in one day above 3000 m [m]; exactly 500 passes."""
+MAX_GAIN_DAYS_IN_A_ROW = 3
+"""Days of gain in a row above 3000 m before a day without gain is due (the 4th day)."""
+EXTRA_DAY_PER_M = 1000.0
+"""One extra (no-gain) day per this much sleeping altitude gained above 3000 m [m]."""
+SATURATION_THRESHOLDS = (0.90, 0.80)
+"""Night SaO2 thresholds counted in the summary [-]; 0.90 is also the burden threshold."""
+
+_REFERENCES = """
+    References
+    ----------
+    1. Luks AM, Auerbach PS, Freer L, et al. Wilderness Medical Society clinical practice
+       guidelines for the prevention and treatment of acute altitude illness: 2019 update.
+       Wilderness Environ Med 2019; 30(4S):S3-S18.
+    2. Luks AM, Beidleman BA, Freer L, et al. Wilderness Medical Society clinical practice
+       guidelines for the prevention, diagnosis, and treatment of acute altitude illness:
+       2024 update. Wilderness Environ Med 2024; 35(1S):2S-19S.
+"""
+
+_BASELINE_KEYS = ("hb_g_dl", "paco2_mmhg", "cardiac_output_l_min", "vo2_ml_min")
+_AGE_RANGE = (1.0, 110.0)
+_FLOW_RANGE = (0.0, 15.0)
+_MAX_DAYS = 400
+CSV_COLUMNS = ("day", "sleep_altitude_m", "high_altitude_m", "fio2")
+
+
+class AscentError(ScenarioError):
+    """An ascent file that cannot be used; the message says where and why."""
+
+
+@dataclass(frozen=True)
+class Baseline:
+    """The person at sea level before the trip (same key names as the scenario files).
+
+    ``age_years`` is kept with the schedule for the record; the model does not use it yet.
+    """
+
+    hb_g_dl: float = 15.0
+    paco2_mmhg: float = 40.0
+    cardiac_output_l_min: float = 5.0
+    vo2_ml_min: float = 250.0
+    age_years: float | None = None
+    pressure_model: str = "mountain"
+
+
+@dataclass(frozen=True)
+class AscentDay:
+    """One day: where the night is spent, the day's high point, the FiO2 breathed.
+
+    ``high_altitude_m`` None means the day's high point is the sleeping altitude. ``fio2``
+    applies to the night and to the high point.
+    """
+
+    sleep_altitude_m: float
+    high_altitude_m: float | None = None
+    fio2: float = 0.21
+
+
+@dataclass(frozen=True)
+class AscentProfile:
+    """A named schedule of days for one person."""
+
+    name: str
+    days: tuple[AscentDay, ...]
+    baseline: Baseline = field(default_factory=Baseline)
+    description: str = ""
+    path: str = ""
+
+
+@dataclass(frozen=True)
+class AscentResult:
+    """Day-by-day results of :func:`run_ascent`; arrays have one entry per day.
+
+    ``night`` and ``high`` are :class:`model.TransportResult` for the nights and the high
+    points; ``flags`` one list of plain-language notes per day; ``summary`` a dict.
+    """
+
+    profile: AscentProfile
+    sleep_altitude_m: np.ndarray
+    high_altitude_m: np.ndarray
+    fio2: np.ndarray
+    equivalent_altitude_m: np.ndarray
+    night: object
+    high: object
+    dpg_mmol_l: np.ndarray
+    hco3_mmol_l: np.ndarray
+    flags: list
+    summary: dict
+
+    def to_dict(self) -> dict:
+        """JSON-ready record: ``name``, ``days`` (one dict per day) and ``summary``."""
+        n, h = self.night, self.high
+        days = []
+        for i in range(self.sleep_altitude_m.size):
+            days.append({
+                "day": i + 1,
+                "sleep_altitude_m": float(self.sleep_altitude_m[i]),
+                "high_altitude_m": float(self.high_altitude_m[i]),
+                "fio2": float(self.fio2[i]),
+                "equivalent_altitude_m": float(self.equivalent_altitude_m[i]),
+                "barometric_pressure_mmhg": float(n.barometric_pressure_mmhg[i]),
+                "inspired_po2_mmhg": float(n.inspired_po2_mmhg[i]),
+                "paco2_mmhg": float(n.arterial.pco2_mmhg[i]),
+                "ph": float(n.arterial.ph[i]),
+                "pao2_mmhg": float(n.arterial.po2_mmhg[i]),
+                "alveolar_po2_mmhg": float(n.alveolar_po2_mmhg[i]),
+                "sao2": float(n.arterial.so2[i]),
+                "hb_g_dl": float(n.hb_g_dl[i]),
+                "cao2_ml_dl": float(n.arterial.o2_content_ml_dl[i]),
+                "do2_ml_min": float(n.do2_ml_min[i]),
+                "pvo2_mmhg": float(n.venous.po2_mmhg[i]),
+                "svo2": float(n.venous.so2[i]),
+                "dpg_mmol_l": float(self.dpg_mmol_l[i]),
+                "high_point": {
+                    "barometric_pressure_mmhg": float(h.barometric_pressure_mmhg[i]),
+                    "paco2_mmhg": float(h.arterial.pco2_mmhg[i]),
+                    "pao2_mmhg": float(h.arterial.po2_mmhg[i]),
+                    "sao2": float(h.arterial.so2[i]),
+                    "cao2_ml_dl": float(h.arterial.o2_content_ml_dl[i]),
+                    "do2_ml_min": float(h.do2_ml_min[i]),
+                    "pvo2_mmhg": float(h.venous.po2_mmhg[i]),
+                },
+                "flags": list(self.flags[i]),
+            })
+        return {"name": self.profile.name, "file": self.profile.path, "days": days,
+                "summary": dict(self.summary)}
+
+
+def _number(fail, label, raw, lo, hi, unit):
+    if isinstance(raw, bool) or not isinstance(raw, (int, float)):
+        fail(f"{label} = {raw!r} must be a number")
+    if not lo <= float(raw) <= hi:
+        fail(f"{label} = {raw!r} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip())
+    return float(raw)
+
+
+def _day_from_mapping(entry, label, fail) -> AscentDay:
+    if not isinstance(entry, dict):
+        fail(f"{label} must be a table [[day]]")
+    allowed = ("sleep_altitude_m", "high_altitude_m", "fio2", "o2_flow_l_min")
+    for key in entry:
+        if key not in allowed:
+            fail(f"{label} unknown key {key!r}; allowed: {', '.join(allowed)}")
+    if "sleep_altitude_m" not in entry:
+        fail(f"{label} sleep_altitude_m is missing (sleeping altitude, m)")
+    lo, hi, unit, _ = INPUT_LIMITS["altitude_m"]
+    sleep = _number(fail, f"{label} sleep_altitude_m", entry["sleep_altitude_m"], lo, hi, unit)
+    high = None
+    if "high_altitude_m" in entry:
+        high = _number(fail, f"{label} high_altitude_m", entry["high_altitude_m"], lo, hi, unit)
+        if high < sleep:
+            fail(f"{label} high_altitude_m = {entry['high_altitude_m']!r} is below the sleeping "
+                 f"altitude {sleep:g} m; the allowed range is {sleep:g}-{hi:g} m")
+    if "fio2" in entry and "o2_flow_l_min" in entry:
+        fail(f"{label} fio2 and o2_flow_l_min are both given; keep one")
+    fio2 = 0.21
+    if "fio2" in entry:
+        fio2 = _number(fail, f"{label} fio2", entry["fio2"], 0.21, 1.0, "")
+    if "o2_flow_l_min" in entry:
+        flow = _number(fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE,
+                       "L/min")
+        fio2 = float(fio2_from_flow(flow))
+    return AscentDay(sleep, high, fio2)
+
+
+def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
+    """Validate a parsed ascent mapping (as from TOML) and build an :class:`AscentProfile`.
+
+    Raises
+    ------
+    AscentError
+        Unknown key, wrong type, value out of range (naming file, key, value, range and
+        unit), no days, or a high point below the night's altitude.
+
+    Examples
+    --------
+    >>> p = ascent_from_mapping({"name": "x", "day": [{"sleep_altitude_m": 2800},
+    ...                                             {"sleep_altitude_m": 3300, "o2_flow_l_min": 1}]})
+    >>> len(p.days), p.days[1].fio2
+    (2, 0.25)
+    """
+    def fail(msg):
+        raise AscentError(f"{where}: {msg}")
+
+    for key in data:
+        if key not in ("name", "description", "baseline", "day"):
+            fail(f"unknown key {key!r}; allowed: name, description, [baseline], [[day]]")
+    for key in ("name", "description"):
+        if key in data and not isinstance(data[key], str):
+            fail(f"{key} = {data[key]!r} must be text")
+    raw = data.get("baseline", {})
+    if not isinstance(raw, dict):
+        fail("baseline must be a table [baseline]")
+    base: dict = {}
+    for key, value in raw.items():
+        if key in _BASELINE_KEYS:
+            lo, hi, unit, _ = INPUT_LIMITS[key]
+            base[key] = _number(fail, f"[baseline] {key}", value, lo, hi, unit)
+        elif key == "age_years":
+            base[key] = _number(fail, "[baseline] age_years", value, *_AGE_RANGE, "years")
+        elif key == "pressure_model":
+            if value not in PRESSURE_MODELS:
+                fail(f"[baseline] pressure_model = {value!r} is not one of "
+                     f"{', '.join(PRESSURE_MODELS)}")
+            base[key] = value
+        else:
+            fail(f"[baseline] unknown key {key!r}; allowed: "
+                 f"{', '.join(_BASELINE_KEYS + ('age_years', 'pressure_model'))}")
+    entries = data.get("day", [])
+    if not isinstance(entries, list) or not entries:
+        fail("no days: give one [[day]] table per day with sleep_altitude_m")
+    if len(entries) > _MAX_DAYS:
+        fail(f"{len(entries)} days is outside the allowed range 1-{_MAX_DAYS} days")
+    days = tuple(_day_from_mapping(e, f"[[day]] {i + 1}", fail) for i, e in enumerate(entries))
+    return AscentProfile(name=data.get("name") or where, days=days, baseline=Baseline(**base),
+                         description=data.get("description", ""), path=where)
+
+
+def load_ascent(path) -> AscentProfile:
+    """Read and validate one ascent file (``scenarios/ascents/*.toml``).
+
+    Raises
+    ------
+    AscentError
+        Unreadable file, TOML syntax error, or any problem of :func:`ascent_from_mapping`.
+    """
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise AscentError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise AscentError(f"{p}: not valid TOML ({exc})") from None
+    return ascent_from_mapping(data, str(p))
+
+
+def days_from_csv(text: str, where: str = "<csv>") -> tuple[AscentDay, ...]:
+    """Days from CSV text with the columns ``day,sleep_altitude_m,high_altitude_m,fio2``.
+
+    ``high_altitude_m`` and ``fio2`` may be empty; ``day`` must count 1, 2, 3... in order.
+
+    Examples
+    --------
+    >>> days_from_csv("day,sleep_altitude_m,high_altitude_m,fio2\\n1,2800,,\\n")
+    (AscentDay(sleep_altitude_m=2800.0, high_altitude_m=None, fio2=0.21),)
+    """
+    def fail(msg):
+        raise AscentError(f"{where}: {msg}")
+
+    reader = csv.DictReader(io.StringIO(text))
+    if reader.fieldnames is None or tuple(c.strip() for c in reader.fieldnames) != CSV_COLUMNS:
+        fail(f"the header must be {','.join(CSV_COLUMNS)} (found {reader.fieldnames})")
+    entries = []
+    for i, row in enumerate(reader):
+        row = {k.strip(): (v or "").strip() for k, v in row.items() if k is not None}
+        label = f"row {i + 1}"
+        if row["day"] != str(i + 1):
+            fail(f"{label} day = {row['day']!r} must be {i + 1} (days count 1, 2, 3... in order)")
+        entry = {}
+        for key in CSV_COLUMNS[1:]:
+            if row[key] == "":
+                continue
+            try:
+                entry[key] = float(row[key])
+            except ValueError:
+                fail(f"{label} {key} = {row[key]!r} must be a number")
+        entries.append(entry)
+    if not entries:
+        fail("no days after the header")
+    return tuple(_day_from_mapping(e, f"row {i + 1}", fail) for i, e in enumerate(entries))
+
+
+def days_to_csv(days) -> str:
+    """CSV text of days with the columns ``day,sleep_altitude_m,high_altitude_m,fio2``.
+
+    Examples
+    --------
+    >>> print(days_to_csv([AscentDay(2800.0, 3100.0)]).strip())
+    day,sleep_altitude_m,high_altitude_m,fio2
+    1,2800,3100,0.21
+    """
+    out = io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
+    for i, d in enumerate(days):
+        high = "" if d.high_altitude_m is None else f"{d.high_altitude_m:g}"
+        w.writerow([i + 1, f"{d.sleep_altitude_m:g}", high, f"{d.fio2:g}"])
+    return out.getvalue()
+
+
+def read_days_csv(path) -> tuple[AscentDay, ...]:
+    """Read days from a CSV file (see :func:`days_from_csv`)."""
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8-sig")
+    except OSError as exc:
+        raise AscentError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
+    return days_from_csv(text, str(p))
+
+
+def guidance_flags(sleep_altitude_m) -> list[list[str]]:
+    """Per-day notes where a schedule breaks the published ascent-rate guidance.
+
+    Two rules of the Wilderness Medical Society consensus guidelines [1, 2], worded by us:
+
+    1. Above 3000 m, sleeping altitude should rise by no more than about 500 m a day. We
+       flag a day whose night is above 3000 m and more than 500 m above the previous night;
+       exactly 500 m passes (the 2024 table puts "<= 500 m/day" in the low-risk column).
+    2. A rest day (no gain in sleeping altitude) every 3-4 days. We take the longer end:
+       once nights are above 3000 m, the 4th gain in a row is flagged (and the 5th, ...).
+       A night at the same altitude or lower is a rest day and restarts the count.
+
+    The first day has no previous night in the schedule, so its rise is judged by the risk
+    category (:func:`risk_category`), not here.
+
+    Parameters
+    ----------
+    sleep_altitude_m : array_like
+        Sleeping altitude of each day [m].
+
+    Returns
+    -------
+    list of list of str
+        One list per day, empty when the day keeps to both rules.
+    {refs}
+    Examples
+    --------
+    >>> guidance_flags([2800, 3400, 3900, 4400, 4900])[1]
+    ['sleeping altitude rose 600 m to 3400 m in one day; above 3000 m the guideline keeps the rise to 500 m']
+    >>> guidance_flags([2800, 3300, 3800, 4300, 4800])[4]
+    ['4th night in a row higher than the one before above 3000 m; the guideline asks for a night without gain every 3 to 4 days']
+    """
+    h = np.asarray(sleep_altitude_m, dtype=float).ravel()
+    flags: list[list[str]] = [[] for _ in h]
+    run = 0
+    for i in range(1, h.size):
+        gain = h[i] - h[i - 1]
+        above = h[i] > GUIDANCE_ALTITUDE_M
+        if not above or gain <= 0.0:
+            run = 0
+            continue
+        run += 1
+        if gain > MAX_GAIN_M:
+            flags[i].append(f"sleeping altitude rose {gain:.0f} m to {h[i]:.0f} m in one day; "
+                            f"above {GUIDANCE_ALTITUDE_M:.0f} m the guideline keeps the rise to "
+                            f"{MAX_GAIN_M:.0f} m")
+        if run > MAX_GAIN_DAYS_IN_A_ROW:
+            flags[i].append(f"{_ordinal(run)} night in a row higher than the one before above "
+                            f"{GUIDANCE_ALTITUDE_M:.0f} m; the guideline asks for a night "
+                            "without gain every 3 to 4 days")
+    return flags
+
+
+def _ordinal(n: int) -> str:
+    suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
+    return f"{n}{suffix}"
+
+
+def risk_category(sleep_altitude_m) -> tuple[str, list[str]]:
+    """Risk category of a whole schedule ("low", "moderate", "high") and the reasons.
+
+    The 2024 risk table [2], farthest-right column hit, for a person with no history of
+    altitude illness (not in the file) starting below 1200 m:
+
+    * first night (day 1 of the schedule): below 2800 m low, 2800-3500 m moderate, above
+      3500 m high;
+    * ascent rate above 3000 m: every rise <= 500 m a day and an extra day without gain for
+      every 1000 m gained above 3000 m -> low; a rise > 500 m with the extra days ->
+      moderate; a rise > 500 m without them -> high. Our choices where the table is silent:
+      exactly 500 m counts as low; rises <= 500 m without the extra days -> moderate. The
+      extra days are counted as nights above 3000 m without gain; each must come before the
+      schedule climbs on past the next 1000 m step.
+    {refs}
+    Examples
+    --------
+    >>> risk_category([3000])[0], risk_category([3600])[0]
+    ('moderate', 'high')
+    >>> risk_category([2500, 2900, 3300, 3700, 3700, 4100, 4500, 4500])[0]
+    'low'
+    """
+    h = np.asarray(sleep_altitude_m, dtype=float).ravel()
+    order = {"low": 0, "moderate": 1, "high": 2}
+    cat, reasons = "low", []
+    first = h[0]
+    if first > 3500.0:
+        cat = "high"
+        reasons.append(f"first night at {first:.0f} m, above 3500 m")
+    elif first >= 2800.0:
+        cat = "moderate"
+        reasons.append(f"first night at {first:.0f} m, between 2800 and 3500 m")
+    big = any(h[i] > GUIDANCE_ALTITUDE_M and h[i] - h[i - 1] > MAX_GAIN_M
+              for i in range(1, h.size))
+    gained, rests, short = 0.0, 0, False
+    for i in range(1, h.size):
+        if h[i] > GUIDANCE_ALTITUDE_M and h[i] <= h[i - 1]:
+            rests += 1
+            continue
+        step = max(0.0, h[i] - max(h[i - 1], GUIDANCE_ALTITUDE_M))
+        if step > 0.0 and rests < int(gained // EXTRA_DAY_PER_M):
+            short = True
+        gained += step
+    rate = "low"
+    if big:
+        rate = "high" if short else "moderate"
+        reasons.append("sleeping altitude rises more than 500 m in a day above 3000 m"
+                       + (" without an extra day per 1000 m" if short
+                          else ", with an extra day per 1000 m"))
+    elif short:
+        rate = "moderate"
+        reasons.append("no extra day without gain for each 1000 m above 3000 m")
+    if order[rate] > order[cat]:
+        cat = rate
+    return cat, reasons
+
+
+guidance_flags.__doc__ = guidance_flags.__doc__.replace("{refs}", _REFERENCES)
+risk_category.__doc__ = risk_category.__doc__.replace("{refs}", _REFERENCES)
+
+
+def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
+    """Acclimatization and the whole O2 chain for every night and high point of a schedule.
+
+    Night ``d``: the acclimatization state is stepped once at the night's inspired PO2 (with
+    any supplemental O2) and its equivalent altitude on air (plasma volume, Hb mass, cardiac
+    output), from a lowlander's sea-level state before day 1; the chain is solved at rest
+    with that state's PaCO2, pH, 2,3-DPG, Hb and cardiac output. High point of day ``d``:
+    the morning's state (after night ``d - 1``) with the acute ventilatory response to the
+    higher altitude on top (``PaCO2 = P_acute(x_high) + s``, acute buffering of HCO3) and
+    the cardiac output of a fresh gain; also at rest. VO2 stays at the baseline value.
+
+    Parameters
+    ----------
+    profile : AscentProfile
+    **transport_kw
+        Passed to :func:`model.solve_transport` (e.g. ``shunt_fraction``, ``curve``).
+
+    Returns
+    -------
+    AscentResult
+        With ``summary``: ``lowest_night_sao2`` [-], ``nights_below_0_90`` and
+        ``nights_below_0_80``, ``hypoxic_burden_saturation_days`` (sum over nights of
+        ``max(0, 0.90 - SaO2)`` times one day [saturation-days]), ``days_to_top`` (first day
+        whose high point reaches the schedule's highest altitude), ``top_altitude_m``,
+        ``highest_sleep_altitude_m``, ``flag_count``, ``risk_category``, ``risk_reasons``.
+
+    Raises
+    ------
+    ValueError
+        When the chain cannot be solved on some day (e.g. too little alveolar O2).
+
+    Notes
+    -----
+    Guidance checks: :func:`guidance_flags`, :func:`risk_category`. Known gaps of the
+    model (SaO2 3-4 points below field SpO2, Hb low after two weeks) are listed in
+    :func:`model.acclimatization.acclimatization_step`.
+
+    Examples
+    --------
+    >>> r = run_ascent(AscentProfile("sea level", (AscentDay(0.0),) * 3))
+    >>> r.summary["flag_count"], round(float(r.night.arterial.pco2_mmhg[-1]), 1)
+    (0, 40.0)
+    """
+    b = profile.baseline
+    model = b.pressure_model
+    sleep = np.array([d.sleep_altitude_m for d in profile.days], dtype=float)
+    high = np.array([d.sleep_altitude_m if d.high_altitude_m is None else d.high_altitude_m
+                     for d in profile.days], dtype=float)
+    fio2 = np.array([d.fio2 for d in profile.days], dtype=float)
+
+    def effective(h):
+        eq = equivalent_altitude(h, fio2, pressure_model=model, air_fio2=0.21)
+        return np.where(fio2 > 0.21, np.minimum(h, eq), h)
+
+    pb_n, pb_h = barometric_pressure(sleep, model=model), barometric_pressure(high, model=model)
+    x_n, x_h = inspired_po2(fio2, pb_n), inspired_po2(fio2, pb_h)
+    h_n, h_h = effective(sleep), effective(high)
+    base = {"baseline_paco2_mmhg": b.paco2_mmhg, "baseline_hb_g_dl": b.hb_g_dl,
+            "baseline_cardiac_output_l_min": b.cardiac_output_l_min}
+    state = baseline_state(b.paco2_mmhg, b.hb_g_dl, b.cardiac_output_l_min)
+    keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
+    night = {k: np.empty(sleep.size) for k in keys}
+    day = {k: np.empty(sleep.size) for k in keys}
+    for i in range(sleep.size):
+        # the high point is reached from the morning's state, before the night's step
+        paco2 = acute_paco2(x_h[i], b.paco2_mmhg) + state.ventilation_offset_mmhg
+        hco3 = np.minimum(state.hco3_mmol_l, 24.0 + 0.2 * (paco2 - b.paco2_mmhg))
+        day["paco2_mmhg"][i], day["hco3_mmol_l"][i] = paco2, hco3
+        day["ph"][i] = ph_henderson_hasselbalch(hco3, paco2)
+        day["dpg_mmol_l"][i], day["hb_g_dl"][i] = state.dpg_mmol_l, state.hb_g_dl
+        day["cardiac_output_l_min"][i] = np.maximum(
+            cardiac_output(b.cardiac_output_l_min, h_h[i], 0.0), state.cardiac_output_l_min)
+        state = acclimatization_step(state, x_n[i], h_n[i], **base)
+        for k in keys:
+            night[k][i] = getattr(state, k)
+    both = {k: np.concatenate([night[k], day[k]]) for k in keys if k != "hco3_mmol_l"}
+    res = solve_transport(barometric_pressure_mmhg=np.concatenate([pb_n, pb_h]),
+                          fio2=np.concatenate([fio2, fio2]), vo2_ml_min=b.vo2_ml_min,
+                          **both, **transport_kw)
+    n = sleep.size
+    night_res = _take(res, slice(0, n))
+    high_res = _take(res, slice(n, 2 * n))
+    flags = guidance_flags(sleep)
+    cat, reasons = risk_category(sleep)
+    sao2 = night_res.arterial.so2
+    top = float(high.max())
+    summary = {
+        "lowest_night_sao2": float(sao2.min()),
+        "nights_below_0_90": int(np.sum(sao2 < SATURATION_THRESHOLDS[0])),
+        "nights_below_0_80": int(np.sum(sao2 < SATURATION_THRESHOLDS[1])),
+        "hypoxic_burden_saturation_days": float(np.sum(np.maximum(0.0, 0.90 - sao2))),
+        "days_to_top": int(np.argmax(high >= top)) + 1,
+        "top_altitude_m": top,
+        "highest_sleep_altitude_m": float(sleep.max()),
+        "flag_count": int(sum(len(f) for f in flags)),
+        "risk_category": cat,
+        "risk_reasons": reasons,
+    }
+    return AscentResult(profile=profile, sleep_altitude_m=sleep, high_altitude_m=high,
+                        fio2=fio2, equivalent_altitude_m=h_n, night=night_res, high=high_res,
+                        dpg_mmol_l=night["dpg_mmol_l"], hco3_mmol_l=night["hco3_mmol_l"],
+                        flags=flags, summary=summary)
+
+
+def _take(result, idx):
+    """The rows ``idx`` of every array in a TransportResult (nested BloodStates too)."""
+    def cut(obj):
+        if dataclasses.is_dataclass(obj):
+            return dataclasses.replace(obj, **{
+                f.name: cut(getattr(obj, f.name)) for f in dataclasses.fields(obj)
+                if f.name not in ("arterial_conditions", "venous_conditions")})
+        if isinstance(obj, np.ndarray) and obj.ndim == 1:
+            return obj[idx]
+        return obj
+
+    return cut(result)
