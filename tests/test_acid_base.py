@@ -87,12 +87,6 @@ def test_zander_oxygenation_term():
     assert d == pytest.approx(0.2 * 15.0 * 0.5, abs=1e-12)
 
 
-def test_henderson_hasselbalch():
-    # Henderson-Hasselbalch with pK 6.1 and s 0.0304 (Zander): HCO3 at pH 7.3118... by hand:
-    # 0.0304 * 30 * 10^(7.3118 - 6.1) = 14.81 (0.01 rounding).
-    assert abs(float(bicarbonate(7.3118, 30.0)) - 0.0304 * 30.0 * 10 ** 1.2118) <= 1e-9
-
-
 @FAST
 @given(be=st.floats(-30.0, 25.0), pco2=st.floats(10.0, 120.0), hb=st.floats(3.0, 22.0),
        so2=st.floats(0.05, 1.0))

@@ -148,8 +148,8 @@ def test_pressure_units():
 
 
 def test_hb_units():
-    # 1 g/dL = 10 g/L; Hb monomer 16 114.5 g/mol (tetramer 64 458 g/mol, Braunitzer,
-    # from memory): 15 g/dL = 9.309 mmol/L. Tolerance 0.001: rounding of the hand value.
+    # 1 g/dL = 10 g/L; Hb monomer 16 114.5 g/mol (a quarter of the 64 458 g/mol tetramer,
+    # common practice): 15 g/dL = 9.309 mmol/L. Tolerance 0.001: rounding of the hand value.
     assert float(hb_g_dl_to_g_l(15.0)) == pytest.approx(150.0, rel=1e-12)
     assert float(hb_g_l_to_g_dl(150.0)) == pytest.approx(15.0, rel=1e-12)
     assert abs(float(hb_g_dl_to_mmol_l(15.0)) - 9.309) <= 1e-3

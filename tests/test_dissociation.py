@@ -310,7 +310,7 @@ def _p50(curve, **kw):
 @FAST
 @given(ph=st.floats(6.9, 7.7), dph=st.floats(0.02, 0.2))
 def test_lower_ph_raises_p50(curve, ph, dph):
-    # Bohr effect (Bohr, Hasselbalch & Krogh 1904): acid shifts the curve right.
+    # Bohr effect (Bohr, Hasselbalch & Krogh 1904, from memory): acid shifts the curve right.
     assert _p50(curve, ph=ph - dph) > _p50(curve, ph=ph)
 
 

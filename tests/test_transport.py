@@ -11,7 +11,17 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from model import INPUT_LIMITS, oxygen_content, saturation, solve_transport
+from model import (
+    INPUT_LIMITS,
+    body_surface_area,
+    extraction_ratio,
+    oxygen_content,
+    oxygen_delivery,
+    saturation,
+    solve_transport,
+    venous_content_fick,
+    vo2_at_temperature,
+)
 
 FAST = settings(max_examples=60, deadline=None)
 SOLVER_KEYS = set(inspect.signature(solve_transport).parameters)
@@ -96,11 +106,26 @@ def test_venous_shift_gain_definition(rest):
     assert float(rest.venous.p50_mmhg) > float(rest.arterial.p50_mmhg)
 
 
-def test_delivery_1000(rest):
-    # DO2 = Q x CaO2 x 10: 5 L/min x 20 mL/dL = 1000 mL/min (arithmetic); here CaO2 ~19.9.
-    assert float(rest.do2_ml_min) == pytest.approx(5.0 * float(rest.arterial.o2_content_ml_dl) * 10)
-    hi = solve_transport(fio2=1.0, shunt_fraction=0.0, hufner_ml_g=1.34)
-    assert abs(float(hi.do2_ml_min) - 1000.0) <= 1000.0 * 0.15
+def test_circulation_arithmetic():
+    # DO2 = Q x CaO2 x 10: 5 L/min x 20 mL/dL = 1000 mL/min (definition, exact).
+    assert float(oxygen_delivery(5.0, 20.0)) == pytest.approx(1000.0, rel=1e-12)
+    # Fick, computed by hand (k 1.34, Hb 15, SaO2 0.98, PaO2 95, Q 5, VO2 250): CaO2 19.98,
+    # CvO2 14.98, O2ER 0.250 (rounding of the hand values).
+    assert abs(float(venous_content_fick(19.98, 250.0, 5.0)) - 14.98) <= 1e-9
+    assert abs(float(extraction_ratio(19.98, 14.98)) - 0.2502) <= 1e-4
+    # VO2 x 1.10 per degC (the model's documented factor; 10-13 %/degC is common practice,
+    # from memory): 250 x 1.1^2 = 302.5 (exact).
+    assert float(vo2_at_temperature(250.0, 39.0)) == pytest.approx(302.5, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    "height, weight, expected",
+    # Mosteller 1987 (N Engl J Med 317:1098), sqrt(H W / 3600), computed by hand.
+    [(170.0, 70.0, 1.8181), (180.0, 80.0, 2.0000), (160.0, 60.0, 1.6330)],
+)
+def test_body_surface_area(height, weight, expected):
+    # Tolerance 1e-4: rounding of the hand values.
+    assert abs(float(body_surface_area(height, weight)) - expected) <= 1e-4
 
 
 # --- result object -------------------------------------------------------------------------
@@ -115,6 +140,8 @@ def test_result_frozen_and_json_ready(rest):
     assert back["arterial"]["po2_mmhg"] == pytest.approx(float(rest.arterial.po2_mmhg))
     assert isinstance(d["do2_ml_min"], float)
     assert isinstance(d["venous"]["so2"], float)
+    arr = solve_transport(altitude_m=np.array([0.0, 1000.0])).to_dict()
+    assert json.loads(json.dumps(arr))["arterial"]["po2_mmhg"][1] < arr["arterial"]["po2_mmhg"][0]
 
 
 def test_scalar_fields_are_0d_arrays(rest):
