@@ -573,3 +573,30 @@ def _take(result, idx):
         return obj
 
     return cut(result)
+
+
+def format_ascent(record: dict) -> str:
+    """A schedule's JSON-ready record (:meth:`AscentResult.to_dict`) as a text table."""
+    head = (f"{'day':>3} {'sleep m':>7} {'high m':>7} {'FiO2':>5} {'PB':>6} {'PaCO2':>5} "
+            f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>5} {'high SaO2':>9}"
+            "  flags")
+    units = (f"{'':>3} {'m':>7} {'m':>7} {'-':>5} {'mmHg':>6} {'mmHg':>5} {'-':>5} {'mmHg':>5} "
+             f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/m':>5} {'%':>9}")
+    lines = [f"{record['name']}  ({record['file']})", head, units]
+    for d in record["days"]:
+        lines.append(
+            f"{d['day']:>3} {d['sleep_altitude_m']:>7.0f} {d['high_altitude_m']:>7.0f} "
+            f"{d['fio2']:>5.2f} {d['barometric_pressure_mmhg']:>6.1f} {d['paco2_mmhg']:>5.1f} "
+            f"{d['ph']:>5.3f} {d['pao2_mmhg']:>5.1f} {100 * d['sao2']:>6.1f} {d['hb_g_dl']:>5.1f} "
+            f"{d['cao2_ml_dl']:>5.1f} {d['do2_ml_min']:>5.0f} {100 * d['high_point']['sao2']:>9.1f}"
+            f"  {'; '.join(d['flags'])}")
+    s = record["summary"]
+    lines += [
+        (f"  lowest night SaO2 {100 * s['lowest_night_sao2']:.1f} %; nights below 90 % "
+         f"{s['nights_below_0_90']}, below 80 % {s['nights_below_0_80']}; hypoxic burden "
+         f"{s['hypoxic_burden_saturation_days']:.2f} saturation-days"),
+        f"  top {s['top_altitude_m']:.0f} m on day {s['days_to_top']}; {s['flag_count']} "
+        f"flag(s); risk category {s['risk_category']}"
+        + (f" ({'; '.join(s['risk_reasons'])})" if s["risk_reasons"] else ""),
+    ]
+    return "\n".join(lines)

@@ -64,6 +64,9 @@ def main(argv=None) -> int:
     ev = sub.add_parser("evaluate", help="solve scenario files and print the chain")
     ev.add_argument("files", nargs="+", metavar="FILE")
     ev.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    asc = sub.add_parser("ascent", help="compare ascent schedules day by day")
+    asc.add_argument("profiles", nargs="+", metavar="PROFILE")
+    asc.add_argument("--json", action="store_true", help="print JSON instead of tables")
     sv = sub.add_parser("serve", help="start the dashboard on this machine")
     sv.add_argument("--port", type=int, default=5006)
     sv.add_argument("--address", default="127.0.0.1",
@@ -83,6 +86,23 @@ def main(argv=None) -> int:
             print(json.dumps(records[0] if len(records) == 1 else records, indent=2))
         else:
             print("\n\n".join(format_table(r) for r in records))
+            print(f"\n{CAUTION}")
+        return 0
+    if args.command == "ascent":
+        from .ascent import format_ascent, load_ascent, run_ascent
+
+        results = []
+        for f in args.profiles:
+            try:
+                results.append(run_ascent(load_ascent(f)).to_dict())
+            except ValueError as exc:
+                print(f"error: {exc}" if isinstance(exc, ScenarioError)
+                      else f"error: {f}: the schedule cannot be solved: {exc}", file=sys.stderr)
+                return 2
+        if args.json:
+            print(json.dumps(results, indent=2))
+        else:
+            print("\n\n".join(format_ascent(r) for r in results))
             print(f"\n{CAUTION}")
         return 0
     from dashboard.app import serve
