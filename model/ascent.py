@@ -197,7 +197,7 @@ def _day_from_mapping(entry, label, fail) -> AscentDay:
     if "o2_flow_l_min" in entry:
         flow = _number(fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE,
                        "L/min")
-        fio2 = float(fio2_from_flow(flow))
+        fio2 = round(float(fio2_from_flow(flow)), 6)
     return AscentDay(sleep, high, fio2)
 
 

@@ -1,0 +1,294 @@
+"""Ascent schedules: loading, guidance rules, the day-by-day chain, the command."""
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from model.ascent import (
+    AscentDay,
+    AscentError,
+    AscentProfile,
+    days_from_csv,
+    days_to_csv,
+    guidance_flags,
+    load_ascent,
+    read_days_csv,
+    risk_category,
+    run_ascent,
+)
+from model.cli import main
+
+ASCENTS = Path(__file__).resolve().parents[1] / "scenarios" / "ascents"
+FAST, SLOW = ASCENTS / "fast-to-5300m.toml", ASCENTS / "slow-to-5300m.toml"
+OXYGEN = ASCENTS / "oxygen-above-6000m.toml"
+
+
+def profile(sleep, high=None, fio2=None):
+    days = tuple(AscentDay(float(s), None if high is None or high[i] is None else float(high[i]),
+                           0.21 if fio2 is None else float(fio2[i]))
+                 for i, s in enumerate(sleep))
+    return AscentProfile("test", days)
+
+
+# Guidance rules of the Wilderness Medical Society (Luks et al., Wilderness Environ Med
+# 2019;30(4S):S3-18 and 2024;35(1S):2S-19S): above 3000 m at most 500 m more sleeping altitude
+# a day, a day without gain every 3-4 days, and the 2024 risk table.
+
+def test_rise_of_exactly_500_m_passes_and_501_is_flagged():
+    # Our reading of "<= 500 m/day" in the 2024 table: 500 passes.
+    assert guidance_flags([3000, 3500, 4000]) == [[], [], []]
+    assert len(guidance_flags([3000, 3501])[1]) == 1
+
+
+def test_rise_rule_applies_only_to_nights_above_3000_m():
+    assert guidance_flags([1000, 2000, 3000]) == [[], [], []]
+    assert len(guidance_flags([2800, 3400])[1]) == 1  # ends above 3000 m
+    assert guidance_flags([3400, 2800, 3300]) == [[], [], []]
+
+
+def test_fourth_gain_in_a_row_above_3000_m_needs_a_rest_day():
+    # "every 3-4 days": we allow three gains in a row and flag the fourth.
+    f = guidance_flags([2800, 3200, 3600, 4000, 4400, 4800])
+    assert [len(x) for x in f] == [0, 0, 0, 0, 1, 1]
+    f = guidance_flags([2800, 3200, 3600, 4000, 4000, 4400, 4800, 5200])
+    assert [len(x) for x in f] == [0] * 8
+    # a descent counts as a day without gain
+    assert sum(map(len, guidance_flags([3200, 3600, 4000, 4400, 4200, 4600]))) == 0
+
+
+def test_risk_table_rule_cases():
+    # Cases read from the 2024 risk table (transport-and-altitude.md section 6).
+    assert risk_category([3000])[0] == "moderate"  # first night 2800-3500 m
+    assert risk_category([3600])[0] == "high"  # first night above 3500 m
+    assert risk_category([2700])[0] == "low"
+    with_extra = [2500, 3100, 3700, 3700, 4300, 4900, 4900]
+    without = [2500, 3100, 3700, 4300, 4900]
+    assert risk_category(with_extra)[0] == "moderate"  # >500 m/d with an extra day per 1000 m
+    assert risk_category(without)[0] == "high"  # >500 m/d without them
+    assert risk_category([2500, 2900, 3300, 3700, 3700, 4100, 4500, 4500])[0] == "low"
+    # our choice: <= 500 m/d but no extra day per 1000 m -> moderate
+    assert risk_category([2500, 2900, 3300, 3700, 4100, 4500])[0] == "moderate"
+
+
+@st.composite
+def schedules(draw):
+    n = draw(st.integers(2, 14))
+    start = draw(st.sampled_from([500.0, 2500.0, 2800.0, 3200.0]))
+    steps = draw(st.lists(st.sampled_from([-400.0, 0.0, 300.0, 500.0, 600.0, 900.0]),
+                          min_size=n - 1, max_size=n - 1))
+    return list(np.clip(start + np.cumsum([0.0, *steps]), 0.0, 7000.0))
+
+
+@settings(max_examples=150, deadline=None)
+@given(schedules(), st.data())
+def test_adding_a_rest_day_never_adds_a_flag(sleep, data):
+    i = data.draw(st.integers(0, len(sleep) - 1))
+    rested = sleep[: i + 1] + [sleep[i]] + sleep[i + 1:]
+    assert sum(map(len, guidance_flags(rested))) <= sum(map(len, guidance_flags(sleep)))
+    order = {"low": 0, "moderate": 1, "high": 2}
+    assert order[risk_category(rested)[0]] <= order[risk_category(sleep)[0]]
+
+
+# The day-by-day chain
+
+def test_sea_level_schedule_stays_at_baseline():
+    r = run_ascent(profile([0.0] * 5))
+    for arr, value in ((r.night.arterial.pco2_mmhg, 40.0), (r.night.hb_g_dl, 15.0),
+                       (r.night.cardiac_output_l_min, 5.0), (r.dpg_mmol_l, 5.0)):
+        np.testing.assert_allclose(arr, value, rtol=1e-12)
+    np.testing.assert_allclose(r.night.arterial.so2, r.night.arterial.so2[0], rtol=1e-9)
+    assert r.summary["flag_count"] == 0 and r.summary["nights_below_0_90"] == 0
+    assert r.summary["hypoxic_burden_saturation_days"] == 0.0
+
+
+def test_isa3600_pao2_after_two_weeks():
+    # Wachsmuth et al. 2013 (ISA3600): PaO2 56.1 mmHg at days 12-16 at 3600 m. Our chain
+    # (diffusion, 2 % shunt) gives a larger A-a gradient than the 1.7-3.9 mmHg implied by
+    # their data, so the tolerance is 5 mmHg.
+    r = run_ascent(profile([3600.0] * 14))
+    assert float(r.night.arterial.po2_mmhg[12]) == pytest.approx(56.1, abs=5.0)
+
+
+def test_hypoxic_burden_definition():
+    r = run_ascent(load_ascent(FAST))
+    s = r.night.arterial.so2
+    assert r.summary["hypoxic_burden_saturation_days"] == pytest.approx(
+        float(np.sum(np.maximum(0.0, 0.90 - s))))
+    assert r.summary["nights_below_0_80"] == int(np.sum(s < 0.80))
+    assert r.summary["lowest_night_sao2"] == pytest.approx(float(s.min()))
+
+
+def test_examples_fast_and_slow_reach_the_same_camp():
+    fast, slow = run_ascent(load_ascent(FAST)), run_ascent(load_ascent(SLOW))
+    assert fast.summary["highest_sleep_altitude_m"] == slow.summary["highest_sleep_altitude_m"]
+    assert fast.summary["flag_count"] > 0 and slow.summary["flag_count"] == 0
+    assert fast.summary["risk_category"] == "high"
+    assert fast.summary["days_to_top"] < slow.summary["days_to_top"]
+    # faster ascent -> less acclimatized on arrival -> lower first night's SaO2 at 5300 m
+    first = [int(np.argmax(r.sleep_altitude_m == 5300.0)) for r in (fast, slow)]
+    assert fast.night.arterial.so2[first[0]] < slow.night.arterial.so2[first[1]]
+
+
+def test_oxygen_example_reports_equivalent_altitude():
+    r = run_ascent(load_ascent(OXYGEN))
+    on_o2 = r.fio2 > 0.21
+    assert on_o2.any()
+    assert np.all(r.equivalent_altitude_m[on_o2] < r.sleep_altitude_m[on_o2] - 1000.0)
+    np.testing.assert_allclose(r.equivalent_altitude_m[~on_o2], r.sleep_altitude_m[~on_o2])
+
+
+@settings(max_examples=12, deadline=None)
+@given(schedules(), st.data())
+def test_supplemental_oxygen_never_lowers_sao2(sleep, data):
+    sleep = [min(h, 6000.0) for h in sleep]
+    fio2 = data.draw(st.lists(st.sampled_from([0.21, 0.25, 0.29, 0.4]), min_size=len(sleep),
+                              max_size=len(sleep)))
+    air = run_ascent(profile(sleep))
+    o2 = run_ascent(profile(sleep, fio2=fio2))
+    # On the days oxygen is breathed. A later day on air can be a little lower (by 1e-5 in
+    # one case found here): oxygen earlier leaves less ventilatory acclimatization.
+    on = np.asarray(fio2) > 0.21
+    assert np.all(o2.night.arterial.so2[on] >= air.night.arterial.so2[on] - 1e-9)
+    assert np.all(o2.high.arterial.so2[on] >= air.high.arterial.so2[on] - 1e-9)
+
+
+@settings(max_examples=12, deadline=None)
+@given(st.lists(st.sampled_from([0.0, 0.0, 300.0, 500.0]), min_size=2, max_size=12),
+       st.sampled_from([1000.0, 2800.0, 3500.0]))
+def test_same_altitude_later_in_an_ascent_never_has_lower_pao2(steps, start):
+    sleep = list(np.minimum(start + np.cumsum(steps), 6000.0))
+    pao2 = run_ascent(profile(sleep)).night.arterial.po2_mmhg
+    for i in range(len(sleep)):
+        for j in range(i + 1, len(sleep)):
+            if sleep[i] == sleep[j]:
+                assert pao2[j] >= pao2[i] - 1e-6
+
+
+def test_run_is_vectorised_and_high_points_are_acute():
+    r = run_ascent(profile([2800.0, 3300.0], high=[3300.0, None]))
+    assert r.night.arterial.po2_mmhg.shape == (2,) and r.high.arterial.po2_mmhg.shape == (2,)
+    # day 1 goes to 3300 m in the morning, unacclimatized; night 2 sleeps there after a night
+    assert float(r.high.arterial.so2[0]) < float(r.night.arterial.so2[1])
+
+
+# Files
+
+def write(tmp_path, text, name="a.toml"):
+    p = tmp_path / name
+    p.write_text(text, encoding="utf-8")
+    return p
+
+
+GOOD = """name = "x"
+[baseline]
+hb_g_dl = 14.0
+pressure_model = "standard"
+[[day]]
+sleep_altitude_m = 2800
+[[day]]
+sleep_altitude_m = 3300
+high_altitude_m = 3600
+o2_flow_l_min = 1
+"""
+
+
+def test_load_ascent_reads_baseline_and_days(tmp_path):
+    p = load_ascent(write(tmp_path, GOOD))
+    assert p.baseline.hb_g_dl == 14.0 and p.baseline.pressure_model == "standard"
+    assert p.days[1] == AscentDay(3300.0, 3600.0, 0.25)
+
+
+@pytest.mark.parametrize(("text", "words"), [
+    ('name = "x"\n', ["no days"]),
+    ('name = "x"\n[[day]]\nhigh_altitude_m = 3000\n', ["sleep_altitude_m is missing"]),
+    ('[[day]]\nsleep_altitude_m = 9500\n', ["sleep_altitude_m = 9500", "-500-9000 m"]),
+    ('[[day]]\nsleep_altitude_m = 3000\nhigh_altitude_m = 2000\n',
+     ["high_altitude_m = 2000", "3000-9000 m"]),
+    ('[[day]]\nsleep_altitude_m = 3000\nfio2 = 1.5\n', ["fio2 = 1.5", "0.21-1"]),
+    ('[[day]]\nsleep_altitude_m = 3000\nfio2 = 0.3\no2_flow_l_min = 2\n', ["both given"]),
+    ('[[day]]\nsleep_altitude_m = "high"\n', ["must be a number"]),
+    ('[[day]]\nsleep_altitude_m = 3000\naltitude = 1\n', ["unknown key 'altitude'"]),
+    ('[baseline]\nhb_g_dl = 40\n[[day]]\nsleep_altitude_m = 0\n',
+     ["[baseline] hb_g_dl = 40", "2-25 g/dL"]),
+    ('[baseline]\npressure_model = "moon"\n[[day]]\nsleep_altitude_m = 0\n', ["moon"]),
+    ('[baseline]\nweight_kg = 70\n[[day]]\nsleep_altitude_m = 0\n', ["unknown key 'weight_kg'"]),
+    ('[baseline]\nage_years = 200\n[[day]]\nsleep_altitude_m = 0\n', ["age_years = 200", "years"]),
+    ('camp = 1\n[[day]]\nsleep_altitude_m = 0\n', ["unknown key 'camp'"]),
+    ('name = \n', ["not valid TOML"]),
+])
+def test_bad_files_are_refused_with_file_key_value_and_range(tmp_path, text, words):
+    path = write(tmp_path, text)
+    with pytest.raises(AscentError) as err:
+        load_ascent(path)
+    msg = str(err.value)
+    assert str(path) in msg
+    for w in words:
+        assert w in msg
+
+
+def test_missing_file_is_refused(tmp_path):
+    with pytest.raises(AscentError, match="cannot read"):
+        load_ascent(tmp_path / "none.toml")
+
+
+def test_csv_round_trip(tmp_path):
+    days = load_ascent(OXYGEN).days
+    assert days_from_csv(days_to_csv(days)) == days
+    p = write(tmp_path, days_to_csv(days), "days.csv")
+    assert read_days_csv(p) == days
+    assert days_to_csv(days).splitlines()[0] == "day,sleep_altitude_m,high_altitude_m,fio2"
+
+
+@pytest.mark.parametrize(("text", "words"), [
+    ("day,sleep_m\n1,2800\n", ["header"]),
+    ("day,sleep_altitude_m,high_altitude_m,fio2\n2,2800,,\n", ["row 1 day = '2'"]),
+    ("day,sleep_altitude_m,high_altitude_m,fio2\n1,abc,,\n", ["sleep_altitude_m = 'abc'"]),
+    ("day,sleep_altitude_m,high_altitude_m,fio2\n1,,,\n", ["sleep_altitude_m is missing"]),
+    ("day,sleep_altitude_m,high_altitude_m,fio2\n", ["no days"]),
+])
+def test_bad_csv_is_refused(text, words):
+    with pytest.raises(AscentError) as err:
+        days_from_csv(text, "x.csv")
+    for w in ["x.csv", *words]:
+        assert w in str(err.value)
+
+
+# Command
+
+def test_command_json(capsys):
+    assert main(["ascent", str(FAST), str(SLOW), "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert [r["name"] for r in out] == ["Fast ascent to a 5300 m camp",
+                                        "Slow ascent to a 5300 m camp"]
+    day = out[0]["days"][1]
+    for key in ("day", "sleep_altitude_m", "barometric_pressure_mmhg", "pao2_mmhg", "sao2",
+                "cao2_ml_dl", "flags"):
+        assert key in day
+    assert day["flags"] and out[0]["summary"]["flag_count"] == 5
+    same = run_ascent(load_ascent(FAST)).to_dict()
+    assert out[0]["days"][4]["sao2"] == pytest.approx(same["days"][4]["sao2"])
+
+
+def test_command_table(capsys):
+    assert main(["ascent", str(OXYGEN)]) == 0
+    out = capsys.readouterr().out
+    assert "Expedition with oxygen" in out and "risk category" in out
+
+
+def test_command_refuses_bad_file(tmp_path, capsys):
+    bad = write(tmp_path, '[[day]]\nsleep_altitude_m = 12000\n')
+    assert main(["ascent", str(FAST), str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert str(bad) in err and "sleep_altitude_m = 12000" in err
+
+
+def test_command_refuses_unsolvable_schedule(tmp_path, capsys):
+    # 9000 m on air on the first night leaves too little alveolar O2 for resting VO2
+    bad = write(tmp_path, '[baseline]\npressure_model = "standard"\n'
+                          '[[day]]\nsleep_altitude_m = 9000\n')
+    assert main(["ascent", str(bad)]) == 2
+    assert "cannot be solved" in capsys.readouterr().err
