@@ -40,6 +40,27 @@ def test_severinghaus_1979_table1():
     assert np.mean(np.abs(model - table)) <= 0.003
 
 
+@pytest.mark.parametrize("curve, tol", [("dash2016", 0.01), ("siggaard_andersen1990", 0.01)])
+def test_other_curves_reproduce_table1(curve, tol):
+    # Dash et al. 2016 and Siggaard-Andersen 1990 are independent fits of the same standard
+    # human curve as Severinghaus 1979 Table 1; 0.01 S is about twice Severinghaus' own fit
+    # error (common practice, no source).
+    rows = _read_csv("severinghaus1979_table1.csv")
+    po2 = np.array([float(r["po2_mmhg"]) for r in rows])
+    table = np.array([float(r["so2_percent"]) for r in rows]) / 100.0
+    assert np.max(np.abs(saturation(po2, curve=curve) - table)) <= tol
+
+
+def test_hill_reproduces_table1_in_its_range():
+    # Lykkeboe & Johansen 1978: human n = 2.7 holds for S 0.36-0.98; one n is a cruder fit,
+    # so allow 0.015 S against Severinghaus 1979 Table 1 there (common practice, no source).
+    rows = _read_csv("severinghaus1979_table1.csv")
+    po2 = np.array([float(r["po2_mmhg"]) for r in rows])
+    table = np.array([float(r["so2_percent"]) for r in rows]) / 100.0
+    inside = (table >= 0.36) & (table <= 0.98)
+    assert np.max(np.abs(saturation(po2[inside], curve="hill") - table[inside])) <= 0.015
+
+
 @pytest.mark.parametrize(
     "po2, expected",
     # Severinghaus 1979 Eq 1 evaluated by hand at standard conditions (virtual PO2 = PO2).
