@@ -29,13 +29,18 @@ def _rows(name):
         return list(csv.DictReader(line for line in f if not line.startswith("#")))
 
 
-@pytest.mark.parametrize("row", _rows("douglas1988_co2_content.csv"), ids=lambda r: r["pco2_mmhg"] + "/" + r["so2"])
+@pytest.mark.parametrize(
+    "row", _rows("douglas1988_co2_content.csv"), ids=lambda r: r["pco2_mmhg"] + "/" + r["so2"]
+)
 def test_douglas_1988_blood_co2_content(row):
     # Douglas, Jones & Reed 1988 (J Appl Physiol 65:473-477) whole-blood equation with
     # Kelman 1967 pK' and solubility, computed by hand. Tolerance 0.01 mL/dL: rounding of
     # the hand values to 3 decimals plus margin.
-    got = float(blood_co2_content(float(row["pco2_mmhg"]), float(row["ph"]), float(row["so2"]),
-                                  float(row["hb_g_dl"])))
+    got = float(
+        blood_co2_content(
+            float(row["pco2_mmhg"]), float(row["ph"]), float(row["so2"]), float(row["hb_g_dl"])
+        )
+    )
     assert abs(got - float(row["blood_ml_dl"])) <= 0.01
 
 
@@ -64,13 +69,18 @@ def test_kelman_solubility(t, expected):
     assert abs(float(co2_solubility(t)) - expected) <= 1e-5
 
 
-@pytest.mark.parametrize("row", _rows("zander_ph_from_base_excess.csv"),
-                         ids=lambda r: r["pco2_mmhg"] + "/" + r["base_excess_mmol_l"])
+@pytest.mark.parametrize(
+    "row",
+    _rows("zander_ph_from_base_excess.csv"),
+    ids=lambda r: r["pco2_mmhg"] + "/" + r["base_excess_mmol_l"],
+)
 def test_zander_ph_from_base_excess(row):
     # Van Slyke equation in Zander's form (compared in Lang & Zander 2002, Clin Chem Lab Med
     # 40:404-410), pH solved by hand (Brent) at Hb 15, SO2 1. Tolerance 0.001 (brief
     # tolerance; hand values rounded to 4 decimals).
-    got = float(ph_from_base_excess(float(row["base_excess_mmol_l"]), float(row["pco2_mmhg"]), 15.0))
+    got = float(
+        ph_from_base_excess(float(row["base_excess_mmol_l"]), float(row["pco2_mmhg"]), 15.0)
+    )
     assert abs(got - float(row["ph"])) <= 1e-3
 
 
@@ -88,8 +98,12 @@ def test_zander_oxygenation_term():
 
 
 @FAST
-@given(be=st.floats(-30.0, 25.0), pco2=st.floats(10.0, 120.0), hb=st.floats(3.0, 22.0),
-       so2=st.floats(0.05, 1.0))
+@given(
+    be=st.floats(-30.0, 25.0),
+    pco2=st.floats(10.0, 120.0),
+    hb=st.floats(3.0, 22.0),
+    so2=st.floats(0.05, 1.0),
+)
 def test_ph_from_base_excess_round_trip(be, pco2, hb, so2):
     ph = float(ph_from_base_excess(be, pco2, hb, so2))
     assert 6.0 < ph < 8.6
@@ -97,19 +111,29 @@ def test_ph_from_base_excess_round_trip(be, pco2, hb, so2):
 
 
 @FAST
-@given(ph=st.floats(7.0, 7.7), dph=st.floats(0.01, 0.2), pco2=st.floats(10.0, 120.0),
-       hb=st.floats(3.0, 22.0))
+@given(
+    ph=st.floats(7.0, 7.7),
+    dph=st.floats(0.01, 0.2),
+    pco2=st.floats(10.0, 120.0),
+    hb=st.floats(3.0, 22.0),
+)
 def test_base_excess_rises_with_ph(ph, dph, pco2, hb):
     # Van Slyke: dBE/dpH = Z (ln10 HCO3 + beta) > 0 (Lang & Zander 2002, by differentiation).
     assert float(base_excess(ph + dph, pco2, hb)) > float(base_excess(ph, pco2, hb))
 
 
 @FAST
-@given(pco2=st.floats(15.0, 90.0), dp=st.floats(1.0, 30.0), ph=st.floats(7.2, 7.6),
-       so2=st.floats(0.0, 1.0))
+@given(
+    pco2=st.floats(15.0, 90.0),
+    dp=st.floats(1.0, 30.0),
+    ph=st.floats(7.2, 7.6),
+    so2=st.floats(0.0, 1.0),
+)
 def test_co2_content_rises_with_pco2(pco2, dp, ph, so2):
     # The CO2 dissociation curve rises with PCO2 at fixed pH (Douglas 1988).
-    assert float(blood_co2_content(pco2 + dp, ph, so2, 15.0)) > float(blood_co2_content(pco2, ph, so2, 15.0))
+    assert float(blood_co2_content(pco2 + dp, ph, so2, 15.0)) > float(
+        blood_co2_content(pco2, ph, so2, 15.0)
+    )
 
 
 def test_input_matrix():

@@ -75,8 +75,10 @@ def test_unknown_pressure_model_raises():
 
 
 @FAST
-@given(h=st.lists(st.integers(-400, 9000), min_size=2, max_size=20),
-       model=st.sampled_from(["standard", "mountain"]))
+@given(
+    h=st.lists(st.integers(-400, 9000), min_size=2, max_size=20),
+    model=st.sampled_from(["standard", "mountain"]),
+)
 def test_pressure_falls_with_altitude(h, model):
     hs = np.unique(np.array(h, dtype=float))
     pb = barometric_pressure(hs, model=model)
@@ -115,7 +117,9 @@ def test_cdc_inspired_fraction_3050_m():
     # CDC Yellow Book 2024: at 3050 m inspired PO2 is 69 % of sea level. With ICAO 0.667
     # and West's model 0.682 (computed by hand); both lie within 0.69 +- 0.03.
     for model in ("standard", "mountain"):
-        ratio = inspired_po2(0.21, barometric_pressure(3050.0, model=model)) / inspired_po2(0.21, 760.0)
+        ratio = inspired_po2(0.21, barometric_pressure(3050.0, model=model)) / inspired_po2(
+            0.21, 760.0
+        )
         assert abs(float(ratio) - 0.69) <= 0.03
 
 

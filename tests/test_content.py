@@ -55,8 +55,13 @@ def test_input_matrix():
 
 
 @FAST
-@given(hb=st.floats(2.0, 25.0), s=st.floats(0.0, 1.0), ds=st.floats(0.001, 0.5),
-       po2=st.floats(0.0, 700.0), co=st.floats(0.0, 0.5))
+@given(
+    hb=st.floats(2.0, 25.0),
+    s=st.floats(0.0, 1.0),
+    ds=st.floats(0.001, 0.5),
+    po2=st.floats(0.0, 700.0),
+    co=st.floats(0.0, 0.5),
+)
 def test_content_rises_with_saturation_and_falls_with_co(hb, s, ds, po2, co):
     base = float(oxygen_content(hb, s, po2, cohb_fraction=co))
     assert float(oxygen_content(hb, min(s + ds, 1.0), po2, cohb_fraction=co)) >= base

@@ -26,8 +26,13 @@ def test_alveolar_gas_reference_example():
     "pb, paco2, expected",
     # Full alveolar gas equation (Fenn, Rahn & Otis 1946), FiO2 0.21, PH2O 47, R 0.8,
     # computed by hand; PB from ICAO / West 1996; the PaCO2 inputs are illustrative.
-    [(760.0, 40.0, 101.8), (526.0, 40.0, 52.7), (536.8, 30.0, 66.9), (405.4, 40.0, 27.4),
-     (419.7, 25.0, 48.3)],
+    [
+        (760.0, 40.0, 101.8),
+        (526.0, 40.0, 52.7),
+        (536.8, 30.0, 66.9),
+        (405.4, 40.0, 27.4),
+        (419.7, 25.0, 48.3),
+    ],
 )
 def test_alveolar_gas_worked_table(pb, paco2, expected):
     # Tolerance 0.1 mmHg: hand values rounded to 0.1, PH2O 47 vs 47.12 moves PAO2 by 0.03.
@@ -43,8 +48,12 @@ def test_alveolar_gas_pure_oxygen():
 
 
 @FAST
-@given(fio2=st.floats(0.1, 1.0), pb=st.floats(250.0, 800.0), paco2=st.floats(10.0, 60.0),
-       rq=st.floats(0.7, 1.1))
+@given(
+    fio2=st.floats(0.1, 1.0),
+    pb=st.floats(250.0, 800.0),
+    paco2=st.floats(10.0, 60.0),
+    rq=st.floats(0.7, 1.1),
+)
 def test_alveolar_gas_full_form(fio2, pb, paco2, rq):
     # The full form equals FiO2 (PB - PH2O) - PaCO2 (1 - FiO2 (1 - R)) / R (Fenn, Rahn &
     # Otis 1946, algebraic identity), with PH2O 47.12 at 37 degC (IAPWS-IF97, 0.1 %).
@@ -54,8 +63,9 @@ def test_alveolar_gas_full_form(fio2, pb, paco2, rq):
 
 
 def test_alveolar_input_matrix():
-    out = alveolar_po2(fio2=np.array([0.21, 0.4, 1.0]), pb_mmhg=np.array([[760.0], [500.0]]),
-                       paco2_mmhg=40.0)
+    out = alveolar_po2(
+        fio2=np.array([0.21, 0.4, 1.0]), pb_mmhg=np.array([[760.0], [500.0]]), paco2_mmhg=40.0
+    )
     assert out.shape == (2, 3)
     out = alveolar_po2(fio2=0.21, pb_mmhg=np.array([760.0, np.nan]), paco2_mmhg=40.0)
     assert np.isnan(out[1]) and np.isfinite(out[0])
@@ -66,8 +76,13 @@ def test_alveolar_input_matrix():
     # Bohr (1909) integration of dPc/dt = DLO2 (PA - Pc) / (beta Vc), DLO2 30, Vc 75 mL
     # (Roughton & Forster 1957), Hb 15, k 1.34, Severinghaus 1979 curve; values computed by
     # hand with an independent integrator. The equation form is from memory.
-    [(100.0, 40.0, 0.25, 99.4), (60.0, 35.0, 0.75, 59.4), (48.0, 30.0, 0.75, 44.9),
-     (35.0, 21.0, 0.75, 29.8), (35.0, 21.0, 0.25, 24.7)],
+    [
+        (100.0, 40.0, 0.25, 99.4),
+        (60.0, 35.0, 0.75, 59.4),
+        (48.0, 30.0, 0.75, 44.9),
+        (35.0, 21.0, 0.75, 29.8),
+        (35.0, 21.0, 0.25, 24.7),
+    ],
 )
 def test_bohr_integration(pa, pv, t, expected):
     # Tolerance 0.5 mmHg: independent integrators with different step rules.
@@ -80,21 +95,25 @@ def test_bohr_equilibrates_within_1_mmhg_at_sea_level():
     # PA by 0.24 s with DLO2 30 and by 0.48 s with DLO2 15 (computed by hand, +-0.03 s).
     assert 100.0 - float(end_capillary_po2(100.0, 40.0, 15.0, transit_time_s=0.27)) <= 1.0
     assert 100.0 - float(end_capillary_po2(100.0, 40.0, 15.0, transit_time_s=0.21)) > 1.0
-    slow = dict(diffusing_capacity_ml_min_mmhg=15.0)
+    slow = {"diffusing_capacity_ml_min_mmhg": 15.0}
     assert 100.0 - float(end_capillary_po2(100.0, 40.0, 15.0, transit_time_s=0.51, **slow)) <= 1.0
     assert 100.0 - float(end_capillary_po2(100.0, 40.0, 15.0, transit_time_s=0.45, **slow)) > 1.0
 
 
 @FAST
-@given(pa=st.floats(30.0, 600.0), frac=st.floats(0.1, 0.95), t=st.floats(0.05, 1.5),
-       dl=st.floats(5.0, 100.0))
+@given(
+    pa=st.floats(30.0, 600.0),
+    frac=st.floats(0.1, 0.95),
+    t=st.floats(0.05, 1.5),
+    dl=st.floats(5.0, 100.0),
+)
 def test_bohr_bounded_and_monotone_in_diffusing_capacity(pa, frac, t, dl):
     pv = frac * pa
-    pc = float(end_capillary_po2(pa, pv, 15.0, transit_time_s=t,
-                                 diffusing_capacity_ml_min_mmhg=dl))
+    pc = float(end_capillary_po2(pa, pv, 15.0, transit_time_s=t, diffusing_capacity_ml_min_mmhg=dl))
     assert pv - 1e-9 <= pc <= pa + 1e-9
-    more = float(end_capillary_po2(pa, pv, 15.0, transit_time_s=t,
-                                   diffusing_capacity_ml_min_mmhg=dl * 1.5))
+    more = float(
+        end_capillary_po2(pa, pv, 15.0, transit_time_s=t, diffusing_capacity_ml_min_mmhg=dl * 1.5)
+    )
     assert more >= pc - 1e-9
 
 
@@ -106,7 +125,8 @@ def test_chain_alveolar_equals_equation():
     expected = alveolar_po2(fio2=0.21, pb_mmhg=760.0, paco2_mmhg=40.0, rq=0.8)
     assert float(r.alveolar_po2_mmhg) == pytest.approx(float(expected), abs=1e-9)
     assert float(r.aa_gradient_mmhg) == pytest.approx(
-        float(r.alveolar_po2_mmhg - r.arterial.po2_mmhg), abs=1e-6)
+        float(r.alveolar_po2_mmhg - r.arterial.po2_mmhg), abs=1e-6
+    )
 
 
 def test_chain_transit_time():
@@ -131,16 +151,20 @@ def test_chain_summit_diffusion_limited():
     # Near the summit the end-capillary PO2 stays several mmHg below PAO2 at rest
     # (Bohr integration above, 5 mmHg gap; West 1983 expedition findings, from memory).
     sea = solve_transport(shunt_fraction=0.0)
-    top = solve_transport(altitude_m=8848.0, pressure_model="mountain", paco2_mmhg=10.0,
-                          shunt_fraction=0.0)
+    top = solve_transport(
+        altitude_m=8848.0, pressure_model="mountain", paco2_mmhg=10.0, shunt_fraction=0.0
+    )
     gap_sea = float(sea.alveolar_po2_mmhg - sea.end_capillary_po2_mmhg)
     gap_top = float(top.alveolar_po2_mmhg - top.end_capillary_po2_mmhg)
     assert gap_top > gap_sea + 1.0
 
 
 @settings(max_examples=60, deadline=None)
-@given(qs=st.lists(st.floats(0.0, 0.35), min_size=2, max_size=12),
-       altitude=st.floats(0.0, 3000.0), fio2=st.floats(0.21, 1.0))
+@given(
+    qs=st.lists(st.floats(0.0, 0.35), min_size=2, max_size=12),
+    altitude=st.floats(0.0, 3000.0),
+    fio2=st.floats(0.21, 1.0),
+)
 def test_more_shunt_never_raises_pao2(qs, altitude, fio2):
     # Berggren 1942 shunt equation: admixing more venous blood cannot raise arterial content
     # or PO2. Evaluated as one broadcast call over sorted shunt fractions.

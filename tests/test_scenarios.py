@@ -46,7 +46,9 @@ def test_scenario_loads_and_solves(path):
     for v in (r.arterial.po2_mmhg, r.arterial.so2, r.venous.po2_mmhg, r.venous.so2, r.do2_ml_min):
         assert np.all(np.isfinite(v))
     assert 0.0 < float(r.venous.so2) < float(r.arterial.so2) <= 1.0
-    assert float(r.venous.po2_mmhg) < float(r.arterial.po2_mmhg) <= float(r.alveolar_po2_mmhg) + 1e-6
+    assert (
+        float(r.venous.po2_mmhg) < float(r.arterial.po2_mmhg) <= float(r.alveolar_po2_mmhg) + 1e-6
+    )
 
 
 def _write(tmp_path, text, name="case.toml"):
@@ -100,7 +102,9 @@ def test_bad_file_raises_scenario_error(tmp_path, text, keys):
         "unknown": VALID.replace("hb_g_dl = 15.0", "hb_gdl = 15.0"),
         "unknown_table": VALID + "\n[heart]\nrate = 60\n",
         "wrong_type": VALID.replace("hb_g_dl = 15.0", 'hb_g_dl = "fifteen"'),
-        "wrong_bool": VALID.replace("vo2_ml_min = 250.0", "vo2_ml_min = 250.0\nvo2_temperature_scaling = 1"),
+        "wrong_bool": VALID.replace(
+            "vo2_ml_min = 250.0", "vo2_ml_min = 250.0\nvo2_temperature_scaling = 1"
+        ),
         "out_of_range": VALID.replace("hb_g_dl = 15.0", "hb_g_dl = 40"),
         "out_of_range_kpa": VALID.replace("paco2_mmhg = 40.0", "paco2_kpa = 50.0"),
         "both_ph_be": VALID.replace("ph = 7.40", "ph = 7.40\nbase_excess_mmol_l = -5.0"),
