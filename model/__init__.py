@@ -7,6 +7,7 @@ One module per stage, in the order oxygen travels: ``air`` -> ``lungs`` ->
 
 from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base_excess
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
+from .ascent import AscentDay, AscentError, AscentProfile, load_ascent, run_ascent
 from .circulation import (
                           body_surface_area,
                           extraction_ratio,
@@ -38,12 +39,14 @@ from .units import (
 
 __all__ = [
     "CURVES", "HUFNER_ML_G", "INPUT_LIMITS", "NORMAL_DPG_MMOL_L", "O2_SOLUBILITY_ML_DL_MMHG",
-    "PRESSURE_MODELS", "STANDARD_P50_MMHG", "BloodState", "Scenario", "ScenarioError",
+    "PRESSURE_MODELS", "STANDARD_P50_MMHG", "AscentDay", "AscentError", "AscentProfile",
+    "BloodState", "Scenario", "ScenarioError",
     "TransportResult", "aa_gradient", "alveolar_po2", "barometric_pressure", "base_excess",
     "bicarbonate", "blood_co2_content", "body_surface_area", "end_capillary_po2",
     "extraction_ratio", "hb_g_dl_to_g_l", "hb_g_dl_to_mmol_l", "hb_g_l_to_g_dl",
-    "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "load_scenario", "mix_by_content",
+    "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "load_ascent", "load_scenario",
+    "mix_by_content",
     "mmhg_to_kpa", "oxygen_content", "oxygen_delivery", "p50", "ph_from_base_excess",
-    "po2_from_content", "po2_from_saturation", "saturation", "solve_transport",
+    "po2_from_content", "po2_from_saturation", "run_ascent", "saturation", "solve_transport",
     "venous_content_fick", "vo2_at_temperature", "water_vapour_pressure",
 ]
