@@ -157,6 +157,9 @@ def load_scenario(path) -> Scenario:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ScenarioError(f"{p}: not valid TOML ({exc})") from None
+    for key in ("name", "description"):
+        if key not in data:
+            raise ScenarioError(f"{p}: missing required top-level key {key!r} (text)")
     scenario = scenario_from_mapping(data, str(p))
     from .transport import solve_transport
 

@@ -168,7 +168,9 @@ def test_case_the_model_refuses_puts_input_back():
 
 
 def test_scenario_choices_use_names_and_mark_bad_files(tmp_path: Path):
-    (tmp_path / "a.toml").write_text('name = "Case A"\n[air]\naltitude_m = 100\n')
+    (tmp_path / "a.toml").write_text(
+        'name = "Case A"\ndescription = "x"\n[air]\naltitude_m = 100\n'
+    )
     (tmp_path / "b.toml").write_text("this is not toml [")
     choices = CaseState().scenario_choices(tmp_path)
     assert choices["Case A"] == str(tmp_path / "a.toml")
