@@ -109,7 +109,7 @@ def acute_paco2(pio2_mmhg, baseline_paco2_mmhg=40.0, *, threshold_pio2_mmhg=100.
     References
     ----------
     1. Rahn H, Otis AB. Man's respiratory response during and after acclimatization to high
-       altitude. Am J Physiol 1949; 157:445-462.
+       altitude. Am J Physiol 1949; 157:445-462 (pages from memory).
     2. Wachsmuth NB et al. Br J Sports Med 2013; 47(Suppl 1):i93-i99.
 
     Examples
@@ -166,7 +166,7 @@ def dpg_target(pio2_mmhg, baseline_dpg_mmol_l=5.0, *, rise_at_4559m=0.28):
     ----------
     1. Mairbaeurl H, Oelz O, Baertsch P. Interactions between Hb, Mg, DPG, ATP, and Cl
        determine the change in Hb-O2 affinity at high altitude. J Appl Physiol 1993;
-       74:40-48.
+       74:40-48 (citation from memory).
     2. Wagner PD et al. Operation Everest II data. High Alt Med Biol 2007; 8:32-42 (pages
        from memory).
 
@@ -196,7 +196,7 @@ def plasma_volume_target(altitude_m):
     ----------
     1. Beidleman BA, Staab JE, Muza SR, Sawka MN. Quantitative model of hematologic and plasma
        volume responses after ascent and acclimation to moderate to high altitudes. Am J
-       Physiol Regul Integr Comp Physiol 2017; 312:R265-R272.
+       Physiol Regul Integr Comp Physiol 2017; 312:R265-R272 (pages from memory).
     2. Wachsmuth NB et al. Br J Sports Med 2013; 47(Suppl 1):i93-i99.
 
     Examples
@@ -226,7 +226,7 @@ def hb_mass_growth_per_day(altitude_m, *, rate_per_1000m=0.0013, threshold_m=165
     2. Ryan BJ, Wachsmuth NB, Schmidt WF, et al. AltitudeOmics: rapid hemoglobin mass
        alterations with early acclimatization to and de-acclimatization from 5260 m in healthy
        humans. PLoS One 2014; 9:e108788.
-    3. Siebenmann C, Cathomen A, Hug M, et al. Hemoglobin mass and intravascular volume
+    3. Siebenmann C, Cathomen A, Hug M, et al. (authors from memory). Hemoglobin mass and intravascular volume
        kinetics during and after exposure to 3,454-m altitude. J Appl Physiol 2015;
        119:1194-1201.
     4. Gore CJ, Sharpe K, Garvican-Lewis LA, et al. Altitude training and haemoglobin mass
@@ -279,8 +279,7 @@ def cardiac_output(baseline_l_min, altitude_m, days_since_gain, *, peak_rise=0.2
        Cardiovasc Dis 2010; 52:456-466.
     2. Alexander JK, Hartley LH, Modelski M, Grover RF. Reduction of stroke volume during
        exercise in man following ascent to 3,100 m altitude. J Appl Physiol 1967; 23:849-858.
-    3. Kronenberg RG, Safar P, Lee J, et al. Pulmonary artery pressure and alveolar gas
-       exchange in man during acclimatization to 12,470 ft. J Clin Invest 1971; 50:827-837.
+    3. Kronenberg RG et al. J Clin Invest 1971 (title, volume and pages from memory).
 
     Examples
     --------
@@ -453,9 +452,8 @@ def acclimatization_step(state: AcclimatizationState, pio2_mmhg, altitude_m, *,
     1. Wachsmuth NB et al. Br J Sports Med 2013; 47(Suppl 1):i93-i99.
     2. Mairbaeurl H et al. J Appl Physiol 1993; 74:40-48.
     3. Beidleman BA et al. Am J Physiol Regul Integr Comp Physiol 2017; 312:R265-R272.
-    4. Zouboules SM, Lafave HC, O'Halloran KD, et al. Renal reactivity: acid-base
-       compensation during incremental ascent to high altitude. J Physiol 2018;
-       596:6191-6203 (pages from memory).
+    4. Zouboules SM et al. Renal reactivity: acid-base compensation during incremental
+       ascent to high altitude. J Physiol 2018 (PMC6292812; citation from memory).
 
     Examples
     --------
