@@ -554,9 +554,15 @@ class CaseControls(pn.viewable.Viewer):
         self._clear = pn.widgets.Button(
             label="Clear baseline", css_classes=["o2-clear"], align="end", width=130
         )
-        self._load.on_click(lambda _e: state.load_scenario(self._picker.value))
-        self._keep.on_click(lambda _e: state.keep_baseline())
-        self._clear.on_click(lambda _e: state.clear_baseline())
+        # Button events arrive outside the document lock; pn.state.execute runs the change
+        # on the next tick with the lock, so the figures may be edited safely.
+        self._load.on_click(
+            lambda _e: pn.state.execute(
+                lambda: state.load_scenario(self._picker.value), schedule=True
+            )
+        )
+        self._keep.on_click(lambda _e: pn.state.execute(state.keep_baseline, schedule=True))
+        self._clear.on_click(lambda _e: pn.state.execute(state.clear_baseline, schedule=True))
         units = pn.Row(
             pn.widgets.RadioButtonGroup.from_param(
                 state.param.pressure_unit, css_classes=["o2-pressure-unit"], align="end"

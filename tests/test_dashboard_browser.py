@@ -3,6 +3,7 @@
 Skipped only on a machine without Chromium and without CI; under CI a missing browser fails.
 """
 
+import logging
 import os
 import re
 import socket
@@ -73,8 +74,21 @@ def browser():
         b.close()
 
 
+class _ErrorLog(logging.Handler):
+    """Collects server-side errors (callbacks run in the server thread, not the page)."""
+
+    def __init__(self):
+        super().__init__(level=logging.ERROR)
+        self.records = []
+
+    def emit(self, record):
+        self.records.append(self.format(record))
+
+
 @pytest.fixture
 def page(browser, server_url):
+    server_errors = _ErrorLog()
+    logging.getLogger().addHandler(server_errors)
     ctx = browser.new_context(viewport={"width": 1500, "height": 1000})
     pg = ctx.new_page()
     errors, requests = [], []
@@ -86,7 +100,9 @@ def page(browser, server_url):
     expect(pg.locator(".o2-numbers")).to_contain_text("PaO2", timeout=15000)
     yield pg
     ctx.close()
+    logging.getLogger().removeHandler(server_errors)
     assert not errors, errors
+    assert not server_errors.records, server_errors.records
 
 
 def value(page, key: str) -> float:
