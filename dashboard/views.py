@@ -49,6 +49,9 @@ table.o2t tr.flag-low td.val {{ color: #1b4f9a; }}
 def _fmt(value: float | None, digits: int, signed: bool = False) -> str:
     if value is None:
         return ""
+    if round(value, digits) == 0:
+        value = 0.0  # no "−0.0": a change too small to show is no change
+        signed = False
     text = f"{value:+.{digits}f}" if signed else f"{value:.{digits}f}"
     return text.replace("-", "−")
 
@@ -533,7 +536,7 @@ class CaseControls(pn.viewable.Viewer):
             label="Scenario",
             options=options,
             css_classes=["o2-scenario"],
-            width=240,
+            width=320,
             disabled=not options,
         )
         self._load = pn.widgets.Button(

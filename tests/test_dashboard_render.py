@@ -17,6 +17,7 @@ from dashboard.views import (
     CurvePlot,
     InputPanel,
     NumbersTable,
+    _fmt,
 )
 
 
@@ -62,6 +63,13 @@ def test_template_builds_document_with_caution():
     assert CAUTION.startswith(
         "o2transit is an aid for education and planning, not a medical device."
     )
+
+
+def test_format_shows_no_negative_zero():
+    assert _fmt(-0.04, 1, signed=True) == "0.0"
+    assert _fmt(-0.06, 1, signed=True) == "−0.1"
+    assert _fmt(2.0, 0, signed=True) == "+2"
+    assert _fmt(None, 1) == ""
 
 
 def test_loopback_detection():
