@@ -500,45 +500,88 @@ def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
     >>> r.summary["flag_count"], round(float(r.night.arterial.pco2_mmhg[-1]), 1)
     (0, 40.0)
     """
-    b = profile.baseline
-    model = b.pressure_model
-    sleep = np.array([d.sleep_altitude_m for d in profile.days], dtype=float)
-    high = np.array([d.sleep_altitude_m if d.high_altitude_m is None else d.high_altitude_m
-                     for d in profile.days], dtype=float)
-    fio2 = np.array([d.fio2 for d in profile.days], dtype=float)
+    return run_ascents([profile], **transport_kw)[0]
 
-    def effective(h):
-        eq = equivalent_altitude(h, fio2, pressure_model=model, air_fio2=0.21)
-        return np.where(fio2 > 0.21, np.minimum(h, eq), h)
 
-    pb_n, pb_h = barometric_pressure(sleep, model=model), barometric_pressure(high, model=model)
+def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
+    """:func:`run_ascent` for several schedules at once (one chain solve for all of them).
+
+    The schedules are stepped side by side, day by day (a shorter one is padded with its
+    last day and the padding dropped), and every night and high point of every schedule goes
+    through one vectorised :func:`model.solve_transport` call.
+
+    Examples
+    --------
+    >>> a = AscentProfile("a", (AscentDay(2800.0), AscentDay(3300.0)))
+    >>> b = AscentProfile("b", (AscentDay(3600.0),))
+    >>> [r.summary["risk_category"] for r in run_ascents([a, b])]
+    ['moderate', 'high']
+    """
+    profiles = list(profiles)
+    n_days = [len(p.days) for p in profiles]
+    width = max(n_days)
+
+    def table(get):
+        rows = [[get(d) for d in p.days] for p in profiles]
+        return np.array([r + [r[-1]] * (width - len(r)) for r in rows], dtype=float)
+
+    sleep = table(lambda d: d.sleep_altitude_m)
+    high = table(lambda d: d.sleep_altitude_m if d.high_altitude_m is None else d.high_altitude_m)
+    fio2 = table(lambda d: d.fio2)
+    pb_n, pb_h = np.empty_like(sleep), np.empty_like(sleep)
+    h_n, h_h = np.empty_like(sleep), np.empty_like(sleep)
+    for j, p in enumerate(profiles):
+        model = p.baseline.pressure_model
+        pb_n[j], pb_h[j] = (barometric_pressure(sleep[j], model=model),
+                            barometric_pressure(high[j], model=model))
+        for h, out in ((sleep[j], h_n), (high[j], h_h)):
+            eq = equivalent_altitude(h, fio2[j], pressure_model=model, air_fio2=0.21)
+            out[j] = np.where(fio2[j] > 0.21, np.minimum(h, eq), h)
     x_n, x_h = inspired_po2(fio2, pb_n), inspired_po2(fio2, pb_h)
-    h_n, h_h = effective(sleep), effective(high)
-    base = {"baseline_paco2_mmhg": b.paco2_mmhg, "baseline_hb_g_dl": b.hb_g_dl,
-            "baseline_cardiac_output_l_min": b.cardiac_output_l_min}
-    state = baseline_state(b.paco2_mmhg, b.hb_g_dl, b.cardiac_output_l_min)
+
+    def baseline(name):
+        return np.array([getattr(p.baseline, name) for p in profiles], dtype=float)
+
+    paco2_0, hb_0 = baseline("paco2_mmhg"), baseline("hb_g_dl")
+    co_0 = baseline("cardiac_output_l_min")
+    base = {"baseline_paco2_mmhg": paco2_0, "baseline_hb_g_dl": hb_0,
+            "baseline_cardiac_output_l_min": co_0}
+    state = baseline_state(paco2_0, hb_0, co_0)
     keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
-    night = {k: np.empty(sleep.size) for k in keys}
-    day = {k: np.empty(sleep.size) for k in keys}
-    for i in range(sleep.size):
+    night = {k: np.empty(sleep.shape) for k in keys}
+    day = {k: np.empty(sleep.shape) for k in keys}
+    for i in range(width):
         # the high point is reached from the morning's state, before the night's step
-        paco2 = acute_paco2(x_h[i], b.paco2_mmhg) + state.ventilation_offset_mmhg
-        hco3 = np.minimum(state.hco3_mmol_l, 24.0 + 0.2 * (paco2 - b.paco2_mmhg))
-        day["paco2_mmhg"][i], day["hco3_mmol_l"][i] = paco2, hco3
-        day["ph"][i] = ph_henderson_hasselbalch(hco3, paco2)
-        day["dpg_mmol_l"][i], day["hb_g_dl"][i] = state.dpg_mmol_l, state.hb_g_dl
-        day["cardiac_output_l_min"][i] = np.maximum(
-            cardiac_output(b.cardiac_output_l_min, h_h[i], 0.0), state.cardiac_output_l_min)
-        state = acclimatization_step(state, x_n[i], h_n[i], **base)
+        paco2 = acute_paco2(x_h[:, i], paco2_0) + state.ventilation_offset_mmhg
+        hco3 = np.minimum(state.hco3_mmol_l, 24.0 + 0.2 * (paco2 - paco2_0))
+        day["paco2_mmhg"][:, i], day["hco3_mmol_l"][:, i] = paco2, hco3
+        day["ph"][:, i] = ph_henderson_hasselbalch(hco3, paco2)
+        day["dpg_mmol_l"][:, i], day["hb_g_dl"][:, i] = state.dpg_mmol_l, state.hb_g_dl
+        day["cardiac_output_l_min"][:, i] = np.maximum(
+            cardiac_output(co_0, h_h[:, i], 0.0), state.cardiac_output_l_min)
+        state = acclimatization_step(state, x_n[:, i], h_n[:, i], **base)
         for k in keys:
-            night[k][i] = getattr(state, k)
-    both = {k: np.concatenate([night[k], day[k]]) for k in keys if k != "hco3_mmol_l"}
-    res = solve_transport(barometric_pressure_mmhg=np.concatenate([pb_n, pb_h]),
-                          fio2=np.concatenate([fio2, fio2]), vo2_ml_min=b.vo2_ml_min,
+            night[k][:, i] = getattr(state, k)
+    valid = np.arange(width)[None, :] < np.array(n_days)[:, None]
+    vo2 = np.broadcast_to(baseline("vo2_ml_min")[:, None], sleep.shape)
+    both = {k: np.concatenate([night[k][valid], day[k][valid]]) for k in keys[:-1]}
+    res = solve_transport(barometric_pressure_mmhg=np.concatenate([pb_n[valid], pb_h[valid]]),
+                          fio2=np.concatenate([fio2[valid], fio2[valid]]),
+                          vo2_ml_min=np.concatenate([vo2[valid], vo2[valid]]),
                           **both, **transport_kw)
-    n = sleep.size
-    night_res = _take(res, slice(0, n))
-    high_res = _take(res, slice(n, 2 * n))
+    total = int(valid.sum())
+    results, start = [], 0
+    for j, (p, n) in enumerate(zip(profiles, n_days)):
+        night_res = _take(res, slice(start, start + n))
+        high_res = _take(res, slice(total + start, total + start + n))
+        start += n
+        results.append(_result(p, sleep[j, :n], high[j, :n], fio2[j, :n], h_n[j, :n],
+                               night_res, high_res, night["dpg_mmol_l"][j, :n],
+                               night["hco3_mmol_l"][j, :n]))
+    return results
+
+
+def _result(profile, sleep, high, fio2, h_eq, night_res, high_res, dpg, hco3) -> AscentResult:
     flags = guidance_flags(sleep)
     cat, reasons = risk_category(sleep)
     sao2 = night_res.arterial.so2
@@ -556,9 +599,8 @@ def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
         "risk_reasons": reasons,
     }
     return AscentResult(profile=profile, sleep_altitude_m=sleep, high_altitude_m=high,
-                        fio2=fio2, equivalent_altitude_m=h_n, night=night_res, high=high_res,
-                        dpg_mmol_l=night["dpg_mmol_l"], hco3_mmol_l=night["hco3_mmol_l"],
-                        flags=flags, summary=summary)
+                        fio2=fio2, equivalent_altitude_m=h_eq, night=night_res, high=high_res,
+                        dpg_mmol_l=dpg, hco3_mmol_l=hco3, flags=flags, summary=summary)
 
 
 def _take(result, idx):

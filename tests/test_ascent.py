@@ -19,6 +19,7 @@ from model.ascent import (
     read_days_csv,
     risk_category,
     run_ascent,
+    run_ascents,
 )
 from model.cli import main
 
@@ -292,3 +293,15 @@ def test_command_refuses_unsolvable_schedule(tmp_path, capsys):
                           '[[day]]\nsleep_altitude_m = 9000\n')
     assert main(["ascent", str(bad)]) == 2
     assert "cannot be solved" in capsys.readouterr().err
+
+
+def test_batched_runs_match_single_runs():
+    profiles = [load_ascent(f) for f in (FAST, SLOW, OXYGEN)]
+    together = run_ascents(profiles)
+    for p, r in zip(profiles, together):
+        alone = run_ascent(p)
+        assert r.sleep_altitude_m.size == len(p.days)
+        np.testing.assert_allclose(r.night.arterial.so2, alone.night.arterial.so2, rtol=1e-6)
+        np.testing.assert_allclose(r.high.arterial.po2_mmhg, alone.high.arterial.po2_mmhg,
+                                   rtol=1e-6)
+        assert r.summary["flag_count"] == alone.summary["flag_count"]
