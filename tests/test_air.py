@@ -29,6 +29,15 @@ PA_PER_MMHG = 133.322387415  # 101325 Pa / 760 (definition of the standard atmos
 FAST = settings(max_examples=100, deadline=None)
 
 
+def test_reference_tables_name_their_source():
+    # House style: every tests/data/*.csv opens with a header line naming its source.
+    files = sorted(DATA.glob("*.csv"))
+    assert files
+    for f in files:
+        first = f.read_text(encoding="utf-8").splitlines()[0]
+        assert first.startswith("# Source: ") and len(first) > 40, f.name
+
+
 def test_standard_atmosphere_matches_ambiance():
     # ICAO Standard Atmosphere (Doc 7488/3, 1993) as implemented by the `ambiance`
     # library, which takes geometric height. Tolerance 1 Pa (brief); the troposphere
