@@ -378,6 +378,7 @@ class CaseState(param.Parameterized):
                 )
                 return False
         previous = getattr(self, name)
+        self.error_message = ""  # a stale refusal must not be read as this change's
         try:
             setattr(self, name, value)
         except ValueError as exc:

@@ -175,3 +175,10 @@ def test_scenario_choices_use_names_and_mark_bad_files(tmp_path: Path):
     choices = CaseState().scenario_choices(tmp_path)
     assert choices["Case A"] == str(tmp_path / "a.toml")
     assert choices["b (cannot be read)"] == str(tmp_path / "b.toml")
+
+
+def test_unchanged_value_after_refusal_is_accepted():
+    s = CaseState()
+    assert not s.set_input("hb_g_dl", 99.0)
+    assert s.set_input("hb_g_dl", 15.0)
+    assert s.error_message == ""
