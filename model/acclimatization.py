@@ -82,8 +82,7 @@ def acclimatized_paco2(pio2_mmhg, baseline_paco2_mmhg=40.0):
     return p * np.asarray(baseline_paco2_mmhg, dtype=float) / 40.0
 
 
-def acute_paco2(pio2_mmhg, baseline_paco2_mmhg=40.0, *, threshold_pio2_mmhg=100.0,
-                slope=0.3):
+def acute_paco2(pio2_mmhg, baseline_paco2_mmhg=40.0, *, threshold_pio2_mmhg=100.0, slope=0.3):
     """Resting PaCO2 within hours of arrival, before acclimatization [mmHg].
 
     ``P_acute = max(P_acc, 40 - slope max(0, threshold - x))``, scaled by baseline / 40.
@@ -147,8 +146,9 @@ def ph_henderson_hasselbalch(hco3_mmol_l, paco2_mmhg, *, pk=6.1, solubility=0.03
     >>> round(float(ph_henderson_hasselbalch(20.1, 30.7)), 3)
     7.429
     """
-    return pk + np.log10(np.asarray(hco3_mmol_l, dtype=float)
-                         / (solubility * np.asarray(paco2_mmhg, dtype=float)))
+    return pk + np.log10(
+        np.asarray(hco3_mmol_l, dtype=float) / (solubility * np.asarray(paco2_mmhg, dtype=float))
+    )
 
 
 def dpg_target(pio2_mmhg, baseline_dpg_mmol_l=5.0, *, rise_at_4559m=0.28):
@@ -242,8 +242,9 @@ def hb_mass_growth_per_day(altitude_m, *, rate_per_1000m=0.0013, threshold_m=165
     return rate_per_1000m * np.maximum(0.0, h - threshold_m) / 1000.0
 
 
-def haemoglobin(baseline_hb_g_dl, hb_mass_ratio, plasma_volume_change, *,
-                baseline_haematocrit=0.44):
+def haemoglobin(
+    baseline_hb_g_dl, hb_mass_ratio, plasma_volume_change, *, baseline_haematocrit=0.44
+):
     """Haemoglobin concentration from red-cell mass and plasma volume [g/dL].
 
     ``Hb = Hb0 m / (Hct0 m + (1 - Hct0)(1 + PV))``: red-cell volume scales with the mass ratio
@@ -256,12 +257,14 @@ def haemoglobin(baseline_hb_g_dl, hb_mass_ratio, plasma_volume_change, *,
     """
     m = np.asarray(hb_mass_ratio, dtype=float)
     pv = np.asarray(plasma_volume_change, dtype=float)
-    return (np.asarray(baseline_hb_g_dl, dtype=float) * m
-            / (baseline_haematocrit * m + (1.0 - baseline_haematocrit) * (1.0 + pv)))
+    return (
+        np.asarray(baseline_hb_g_dl, dtype=float)
+        * m
+        / (baseline_haematocrit * m + (1.0 - baseline_haematocrit) * (1.0 + pv))
+    )
 
 
-def cardiac_output(baseline_l_min, altitude_m, days_since_gain, *, peak_rise=0.2,
-                   decay_days=2.0):
+def cardiac_output(baseline_l_min, altitude_m, days_since_gain, *, peak_rise=0.2, decay_days=2.0):
     """Resting cardiac output at altitude [L/min].
 
     ``CO = CO0 (1 + 0.2 clip((h - 1500) / 2300, 0, 1.3) exp(-t / 2 d))``, ``t`` the days
@@ -318,8 +321,9 @@ def fio2_from_flow(flow_l_min, *, per_litre=0.04, room_air=0.21):
     return np.minimum(1.0, room_air + per_litre * flow)
 
 
-def equivalent_altitude(altitude_m, fio2, *, pressure_model="standard", air_fio2=AIR_FIO2,
-                        temperature_c=37.0):
+def equivalent_altitude(
+    altitude_m, fio2, *, pressure_model="standard", air_fio2=AIR_FIO2, temperature_c=37.0
+):
     """Altitude on air that gives the same inspired PO2 as ``fio2`` at ``altitude_m`` [m].
 
     Solves ``0.2093 (PB(h_eq) - PH2O) = FiO2 (PB(h) - PH2O)`` for ``h_eq`` by bisection.
@@ -345,8 +349,7 @@ def equivalent_altitude(altitude_m, fio2, *, pressure_model="standard", air_fio2
     hi = np.full(h.shape, 11000.0)
     for _ in range(48):
         mid = 0.5 * (lo + hi)
-        pio2 = inspired_po2(air_fio2, barometric_pressure(mid, model=pressure_model),
-                            temperature_c)
+        pio2 = inspired_po2(air_fio2, barometric_pressure(mid, model=pressure_model), temperature_c)
         above = pio2 > target
         lo = np.where(above, mid, lo)
         hi = np.where(above, hi, mid)
@@ -374,9 +377,14 @@ class AcclimatizationState:
     altitude_m: np.ndarray
 
 
-def baseline_state(baseline_paco2_mmhg=40.0, baseline_hb_g_dl=15.0,
-                   baseline_cardiac_output_l_min=5.0, *, baseline_hco3_mmol_l=24.0,
-                   baseline_dpg_mmol_l=5.0) -> AcclimatizationState:
+def baseline_state(
+    baseline_paco2_mmhg=40.0,
+    baseline_hb_g_dl=15.0,
+    baseline_cardiac_output_l_min=5.0,
+    *,
+    baseline_hco3_mmol_l=24.0,
+    baseline_dpg_mmol_l=5.0,
+) -> AcclimatizationState:
     """The unacclimatized state of a lowlander at sea level.
 
     Examples
@@ -389,22 +397,37 @@ def baseline_state(baseline_paco2_mmhg=40.0, baseline_hb_g_dl=15.0,
     hco3 = np.broadcast_to(np.asarray(baseline_hco3_mmol_l, dtype=float), paco2.shape)
     zero = np.zeros(paco2.shape)
     return AcclimatizationState(
-        ventilation_offset_mmhg=zero, paco2_mmhg=paco2, hco3_mmol_l=hco3,
+        ventilation_offset_mmhg=zero,
+        paco2_mmhg=paco2,
+        hco3_mmol_l=hco3,
         ph=ph_henderson_hasselbalch(hco3, paco2),
         dpg_mmol_l=np.broadcast_to(np.asarray(baseline_dpg_mmol_l, dtype=float), paco2.shape),
-        plasma_volume_change=zero, hb_mass_ratio=np.ones(paco2.shape),
+        plasma_volume_change=zero,
+        hb_mass_ratio=np.ones(paco2.shape),
         hb_g_dl=np.broadcast_to(np.asarray(baseline_hb_g_dl, dtype=float), paco2.shape),
         cardiac_output_l_min=np.broadcast_to(
-            np.asarray(baseline_cardiac_output_l_min, dtype=float), paco2.shape),
-        days_since_gain=np.full(paco2.shape, 30.0), altitude_m=zero)
+            np.asarray(baseline_cardiac_output_l_min, dtype=float), paco2.shape
+        ),
+        days_since_gain=np.full(paco2.shape, 30.0),
+        altitude_m=zero,
+    )
 
 
-def acclimatization_step(state: AcclimatizationState, pio2_mmhg, altitude_m, *,
-                         baseline_paco2_mmhg=40.0, baseline_hb_g_dl=15.0,
-                         baseline_cardiac_output_l_min=5.0, baseline_hco3_mmol_l=24.0,
-                         baseline_dpg_mmol_l=5.0, baseline_haematocrit=0.44,
-                         hb_mass_loss_per_day=1.0 / 120.0, dt_days=1.0,
-                         tau_days=None) -> AcclimatizationState:
+def acclimatization_step(
+    state: AcclimatizationState,
+    pio2_mmhg,
+    altitude_m,
+    *,
+    baseline_paco2_mmhg=40.0,
+    baseline_hb_g_dl=15.0,
+    baseline_cardiac_output_l_min=5.0,
+    baseline_hco3_mmol_l=24.0,
+    baseline_dpg_mmol_l=5.0,
+    baseline_haematocrit=0.44,
+    hb_mass_loss_per_day=1.0 / 120.0,
+    dt_days=1.0,
+    tau_days=None,
+) -> AcclimatizationState:
     """Move the acclimatization state on by one day and night at a sleeping altitude.
 
     Every quantity follows ``y <- y* + (y - y*) exp(-dt / tau)`` toward its target for the
@@ -471,8 +494,11 @@ def acclimatization_step(state: AcclimatizationState, pio2_mmhg, altitude_m, *,
         return target + (y - target) * np.exp(-dt_days / tau[name])
 
     p_acute = acute_paco2(x, baseline_paco2_mmhg)
-    s = relax(state.ventilation_offset_mmhg,
-              acclimatized_paco2(x, baseline_paco2_mmhg) - p_acute, "ventilation")
+    s = relax(
+        state.ventilation_offset_mmhg,
+        acclimatized_paco2(x, baseline_paco2_mmhg) - p_acute,
+        "ventilation",
+    )
     paco2 = p_acute + s
     d_paco2 = paco2 - np.asarray(baseline_paco2_mmhg, dtype=float)
     hco3 = np.minimum(state.hco3_mmol_l, baseline_hco3_mmol_l + 0.2 * d_paco2)
@@ -481,15 +507,24 @@ def acclimatization_step(state: AcclimatizationState, pio2_mmhg, altitude_m, *,
     pv = relax(state.plasma_volume_change, plasma_volume_target(h), "plasma_volume")
     growth = hb_mass_growth_per_day(h)
     m = state.hb_mass_ratio
-    m = np.where(growth > 0.0, m * (1.0 + growth) ** dt_days,
-                 1.0 + (m - 1.0) * (1.0 - hb_mass_loss_per_day) ** dt_days)
+    m = np.where(
+        growth > 0.0,
+        m * (1.0 + growth) ** dt_days,
+        1.0 + (m - 1.0) * (1.0 - hb_mass_loss_per_day) ** dt_days,
+    )
     m = np.minimum(m, 1.27)
     gained = h > state.altitude_m + 1e-9
     days = np.where(gained, 0.0, state.days_since_gain + dt_days)
     return AcclimatizationState(
-        ventilation_offset_mmhg=s, paco2_mmhg=paco2, hco3_mmol_l=hco3,
-        ph=ph_henderson_hasselbalch(hco3, paco2), dpg_mmol_l=dpg, plasma_volume_change=pv,
+        ventilation_offset_mmhg=s,
+        paco2_mmhg=paco2,
+        hco3_mmol_l=hco3,
+        ph=ph_henderson_hasselbalch(hco3, paco2),
+        dpg_mmol_l=dpg,
+        plasma_volume_change=pv,
         hb_mass_ratio=m,
         hb_g_dl=haemoglobin(baseline_hb_g_dl, m, pv, baseline_haematocrit=baseline_haematocrit),
         cardiac_output_l_min=cardiac_output(baseline_cardiac_output_l_min, h, days),
-        days_since_gain=days, altitude_m=h)
+        days_since_gain=days,
+        altitude_m=h,
+    )

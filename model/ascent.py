@@ -130,38 +130,44 @@ class AscentResult:
         n, h = self.night, self.high
         days = []
         for i in range(self.sleep_altitude_m.size):
-            days.append({
-                "day": i + 1,
-                "sleep_altitude_m": float(self.sleep_altitude_m[i]),
-                "high_altitude_m": float(self.high_altitude_m[i]),
-                "fio2": float(self.fio2[i]),
-                "equivalent_altitude_m": float(self.equivalent_altitude_m[i]),
-                "barometric_pressure_mmhg": float(n.barometric_pressure_mmhg[i]),
-                "inspired_po2_mmhg": float(n.inspired_po2_mmhg[i]),
-                "paco2_mmhg": float(n.arterial.pco2_mmhg[i]),
-                "ph": float(n.arterial.ph[i]),
-                "pao2_mmhg": float(n.arterial.po2_mmhg[i]),
-                "alveolar_po2_mmhg": float(n.alveolar_po2_mmhg[i]),
-                "sao2": float(n.arterial.so2[i]),
-                "hb_g_dl": float(n.hb_g_dl[i]),
-                "cao2_ml_dl": float(n.arterial.o2_content_ml_dl[i]),
-                "do2_ml_min": float(n.do2_ml_min[i]),
-                "pvo2_mmhg": float(n.venous.po2_mmhg[i]),
-                "svo2": float(n.venous.so2[i]),
-                "dpg_mmol_l": float(self.dpg_mmol_l[i]),
-                "high_point": {
-                    "barometric_pressure_mmhg": float(h.barometric_pressure_mmhg[i]),
-                    "paco2_mmhg": float(h.arterial.pco2_mmhg[i]),
-                    "pao2_mmhg": float(h.arterial.po2_mmhg[i]),
-                    "sao2": float(h.arterial.so2[i]),
-                    "cao2_ml_dl": float(h.arterial.o2_content_ml_dl[i]),
-                    "do2_ml_min": float(h.do2_ml_min[i]),
-                    "pvo2_mmhg": float(h.venous.po2_mmhg[i]),
-                },
-                "flags": list(self.flags[i]),
-            })
-        return {"name": self.profile.name, "file": self.profile.path, "days": days,
-                "summary": dict(self.summary)}
+            days.append(
+                {
+                    "day": i + 1,
+                    "sleep_altitude_m": float(self.sleep_altitude_m[i]),
+                    "high_altitude_m": float(self.high_altitude_m[i]),
+                    "fio2": float(self.fio2[i]),
+                    "equivalent_altitude_m": float(self.equivalent_altitude_m[i]),
+                    "barometric_pressure_mmhg": float(n.barometric_pressure_mmhg[i]),
+                    "inspired_po2_mmhg": float(n.inspired_po2_mmhg[i]),
+                    "paco2_mmhg": float(n.arterial.pco2_mmhg[i]),
+                    "ph": float(n.arterial.ph[i]),
+                    "pao2_mmhg": float(n.arterial.po2_mmhg[i]),
+                    "alveolar_po2_mmhg": float(n.alveolar_po2_mmhg[i]),
+                    "sao2": float(n.arterial.so2[i]),
+                    "hb_g_dl": float(n.hb_g_dl[i]),
+                    "cao2_ml_dl": float(n.arterial.o2_content_ml_dl[i]),
+                    "do2_ml_min": float(n.do2_ml_min[i]),
+                    "pvo2_mmhg": float(n.venous.po2_mmhg[i]),
+                    "svo2": float(n.venous.so2[i]),
+                    "dpg_mmol_l": float(self.dpg_mmol_l[i]),
+                    "high_point": {
+                        "barometric_pressure_mmhg": float(h.barometric_pressure_mmhg[i]),
+                        "paco2_mmhg": float(h.arterial.pco2_mmhg[i]),
+                        "pao2_mmhg": float(h.arterial.po2_mmhg[i]),
+                        "sao2": float(h.arterial.so2[i]),
+                        "cao2_ml_dl": float(h.arterial.o2_content_ml_dl[i]),
+                        "do2_ml_min": float(h.do2_ml_min[i]),
+                        "pvo2_mmhg": float(h.venous.po2_mmhg[i]),
+                    },
+                    "flags": list(self.flags[i]),
+                }
+            )
+        return {
+            "name": self.profile.name,
+            "file": self.profile.path,
+            "days": days,
+            "summary": dict(self.summary),
+        }
 
 
 def _number(fail, label, raw, lo, hi, unit):
@@ -187,16 +193,19 @@ def _day_from_mapping(entry, label, fail) -> AscentDay:
     if "high_altitude_m" in entry:
         high = _number(fail, f"{label} high_altitude_m", entry["high_altitude_m"], lo, hi, unit)
         if high < sleep:
-            fail(f"{label} high_altitude_m = {entry['high_altitude_m']!r} is below the sleeping "
-                 f"altitude {sleep:g} m; the allowed range is {sleep:g}-{hi:g} m")
+            fail(
+                f"{label} high_altitude_m = {entry['high_altitude_m']!r} is below the sleeping "
+                f"altitude {sleep:g} m; the allowed range is {sleep:g}-{hi:g} m"
+            )
     if "fio2" in entry and "o2_flow_l_min" in entry:
         fail(f"{label} fio2 and o2_flow_l_min are both given; keep one")
     fio2 = 0.21
     if "fio2" in entry:
         fio2 = _number(fail, f"{label} fio2", entry["fio2"], 0.21, 1.0, "")
     if "o2_flow_l_min" in entry:
-        flow = _number(fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE,
-                       "L/min")
+        flow = _number(
+            fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE, "L/min"
+        )
         fio2 = round(float(fio2_from_flow(flow)), 6)
     return AscentDay(sleep, high, fio2)
 
@@ -217,6 +226,7 @@ def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
     >>> len(p.days), p.days[1].fio2
     (2, 0.25)
     """
+
     def fail(msg):
         raise AscentError(f"{where}: {msg}")
 
@@ -238,20 +248,29 @@ def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
             base[key] = _number(fail, "[baseline] age_years", value, *_AGE_RANGE, "years")
         elif key == "pressure_model":
             if value not in PRESSURE_MODELS:
-                fail(f"[baseline] pressure_model = {value!r} is not one of "
-                     f"{', '.join(PRESSURE_MODELS)}")
+                fail(
+                    f"[baseline] pressure_model = {value!r} is not one of "
+                    f"{', '.join(PRESSURE_MODELS)}"
+                )
             base[key] = value
         else:
-            fail(f"[baseline] unknown key {key!r}; allowed: "
-                 f"{', '.join(_BASELINE_KEYS + ('age_years', 'pressure_model'))}")
+            fail(
+                f"[baseline] unknown key {key!r}; allowed: "
+                f"{', '.join(_BASELINE_KEYS + ('age_years', 'pressure_model'))}"
+            )
     entries = data.get("day", [])
     if not isinstance(entries, list) or not entries:
         fail("no days: give one [[day]] table per day with sleep_altitude_m")
     if len(entries) > _MAX_DAYS:
         fail(f"{len(entries)} days is outside the allowed range 1-{_MAX_DAYS} days")
     days = tuple(_day_from_mapping(e, f"[[day]] {i + 1}", fail) for i, e in enumerate(entries))
-    return AscentProfile(name=data.get("name") or where, days=days, baseline=Baseline(**base),
-                         description=data.get("description", ""), path=where)
+    return AscentProfile(
+        name=data.get("name") or where,
+        days=days,
+        baseline=Baseline(**base),
+        description=data.get("description", ""),
+        path=where,
+    )
 
 
 def load_ascent(path) -> AscentProfile:
@@ -284,6 +303,7 @@ def days_from_csv(text: str, where: str = "<csv>") -> tuple[AscentDay, ...]:
     >>> days_from_csv("day,sleep_altitude_m,high_altitude_m,fio2\\n1,2800,,\\n")
     (AscentDay(sleep_altitude_m=2800.0, high_altitude_m=None, fio2=0.21),)
     """
+
     def fail(msg):
         raise AscentError(f"{where}: {msg}")
 
@@ -381,13 +401,17 @@ def guidance_flags(sleep_altitude_m) -> list[list[str]]:
             continue
         run += 1
         if gain > MAX_GAIN_M:
-            flags[i].append(f"sleeping altitude rose {gain:.0f} m to {h[i]:.0f} m in one day; "
-                            f"above {GUIDANCE_ALTITUDE_M:.0f} m the guideline keeps the rise to "
-                            f"{MAX_GAIN_M:.0f} m")
+            flags[i].append(
+                f"sleeping altitude rose {gain:.0f} m to {h[i]:.0f} m in one day; "
+                f"above {GUIDANCE_ALTITUDE_M:.0f} m the guideline keeps the rise to "
+                f"{MAX_GAIN_M:.0f} m"
+            )
         if run > MAX_GAIN_DAYS_IN_A_ROW:
-            flags[i].append(f"{_ordinal(run)} night in a row higher than the one before above "
-                            f"{GUIDANCE_ALTITUDE_M:.0f} m; the guideline asks for a night "
-                            "without gain every 3 to 4 days")
+            flags[i].append(
+                f"{_ordinal(run)} night in a row higher than the one before above "
+                f"{GUIDANCE_ALTITUDE_M:.0f} m; the guideline asks for a night "
+                "without gain every 3 to 4 days"
+            )
     return flags
 
 
@@ -428,8 +452,7 @@ def risk_category(sleep_altitude_m) -> tuple[str, list[str]]:
     elif first >= 2800.0:
         cat = "moderate"
         reasons.append(f"first night at {first:.0f} m, between 2800 and 3500 m")
-    big = any(h[i] > GUIDANCE_ALTITUDE_M and h[i] - h[i - 1] > MAX_GAIN_M
-              for i in range(1, h.size))
+    big = any(h[i] > GUIDANCE_ALTITUDE_M and h[i] - h[i - 1] > MAX_GAIN_M for i in range(1, h.size))
     gained, rests, short = 0.0, 0, False
     for i in range(1, h.size):
         if h[i] > GUIDANCE_ALTITUDE_M and h[i] <= h[i - 1]:
@@ -442,9 +465,10 @@ def risk_category(sleep_altitude_m) -> tuple[str, list[str]]:
     rate = "low"
     if big:
         rate = "high" if short else "moderate"
-        reasons.append("sleeping altitude rises more than 500 m in a day above 3000 m"
-                       + (" without an extra day per 1000 m" if short
-                          else ", with an extra day per 1000 m"))
+        reasons.append(
+            "sleeping altitude rises more than 500 m in a day above 3000 m"
+            + (" without an extra day per 1000 m" if short else ", with an extra day per 1000 m")
+        )
     elif short:
         rate = "moderate"
         reasons.append("no extra day without gain for each 1000 m above 3000 m")
@@ -532,8 +556,10 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
     h_n, h_h = np.empty_like(sleep), np.empty_like(sleep)
     for j, p in enumerate(profiles):
         model = p.baseline.pressure_model
-        pb_n[j], pb_h[j] = (barometric_pressure(sleep[j], model=model),
-                            barometric_pressure(high[j], model=model))
+        pb_n[j], pb_h[j] = (
+            barometric_pressure(sleep[j], model=model),
+            barometric_pressure(high[j], model=model),
+        )
         for h, out in ((sleep[j], h_n), (high[j], h_h)):
             eq = equivalent_altitude(h, fio2[j], pressure_model=model, air_fio2=0.21)
             out[j] = np.where(fio2[j] > 0.21, np.minimum(h, eq), h)
@@ -544,8 +570,11 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
 
     paco2_0, hb_0 = baseline("paco2_mmhg"), baseline("hb_g_dl")
     co_0 = baseline("cardiac_output_l_min")
-    base = {"baseline_paco2_mmhg": paco2_0, "baseline_hb_g_dl": hb_0,
-            "baseline_cardiac_output_l_min": co_0}
+    base = {
+        "baseline_paco2_mmhg": paco2_0,
+        "baseline_hb_g_dl": hb_0,
+        "baseline_cardiac_output_l_min": co_0,
+    }
     state = baseline_state(paco2_0, hb_0, co_0)
     keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
     night = {k: np.empty(sleep.shape) for k in keys}
@@ -558,26 +587,40 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
         day["ph"][:, i] = ph_henderson_hasselbalch(hco3, paco2)
         day["dpg_mmol_l"][:, i], day["hb_g_dl"][:, i] = state.dpg_mmol_l, state.hb_g_dl
         day["cardiac_output_l_min"][:, i] = np.maximum(
-            cardiac_output(co_0, h_h[:, i], 0.0), state.cardiac_output_l_min)
+            cardiac_output(co_0, h_h[:, i], 0.0), state.cardiac_output_l_min
+        )
         state = acclimatization_step(state, x_n[:, i], h_n[:, i], **base)
         for k in keys:
             night[k][:, i] = getattr(state, k)
     valid = np.arange(width)[None, :] < np.array(n_days)[:, None]
     vo2 = np.broadcast_to(baseline("vo2_ml_min")[:, None], sleep.shape)
     both = {k: np.concatenate([night[k][valid], day[k][valid]]) for k in keys[:-1]}
-    res = solve_transport(barometric_pressure_mmhg=np.concatenate([pb_n[valid], pb_h[valid]]),
-                          fio2=np.concatenate([fio2[valid], fio2[valid]]),
-                          vo2_ml_min=np.concatenate([vo2[valid], vo2[valid]]),
-                          **both, **transport_kw)
+    res = solve_transport(
+        barometric_pressure_mmhg=np.concatenate([pb_n[valid], pb_h[valid]]),
+        fio2=np.concatenate([fio2[valid], fio2[valid]]),
+        vo2_ml_min=np.concatenate([vo2[valid], vo2[valid]]),
+        **both,
+        **transport_kw,
+    )
     total = int(valid.sum())
     results, start = [], 0
     for j, (p, n) in enumerate(zip(profiles, n_days)):
         night_res = _take(res, slice(start, start + n))
         high_res = _take(res, slice(total + start, total + start + n))
         start += n
-        results.append(_result(p, sleep[j, :n], high[j, :n], fio2[j, :n], h_n[j, :n],
-                               night_res, high_res, night["dpg_mmol_l"][j, :n],
-                               night["hco3_mmol_l"][j, :n]))
+        results.append(
+            _result(
+                p,
+                sleep[j, :n],
+                high[j, :n],
+                fio2[j, :n],
+                h_n[j, :n],
+                night_res,
+                high_res,
+                night["dpg_mmol_l"][j, :n],
+                night["hco3_mmol_l"][j, :n],
+            )
+        )
     return results
 
 
@@ -598,18 +641,34 @@ def _result(profile, sleep, high, fio2, h_eq, night_res, high_res, dpg, hco3) ->
         "risk_category": cat,
         "risk_reasons": reasons,
     }
-    return AscentResult(profile=profile, sleep_altitude_m=sleep, high_altitude_m=high,
-                        fio2=fio2, equivalent_altitude_m=h_eq, night=night_res, high=high_res,
-                        dpg_mmol_l=dpg, hco3_mmol_l=hco3, flags=flags, summary=summary)
+    return AscentResult(
+        profile=profile,
+        sleep_altitude_m=sleep,
+        high_altitude_m=high,
+        fio2=fio2,
+        equivalent_altitude_m=h_eq,
+        night=night_res,
+        high=high_res,
+        dpg_mmol_l=dpg,
+        hco3_mmol_l=hco3,
+        flags=flags,
+        summary=summary,
+    )
 
 
 def _take(result, idx):
     """The rows ``idx`` of every array in a TransportResult (nested BloodStates too)."""
+
     def cut(obj):
         if dataclasses.is_dataclass(obj):
-            return dataclasses.replace(obj, **{
-                f.name: cut(getattr(obj, f.name)) for f in dataclasses.fields(obj)
-                if f.name not in ("arterial_conditions", "venous_conditions")})
+            return dataclasses.replace(
+                obj,
+                **{
+                    f.name: cut(getattr(obj, f.name))
+                    for f in dataclasses.fields(obj)
+                    if f.name not in ("arterial_conditions", "venous_conditions")
+                },
+            )
         if isinstance(obj, np.ndarray) and obj.ndim == 1:
             return obj[idx]
         return obj
@@ -619,11 +678,15 @@ def _take(result, idx):
 
 def format_ascent(record: dict) -> str:
     """A schedule's JSON-ready record (:meth:`AscentResult.to_dict`) as a text table."""
-    head = (f"{'day':>3} {'sleep m':>7} {'high m':>7} {'FiO2':>5} {'PB':>6} {'PaCO2':>5} "
-            f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>5} {'high SaO2':>9}"
-            "  flags")
-    units = (f"{'':>3} {'m':>7} {'m':>7} {'-':>5} {'mmHg':>6} {'mmHg':>5} {'-':>5} {'mmHg':>5} "
-             f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/m':>5} {'%':>9}")
+    head = (
+        f"{'day':>3} {'sleep m':>7} {'high m':>7} {'FiO2':>5} {'PB':>6} {'PaCO2':>5} "
+        f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>5} {'high SaO2':>9}"
+        "  flags"
+    )
+    units = (
+        f"{'':>3} {'m':>7} {'m':>7} {'-':>5} {'mmHg':>6} {'mmHg':>5} {'-':>5} {'mmHg':>5} "
+        f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/m':>5} {'%':>9}"
+    )
     lines = [f"{record['name']}  ({record['file']})", head, units]
     for d in record["days"]:
         lines.append(
@@ -631,12 +694,15 @@ def format_ascent(record: dict) -> str:
             f"{d['fio2']:>5.2f} {d['barometric_pressure_mmhg']:>6.1f} {d['paco2_mmhg']:>5.1f} "
             f"{d['ph']:>5.3f} {d['pao2_mmhg']:>5.1f} {100 * d['sao2']:>6.1f} {d['hb_g_dl']:>5.1f} "
             f"{d['cao2_ml_dl']:>5.1f} {d['do2_ml_min']:>5.0f} {100 * d['high_point']['sao2']:>9.1f}"
-            f"  {'; '.join(d['flags'])}")
+            f"  {'; '.join(d['flags'])}"
+        )
     s = record["summary"]
     lines += [
-        (f"  lowest night SaO2 {100 * s['lowest_night_sao2']:.1f} %; nights below 90 % "
-         f"{s['nights_below_0_90']}, below 80 % {s['nights_below_0_80']}; hypoxic burden "
-         f"{s['hypoxic_burden_saturation_days']:.2f} saturation-days"),
+        (
+            f"  lowest night SaO2 {100 * s['lowest_night_sao2']:.1f} %; nights below 90 % "
+            f"{s['nights_below_0_90']}, below 80 % {s['nights_below_0_80']}; hypoxic burden "
+            f"{s['hypoxic_burden_saturation_days']:.2f} saturation-days"
+        ),
         f"  top {s['top_altitude_m']:.0f} m on day {s['days_to_top']}; {s['flag_count']} "
         f"flag(s); risk category {s['risk_category']}"
         + (f" ({'; '.join(s['risk_reasons'])})" if s["risk_reasons"] else ""),

@@ -37,6 +37,7 @@ def stay(h, nights, state=None):
 
 # (a) published values
 
+
 def test_acclimatized_paco2_through_its_data_points():
     # Wachsmuth et al., Br J Sports Med 2013;47(Suppl 1):i93-9 (ISA3600): 30.7 mmHg after
     # 12-16 d at 3600 m; Grocott et al., NEJM 2009;360:140-9: 13.3 mmHg at 8400 m. The
@@ -96,15 +97,19 @@ def test_plasma_volume_and_hb_beidleman_2017():
     assert float(plasma_volume_target(4300.0)) == pytest.approx(-0.096, abs=1e-9)
     for h, d_hb in ((2500.0, 0.5), (4300.0, 0.86)):
         assert float(haemoglobin(15.0, 1.0, plasma_volume_target(h))) - 15.0 == pytest.approx(
-            d_hb, abs=0.1)
+            d_hb, abs=0.1
+        )
 
 
-@pytest.mark.parametrize(("h", "days", "measured", "source"), [
-    (3600.0, 12, 0.030, "Wachsmuth 2013 ISA3600, +3.0 % by day 12"),
-    (5260.0, 7, 0.037, "Ryan 2014 PLoS One 9:e108788, +3.7 % day 7"),
-    (5260.0, 16, 0.076, "Ryan 2014, +7.6 % day 16"),
-    (3454.0, 28, 0.0526, "Siebenmann 2015 J Appl Physiol 119:1194, +5.26 % at 28 d"),
-])
+@pytest.mark.parametrize(
+    ("h", "days", "measured", "source"),
+    [
+        (3600.0, 12, 0.030, "Wachsmuth 2013 ISA3600, +3.0 % by day 12"),
+        (5260.0, 7, 0.037, "Ryan 2014 PLoS One 9:e108788, +3.7 % day 7"),
+        (5260.0, 16, 0.076, "Ryan 2014, +7.6 % day 16"),
+        (3454.0, 28, 0.0526, "Siebenmann 2015 J Appl Physiol 119:1194, +5.26 % at 28 d"),
+    ],
+)
 def test_hb_mass_field_data(h, days, measured, source):
     # Tolerance 2 points: the between-subject SD in these studies is about 3 points.
     s = stay(h, days)[-1]
@@ -126,7 +131,8 @@ def test_equivalent_altitude_worked_values():
     # Computed values (acclimatization.md section 7): FiO2 0.25 at 5000 m is 3717 m on air
     # (mountain model) and 3793 m (standard atmosphere); 1 m for the water-vapour rounding.
     assert float(equivalent_altitude(5000.0, 0.25, pressure_model="mountain")) == pytest.approx(
-        3717.0, abs=1.0)
+        3717.0, abs=1.0
+    )
     assert float(equivalent_altitude(5000.0, 0.25)) == pytest.approx(3793.0, abs=1.0)
 
 
@@ -138,6 +144,7 @@ def test_fio2_from_flow_common_practice():
 
 
 # (b) input matrix
+
 
 def test_step_broadcasts_over_people_and_altitudes():
     h = np.array([0.0, 3000.0, 5000.0])
@@ -154,6 +161,7 @@ def test_hb_mass_growth_zero_below_threshold():
 
 
 # (c) invariants
+
 
 def test_sea_level_stays_at_baseline():
     for s in stay(0.0, 10):

@@ -29,15 +29,21 @@ OXYGEN = ASCENTS / "oxygen-above-6000m.toml"
 
 
 def profile(sleep, high=None, fio2=None):
-    days = tuple(AscentDay(float(s), None if high is None or high[i] is None else float(high[i]),
-                           0.21 if fio2 is None else float(fio2[i]))
-                 for i, s in enumerate(sleep))
+    days = tuple(
+        AscentDay(
+            float(s),
+            None if high is None or high[i] is None else float(high[i]),
+            0.21 if fio2 is None else float(fio2[i]),
+        )
+        for i, s in enumerate(sleep)
+    )
     return AscentProfile("test", days)
 
 
 # Guidance rules of the Wilderness Medical Society (Luks et al., Wilderness Environ Med
 # 2019;30(4S):S3-18 and 2024;35(1S):2S-19S): above 3000 m at most 500 m more sleeping altitude
 # a day, a day without gain every 3-4 days, and the 2024 risk table.
+
 
 def test_rise_of_exactly_500_m_passes_and_501_is_flagged():
     # Our reading of "<= 500 m/day" in the 2024 table: 500 passes.
@@ -79,8 +85,13 @@ def test_risk_table_rule_cases():
 def schedules(draw):
     n = draw(st.integers(2, 14))
     start = draw(st.sampled_from([500.0, 2500.0, 2800.0, 3200.0]))
-    steps = draw(st.lists(st.sampled_from([-400.0, 0.0, 300.0, 500.0, 600.0, 900.0]),
-                          min_size=n - 1, max_size=n - 1))
+    steps = draw(
+        st.lists(
+            st.sampled_from([-400.0, 0.0, 300.0, 500.0, 600.0, 900.0]),
+            min_size=n - 1,
+            max_size=n - 1,
+        )
+    )
     return list(np.clip(start + np.cumsum([0.0, *steps]), 0.0, 7000.0))
 
 
@@ -88,7 +99,7 @@ def schedules(draw):
 @given(schedules(), st.data())
 def test_adding_a_rest_day_never_adds_a_flag(sleep, data):
     i = data.draw(st.integers(0, len(sleep) - 1))
-    rested = sleep[: i + 1] + [sleep[i]] + sleep[i + 1:]
+    rested = sleep[: i + 1] + [sleep[i]] + sleep[i + 1 :]
     assert sum(map(len, guidance_flags(rested))) <= sum(map(len, guidance_flags(sleep)))
     order = {"low": 0, "moderate": 1, "high": 2}
     assert order[risk_category(rested)[0]] <= order[risk_category(sleep)[0]]
@@ -96,10 +107,15 @@ def test_adding_a_rest_day_never_adds_a_flag(sleep, data):
 
 # The day-by-day chain
 
+
 def test_sea_level_schedule_stays_at_baseline():
     r = run_ascent(profile([0.0] * 5))
-    for arr, value in ((r.night.arterial.pco2_mmhg, 40.0), (r.night.hb_g_dl, 15.0),
-                       (r.night.cardiac_output_l_min, 5.0), (r.dpg_mmol_l, 5.0)):
+    for arr, value in (
+        (r.night.arterial.pco2_mmhg, 40.0),
+        (r.night.hb_g_dl, 15.0),
+        (r.night.cardiac_output_l_min, 5.0),
+        (r.dpg_mmol_l, 5.0),
+    ):
         np.testing.assert_allclose(arr, value, rtol=1e-12)
     np.testing.assert_allclose(r.night.arterial.so2, r.night.arterial.so2[0], rtol=1e-9)
     assert r.summary["flag_count"] == 0 and r.summary["nights_below_0_90"] == 0
@@ -118,7 +134,8 @@ def test_hypoxic_burden_definition():
     r = run_ascent(load_ascent(FAST))
     s = r.night.arterial.so2
     assert r.summary["hypoxic_burden_saturation_days"] == pytest.approx(
-        float(np.sum(np.maximum(0.0, 0.90 - s))))
+        float(np.sum(np.maximum(0.0, 0.90 - s)))
+    )
     assert r.summary["nights_below_0_80"] == int(np.sum(s < 0.80))
     assert r.summary["lowest_night_sao2"] == pytest.approx(float(s.min()))
 
@@ -146,8 +163,9 @@ def test_oxygen_example_reports_equivalent_altitude():
 @given(schedules(), st.data())
 def test_supplemental_oxygen_never_lowers_sao2(sleep, data):
     sleep = [min(h, 6000.0) for h in sleep]
-    fio2 = data.draw(st.lists(st.sampled_from([0.21, 0.25, 0.29, 0.4]), min_size=len(sleep),
-                              max_size=len(sleep)))
+    fio2 = data.draw(
+        st.lists(st.sampled_from([0.21, 0.25, 0.29, 0.4]), min_size=len(sleep), max_size=len(sleep))
+    )
     air = run_ascent(profile(sleep))
     o2 = run_ascent(profile(sleep, fio2=fio2))
     # On the days oxygen is breathed. A later day on air can be a little lower (by 1e-5 in
@@ -158,8 +176,10 @@ def test_supplemental_oxygen_never_lowers_sao2(sleep, data):
 
 
 @settings(max_examples=12, deadline=None)
-@given(st.lists(st.sampled_from([0.0, 0.0, 300.0, 500.0]), min_size=2, max_size=12),
-       st.sampled_from([1000.0, 2800.0, 3500.0]))
+@given(
+    st.lists(st.sampled_from([0.0, 0.0, 300.0, 500.0]), min_size=2, max_size=12),
+    st.sampled_from([1000.0, 2800.0, 3500.0]),
+)
 def test_same_altitude_later_in_an_ascent_never_has_lower_pao2(steps, start):
     sleep = list(np.minimum(start + np.cumsum(steps), 6000.0))
     pao2 = run_ascent(profile(sleep)).night.arterial.po2_mmhg
@@ -177,6 +197,7 @@ def test_run_is_vectorised_and_high_points_are_acute():
 
 
 # Files
+
 
 def write(tmp_path, text, name="a.toml"):
     p = tmp_path / name
@@ -203,24 +224,37 @@ def test_load_ascent_reads_baseline_and_days(tmp_path):
     assert p.days[1] == AscentDay(3300.0, 3600.0, 0.25)
 
 
-@pytest.mark.parametrize(("text", "words"), [
-    ('name = "x"\n', ["no days"]),
-    ('name = "x"\n[[day]]\nhigh_altitude_m = 3000\n', ["sleep_altitude_m is missing"]),
-    ('[[day]]\nsleep_altitude_m = 9500\n', ["sleep_altitude_m = 9500", "-500-9000 m"]),
-    ('[[day]]\nsleep_altitude_m = 3000\nhigh_altitude_m = 2000\n',
-     ["high_altitude_m = 2000", "3000-9000 m"]),
-    ('[[day]]\nsleep_altitude_m = 3000\nfio2 = 1.5\n', ["fio2 = 1.5", "0.21-1"]),
-    ('[[day]]\nsleep_altitude_m = 3000\nfio2 = 0.3\no2_flow_l_min = 2\n', ["both given"]),
-    ('[[day]]\nsleep_altitude_m = "high"\n', ["must be a number"]),
-    ('[[day]]\nsleep_altitude_m = 3000\naltitude = 1\n', ["unknown key 'altitude'"]),
-    ('[baseline]\nhb_g_dl = 40\n[[day]]\nsleep_altitude_m = 0\n',
-     ["[baseline] hb_g_dl = 40", "2-25 g/dL"]),
-    ('[baseline]\npressure_model = "moon"\n[[day]]\nsleep_altitude_m = 0\n', ["moon"]),
-    ('[baseline]\nweight_kg = 70\n[[day]]\nsleep_altitude_m = 0\n', ["unknown key 'weight_kg'"]),
-    ('[baseline]\nage_years = 200\n[[day]]\nsleep_altitude_m = 0\n', ["age_years = 200", "years"]),
-    ('camp = 1\n[[day]]\nsleep_altitude_m = 0\n', ["unknown key 'camp'"]),
-    ('name = \n', ["not valid TOML"]),
-])
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        ('name = "x"\n', ["no days"]),
+        ('name = "x"\n[[day]]\nhigh_altitude_m = 3000\n', ["sleep_altitude_m is missing"]),
+        ("[[day]]\nsleep_altitude_m = 9500\n", ["sleep_altitude_m = 9500", "-500-9000 m"]),
+        (
+            "[[day]]\nsleep_altitude_m = 3000\nhigh_altitude_m = 2000\n",
+            ["high_altitude_m = 2000", "3000-9000 m"],
+        ),
+        ("[[day]]\nsleep_altitude_m = 3000\nfio2 = 1.5\n", ["fio2 = 1.5", "0.21-1"]),
+        ("[[day]]\nsleep_altitude_m = 3000\nfio2 = 0.3\no2_flow_l_min = 2\n", ["both given"]),
+        ('[[day]]\nsleep_altitude_m = "high"\n', ["must be a number"]),
+        ("[[day]]\nsleep_altitude_m = 3000\naltitude = 1\n", ["unknown key 'altitude'"]),
+        (
+            "[baseline]\nhb_g_dl = 40\n[[day]]\nsleep_altitude_m = 0\n",
+            ["[baseline] hb_g_dl = 40", "2-25 g/dL"],
+        ),
+        ('[baseline]\npressure_model = "moon"\n[[day]]\nsleep_altitude_m = 0\n', ["moon"]),
+        (
+            "[baseline]\nweight_kg = 70\n[[day]]\nsleep_altitude_m = 0\n",
+            ["unknown key 'weight_kg'"],
+        ),
+        (
+            "[baseline]\nage_years = 200\n[[day]]\nsleep_altitude_m = 0\n",
+            ["age_years = 200", "years"],
+        ),
+        ("camp = 1\n[[day]]\nsleep_altitude_m = 0\n", ["unknown key 'camp'"]),
+        ("name = \n", ["not valid TOML"]),
+    ],
+)
 def test_bad_files_are_refused_with_file_key_value_and_range(tmp_path, text, words):
     path = write(tmp_path, text)
     with pytest.raises(AscentError) as err:
@@ -244,13 +278,16 @@ def test_csv_round_trip(tmp_path):
     assert days_to_csv(days).splitlines()[0] == "day,sleep_altitude_m,high_altitude_m,fio2"
 
 
-@pytest.mark.parametrize(("text", "words"), [
-    ("day,sleep_m\n1,2800\n", ["header"]),
-    ("day,sleep_altitude_m,high_altitude_m,fio2\n2,2800,,\n", ["row 1 day = '2'"]),
-    ("day,sleep_altitude_m,high_altitude_m,fio2\n1,abc,,\n", ["sleep_altitude_m = 'abc'"]),
-    ("day,sleep_altitude_m,high_altitude_m,fio2\n1,,,\n", ["sleep_altitude_m is missing"]),
-    ("day,sleep_altitude_m,high_altitude_m,fio2\n", ["no days"]),
-])
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        ("day,sleep_m\n1,2800\n", ["header"]),
+        ("day,sleep_altitude_m,high_altitude_m,fio2\n2,2800,,\n", ["row 1 day = '2'"]),
+        ("day,sleep_altitude_m,high_altitude_m,fio2\n1,abc,,\n", ["sleep_altitude_m = 'abc'"]),
+        ("day,sleep_altitude_m,high_altitude_m,fio2\n1,,,\n", ["sleep_altitude_m is missing"]),
+        ("day,sleep_altitude_m,high_altitude_m,fio2\n", ["no days"]),
+    ],
+)
 def test_bad_csv_is_refused(text, words):
     with pytest.raises(AscentError) as err:
         days_from_csv(text, "x.csv")
@@ -260,14 +297,24 @@ def test_bad_csv_is_refused(text, words):
 
 # Command
 
+
 def test_command_json(capsys):
     assert main(["ascent", str(FAST), str(SLOW), "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
-    assert [r["name"] for r in out] == ["Fast ascent to a 5300 m camp",
-                                        "Slow ascent to a 5300 m camp"]
+    assert [r["name"] for r in out] == [
+        "Fast ascent to a 5300 m camp",
+        "Slow ascent to a 5300 m camp",
+    ]
     day = out[0]["days"][1]
-    for key in ("day", "sleep_altitude_m", "barometric_pressure_mmhg", "pao2_mmhg", "sao2",
-                "cao2_ml_dl", "flags"):
+    for key in (
+        "day",
+        "sleep_altitude_m",
+        "barometric_pressure_mmhg",
+        "pao2_mmhg",
+        "sao2",
+        "cao2_ml_dl",
+        "flags",
+    ):
         assert key in day
     assert day["flags"] and out[0]["summary"]["flag_count"] == 5
     same = run_ascent(load_ascent(FAST)).to_dict()
@@ -281,7 +328,7 @@ def test_command_table(capsys):
 
 
 def test_command_refuses_bad_file(tmp_path, capsys):
-    bad = write(tmp_path, '[[day]]\nsleep_altitude_m = 12000\n')
+    bad = write(tmp_path, "[[day]]\nsleep_altitude_m = 12000\n")
     assert main(["ascent", str(FAST), str(bad)]) == 2
     err = capsys.readouterr().err
     assert str(bad) in err and "sleep_altitude_m = 12000" in err
@@ -289,8 +336,9 @@ def test_command_refuses_bad_file(tmp_path, capsys):
 
 def test_command_refuses_unsolvable_schedule(tmp_path, capsys):
     # 9000 m on air on the first night leaves too little alveolar O2 for resting VO2
-    bad = write(tmp_path, '[baseline]\npressure_model = "standard"\n'
-                          '[[day]]\nsleep_altitude_m = 9000\n')
+    bad = write(
+        tmp_path, '[baseline]\npressure_model = "standard"\n[[day]]\nsleep_altitude_m = 9000\n'
+    )
     assert main(["ascent", str(bad)]) == 2
     assert "cannot be solved" in capsys.readouterr().err
 
@@ -302,6 +350,7 @@ def test_batched_runs_match_single_runs():
         alone = run_ascent(p)
         assert r.sleep_altitude_m.size == len(p.days)
         np.testing.assert_allclose(r.night.arterial.so2, alone.night.arterial.so2, rtol=1e-6)
-        np.testing.assert_allclose(r.high.arterial.po2_mmhg, alone.high.arterial.po2_mmhg,
-                                   rtol=1e-6)
+        np.testing.assert_allclose(
+            r.high.arterial.po2_mmhg, alone.high.arterial.po2_mmhg, rtol=1e-6
+        )
         assert r.summary["flag_count"] == alone.summary["flag_count"]
