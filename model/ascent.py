@@ -141,6 +141,7 @@ class AscentResult:
                     "inspired_po2_mmhg": float(n.inspired_po2_mmhg[i]),
                     "paco2_mmhg": float(n.arterial.pco2_mmhg[i]),
                     "ph": float(n.arterial.ph[i]),
+                    "base_excess_mmol_l": float(n.arterial.base_excess_mmol_l[i]),
                     "pao2_mmhg": float(n.arterial.po2_mmhg[i]),
                     "alveolar_po2_mmhg": float(n.alveolar_po2_mmhg[i]),
                     "sao2": float(n.arterial.so2[i]),
