@@ -121,9 +121,14 @@ class InputPanel(pn.viewable.Viewer):
             return NumberInput(state, name)
 
         def choice(p, widget=pn.widgets.Select):
-            return widget.from_param(
-                p, css_classes=[f"o2-in-{p.name}"], sizing_mode="stretch_width"
+            w = widget.from_param(p, css_classes=[f"o2-in-{p.name}"], sizing_mode="stretch_width")
+            if widget is pn.widgets.Select:
+                return w
+            # Button groups show no name of their own.
+            caption = pn.pane.HTML(
+                html.escape(p.label), margin=(4, 10, -6, 10), styles={"font-size": "13px"}
             )
+            return pn.Column(caption, w, margin=0, sizing_mode="stretch_width")
 
         def toggle(p):
             return pn.widgets.Checkbox.from_param(p, css_classes=[f"o2-in-{p.name}"])
