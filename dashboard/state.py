@@ -105,6 +105,11 @@ KIND_UNITS = {
 }
 
 
+def _nice(x: float) -> str:
+    """A bound for people: 0.6666 -> '0.667', 9000.0 -> '9000'."""
+    return f"{x:.0f}" if abs(x) >= 100 else f"{x:.3g}"
+
+
 def _field(label: str) -> str:
     """'Hb (g/dL)' -> 'Hb'."""
     return label.rsplit(" (", 1)[0] if label.endswith(")") else label
@@ -442,12 +447,14 @@ class CaseState(param.Parameterized):
             self.error_message = f"{self.display_label(name)}: a value is required."
             return False
         lo, hi = self.display_bounds(name)
+        # Accept what the message promises: the bounds as shown (then clamped to the true ones).
+        lo, hi = min(lo, float(_nice(lo))), max(hi, float(_nice(hi)))
         tol = 1e-9 * max(abs(lo), abs(hi), 1.0)
         if not lo - tol <= value <= hi + tol:
             label = self.display_label(name)
             self.error_message = (
                 f"{_field(label)} = {value:g} is outside the allowed range "
-                f"{lo:.4g}–{hi:.4g}{_unit(label)}; kept the last valid value."
+                f"{_nice(lo)}–{_nice(hi)}{_unit(label)}; kept the last valid value."
             )
             return False
         _, _, _, from_display = self._display_pair(name)

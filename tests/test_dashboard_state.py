@@ -182,3 +182,11 @@ def test_unchanged_value_after_refusal_is_accepted():
     assert not s.set_input("hb_g_dl", 99.0)
     assert s.set_input("hb_g_dl", 15.0)
     assert s.error_message == ""
+
+
+def test_bounds_as_shown_in_kpa_are_accepted():
+    s = CaseState(pressure_unit="kPa", fio2=1.0)  # on air, PaCO2 150 mmHg leaves no PAO2
+    assert not s.set_display_input("paco2_mmhg", 21.0)
+    assert "0.667–20 kPa" in s.error_message
+    assert s.set_display_input("paco2_mmhg", 20.0), s.error_message
+    assert s.paco2_mmhg == s.param.paco2_mmhg.bounds[1]
