@@ -13,7 +13,6 @@ from __future__ import annotations
 import csv
 import dataclasses
 import io
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -30,7 +29,7 @@ from .acclimatization import (
 )
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2
 from .limits import INPUT_LIMITS
-from .scenario import ScenarioError
+from .scenario import ScenarioError, read_toml
 from .transport import solve_transport
 
 GUIDANCE_ALTITUDE_M = 3000.0
@@ -283,15 +282,7 @@ def load_ascent(path) -> AscentProfile:
         Unreadable file, TOML syntax error, or any problem of :func:`ascent_from_mapping`.
     """
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise AscentError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise AscentError(f"{p}: not valid TOML ({exc})") from None
-    return ascent_from_mapping(data, str(p))
+    return ascent_from_mapping(read_toml(p, AscentError), str(p))
 
 
 def days_from_csv(text: str, where: str = "<csv>") -> tuple[AscentDay, ...]:

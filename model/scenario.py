@@ -139,6 +139,18 @@ def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
                     inputs=inputs)
 
 
+def read_toml(path: Path, error: type[ValueError]) -> dict:
+    """Parse a TOML file, raising ``error`` with the path on an unreadable or invalid file."""
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise error(f"{path}: cannot read the file ({exc.strerror or exc})") from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise error(f"{path}: not valid TOML ({exc})") from None
+
+
 def load_scenario(path) -> Scenario:
     """Read and validate one scenario file.
 
@@ -149,14 +161,7 @@ def load_scenario(path) -> Scenario:
         or an impossible combination; the message names file, key, value, range and unit.
     """
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ScenarioError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ScenarioError(f"{p}: not valid TOML ({exc})") from None
+    data = read_toml(p, ScenarioError)
     for key in ("name", "description"):
         if key not in data:
             raise ScenarioError(f"{p}: missing required top-level key {key!r} (text)")
