@@ -317,12 +317,17 @@ class PreparedCurve:
     def inverse(self, s):
         """PO2 [mmHg] at functional saturation s (exact inverse of :meth:`saturation`)."""
         sco = self.sco
-        total = s * (1.0 - sco) + sco
-        p_eq = _total_inverse(self.name, total, self.c, self.shift)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
-        po2 = np.where(s == 0, 0.0, po2)
-        return np.where(s == 1, np.inf, po2)
+        if self.has_co:
+            total = s * (1.0 - sco) + sco
+            p_eq = _total_inverse(self.name, total, self.c, self.shift)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
+        else:
+            po2 = _total_inverse(self.name, s, self.c, self.shift)
+        ends = (s == 0) | (s == 1)
+        if np.any(ends):
+            po2 = np.where(s == 0, 0.0, np.where(s == 1, np.inf, po2))
+        return po2
 
 
 def prepare_curve(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
