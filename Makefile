@@ -55,6 +55,7 @@ evaluate: $(STAMP)
 
 bench: $(STAMP)
 	$(BIN)/python bench/bench_model.py
+	$(BIN)/python bench/bench_ascent.py
 	$(BIN)/python bench/bench_dashboard.py
 
 lint: $(STAMP)
