@@ -65,18 +65,11 @@ _CASE_INPUTS = (
 )
 
 
-def _bounds(name: str, fallback: tuple[float, float]) -> tuple[float, float]:
-    """Bounds of an input: the model's validation limits where it publishes them."""
-    limits = getattr(model, "INPUT_LIMITS", {}).get(name)
-    return (float(limits[0]), float(limits[1])) if limits else fallback
-
-
-def _num(
-    name: str, default: float, fallback: tuple[float, float], label: str, doc: str, step: float
-):
-    return param.Number(
-        default=default, bounds=_bounds(name, fallback), label=label, doc=doc, step=step
-    )
+def _num(name: str, default: float, label: str, doc: str, step: float):
+    """A bounded input whose bounds are the model's own validation limits."""
+    lo, hi = model.INPUT_LIMITS[name][:2]
+    return param.Number(default=default, bounds=(float(lo), float(hi)), label=label, doc=doc,
+                        step=step)
 
 
 READING_ROWS = (
@@ -151,7 +144,9 @@ class CaseState(param.Parameterized):
 
     # --- Air
     altitude_m = _num(
-        "altitude_m", 0.0, (-500.0, 9000.0), "Altitude (m)", "Altitude above sea level [m].", 100.0
+        "altitude_m",
+        0.0,
+        "Altitude (m)", "Altitude above sea level [m].", 100.0
     )
     use_pressure_override = param.Boolean(
         default=False,
@@ -161,7 +156,6 @@ class CaseState(param.Parameterized):
     barometric_pressure_mmhg = _num(
         "barometric_pressure_mmhg",
         760.0,
-        (200.0, 2300.0),
         "Barometric pressure (mmHg)",
         "Ambient pressure when entered directly [mmHg].",
         5.0,
@@ -173,20 +167,25 @@ class CaseState(param.Parameterized):
         doc="'standard' atmosphere or the heavier 'mountain' atmosphere of high ranges.",
     )
     fio2 = _num(
-        "fio2", 0.21, (0.10, 1.0), "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01
+        "fio2",
+        0.21,
+        "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01
     )
 
     # --- Lungs
     paco2_mmhg = _num(
-        "paco2_mmhg", 40.0, (10.0, 120.0), "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0
+        "paco2_mmhg",
+        40.0,
+        "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0
     )
     rq = _num(
-        "rq", 0.8, (0.6, 1.3), "Respiratory quotient (-)", "CO2 output / O2 uptake [-].", 0.05
+        "rq",
+        0.8,
+        "Respiratory quotient (-)", "CO2 output / O2 uptake [-].", 0.05
     )
     shunt_fraction = _num(
         "shunt_fraction",
         0.02,
-        (0.0, 0.6),
         "Shunt (fraction of output)",
         "Venous admixture Qs/Qt [-].",
         0.01,
@@ -194,7 +193,6 @@ class CaseState(param.Parameterized):
     diffusing_capacity_ml_min_mmhg = _num(
         "diffusing_capacity_ml_min_mmhg",
         30.0,
-        (1.0, 100.0),
         "O2 diffusing capacity (mL/min/mmHg)",
         "Lung O2 diffusing capacity [mL/min/mmHg].",
         1.0,
@@ -202,16 +200,20 @@ class CaseState(param.Parameterized):
     capillary_volume_ml = _num(
         "capillary_volume_ml",
         75.0,
-        (10.0, 250.0),
         "Pulmonary capillary volume (mL)",
         "Blood volume in the lung capillaries [mL].",
         5.0,
     )
 
     # --- Blood
-    hb_g_dl = _num("hb_g_dl", 15.0, (2.0, 25.0), "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
+    hb_g_dl = _num(
+        "hb_g_dl",
+        15.0,
+        "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
     temperature_c = _num(
-        "temperature_c", 37.0, (25.0, 43.0), "Temperature (°C)", "Blood temperature [°C].", 0.1
+        "temperature_c",
+        37.0,
+        "Temperature (°C)", "Blood temperature [°C].", 0.1
     )
     acid_base_input = param.Selector(
         default="pH",
@@ -219,11 +221,13 @@ class CaseState(param.Parameterized):
         label="Acid–base given as",
         doc="Give arterial pH, or base excess (pH then follows from PaCO2).",
     )
-    ph = _num("ph", 7.40, (6.8, 7.8), "Arterial pH (-)", "Arterial pH [-].", 0.01)
+    ph = _num(
+        "ph",
+        7.40,
+        "Arterial pH (-)", "Arterial pH [-].", 0.01)
     base_excess_mmol_l = _num(
         "base_excess_mmol_l",
         0.0,
-        (-30.0, 30.0),
         "Base excess (mmol/L)",
         "Base excess [mmol/L].",
         0.5,
@@ -231,7 +235,6 @@ class CaseState(param.Parameterized):
     dpg_mmol_l = _num(
         "dpg_mmol_l",
         5.0,
-        (0.0, 15.0),
         "2,3-DPG (mmol/L)",
         "Red-cell 2,3-DPG [mmol/L]; 5.0 is normal.",
         0.1,
@@ -239,7 +242,6 @@ class CaseState(param.Parameterized):
     cohb_fraction = _num(
         "cohb_fraction",
         0.0,
-        (0.0, 0.7),
         "COHb (fraction)",
         "Carboxyhaemoglobin fraction of total Hb [-].",
         0.01,
@@ -247,7 +249,6 @@ class CaseState(param.Parameterized):
     methb_fraction = _num(
         "methb_fraction",
         0.0,
-        (0.0, 0.7),
         "MetHb (fraction)",
         "Methaemoglobin fraction of total Hb [-].",
         0.01,
@@ -258,7 +259,6 @@ class CaseState(param.Parameterized):
     p50_mmhg = _num(
         "p50_mmhg",
         26.8,
-        (10.0, 60.0),
         "Standard P50 (mmHg)",
         "Standard-state P50 when overridden [mmHg].",
         0.1,
@@ -274,13 +274,14 @@ class CaseState(param.Parameterized):
     cardiac_output_l_min = _num(
         "cardiac_output_l_min",
         5.0,
-        (0.5, 30.0),
         "Cardiac output (L/min)",
         "Cardiac output [L/min].",
         0.1,
     )
     vo2_ml_min = _num(
-        "vo2_ml_min", 250.0, (50.0, 5000.0), "VO2 (mL/min)", "Whole-body O2 uptake [mL/min].", 10.0
+        "vo2_ml_min",
+        250.0,
+        "VO2 (mL/min)", "Whole-body O2 uptake [mL/min].", 10.0
     )
     vo2_temperature_scaling = param.Boolean(
         default=False,

@@ -136,10 +136,10 @@ def aa_gradient(alveolar_po2_mmhg, arterial_po2_mmhg):
 
     Examples
     --------
-    >>> float(aa_gradient(101.8, 90.0))
+    >>> round(float(aa_gradient(101.8, 90.0)), 1)
     11.8
     """
-    return np.round(np.asarray(alveolar_po2_mmhg, dtype=float) - np.asarray(arterial_po2_mmhg, dtype=float), 12)
+    return np.asarray(alveolar_po2_mmhg, dtype=float) - np.asarray(arterial_po2_mmhg, dtype=float)
 
 
 def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
