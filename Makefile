@@ -54,9 +54,7 @@ evaluate: $(STAMP)
 	$(BIN)/o2transit evaluate scenarios/*.toml
 
 bench: $(STAMP)
-	$(BIN)/python bench/bench_model.py
-	$(BIN)/python bench/bench_ascent.py
-	$(BIN)/python bench/bench_dashboard.py
+	@set -e; for f in bench/bench_*.py; do echo "== $$f"; $(BIN)/python $$f; done
 
 lint: $(STAMP)
 	$(BIN)/ruff check model dashboard tests bench
