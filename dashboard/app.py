@@ -6,6 +6,7 @@ import ipaddress
 
 import panel as pn
 
+from dashboard.nav import screen_links
 from dashboard.state import CaseState
 from dashboard.views import (
     ACCENT,
@@ -48,26 +49,10 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
     return template
 
 
-SCREENS: dict[str, tuple[str, object]] = {
-    "/": ("Case", create_app),
+SCREENS: dict[str, object] = {
+    "/": create_app,
 }
-"""URL path -> (link text, session factory). Each screen module adds its own entry below."""
-
-
-def screen_links(current: str) -> pn.pane.HTML:
-    """A row of links to the other screens (plain anchors: every screen is its own page)."""
-    links = []
-    for path, (text, _factory) in SCREENS.items():
-        if path == current:
-            links.append(f'<span class="o2-nav-here">{text}</span>')
-        else:
-            links.append(f'<a class="o2-nav-link" href="{path}">{text}</a>')
-    return pn.pane.HTML(
-        " · ".join(links),
-        css_classes=["o2-nav"],
-        styles={"font-size": "16px", "color": "white"},
-        stylesheets=[".o2-nav-link{color:#fff;text-decoration:underline} .o2-nav-here{font-weight:600}"],
-    )
+"""URL path -> session factory; the link text of each path is in ``dashboard.nav.SCREEN_TITLES``."""
 
 
 def _is_loopback(address: str) -> bool:
@@ -90,7 +75,7 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
             flush=True,
         )
     return pn.serve(
-        {path: factory for path, (_text, factory) in SCREENS.items()},
+        dict(SCREENS),
         address=address,
         port=port,
         show=show,

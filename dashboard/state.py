@@ -68,8 +68,9 @@ _CASE_INPUTS = (
 def _num(name: str, default: float, label: str, doc: str, step: float):
     """A bounded input whose bounds are the model's own validation limits."""
     lo, hi = model.INPUT_LIMITS[name][:2]
-    return param.Number(default=default, bounds=(float(lo), float(hi)), label=label, doc=doc,
-                        step=step)
+    return param.Number(
+        default=default, bounds=(float(lo), float(hi)), label=label, doc=doc, step=step
+    )
 
 
 READING_ROWS = (
@@ -143,11 +144,7 @@ class CaseState(param.Parameterized):
     """Inputs of one case along the oxygen path, its result and an optional baseline."""
 
     # --- Air
-    altitude_m = _num(
-        "altitude_m",
-        0.0,
-        "Altitude (m)", "Altitude above sea level [m].", 100.0
-    )
+    altitude_m = _num("altitude_m", 0.0, "Altitude (m)", "Altitude above sea level [m].", 100.0)
     use_pressure_override = param.Boolean(
         default=False,
         label="Enter barometric pressure instead of altitude",
@@ -166,23 +163,11 @@ class CaseState(param.Parameterized):
         label="Pressure–altitude model",
         doc="'standard' atmosphere or the heavier 'mountain' atmosphere of high ranges.",
     )
-    fio2 = _num(
-        "fio2",
-        0.21,
-        "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01
-    )
+    fio2 = _num("fio2", 0.21, "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01)
 
     # --- Lungs
-    paco2_mmhg = _num(
-        "paco2_mmhg",
-        40.0,
-        "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0
-    )
-    rq = _num(
-        "rq",
-        0.8,
-        "Respiratory quotient (-)", "CO2 output / O2 uptake [-].", 0.05
-    )
+    paco2_mmhg = _num("paco2_mmhg", 40.0, "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0)
+    rq = _num("rq", 0.8, "Respiratory quotient (-)", "CO2 output / O2 uptake [-].", 0.05)
     shunt_fraction = _num(
         "shunt_fraction",
         0.02,
@@ -206,25 +191,15 @@ class CaseState(param.Parameterized):
     )
 
     # --- Blood
-    hb_g_dl = _num(
-        "hb_g_dl",
-        15.0,
-        "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
-    temperature_c = _num(
-        "temperature_c",
-        37.0,
-        "Temperature (°C)", "Blood temperature [°C].", 0.1
-    )
+    hb_g_dl = _num("hb_g_dl", 15.0, "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
+    temperature_c = _num("temperature_c", 37.0, "Temperature (°C)", "Blood temperature [°C].", 0.1)
     acid_base_input = param.Selector(
         default="pH",
         objects=["pH", "base excess"],
         label="Acid–base given as",
         doc="Give arterial pH, or base excess (pH then follows from PaCO2).",
     )
-    ph = _num(
-        "ph",
-        7.40,
-        "Arterial pH (-)", "Arterial pH [-].", 0.01)
+    ph = _num("ph", 7.40, "Arterial pH (-)", "Arterial pH [-].", 0.01)
     base_excess_mmol_l = _num(
         "base_excess_mmol_l",
         0.0,
@@ -278,11 +253,7 @@ class CaseState(param.Parameterized):
         "Cardiac output [L/min].",
         0.1,
     )
-    vo2_ml_min = _num(
-        "vo2_ml_min",
-        250.0,
-        "VO2 (mL/min)", "Whole-body O2 uptake [mL/min].", 10.0
-    )
+    vo2_ml_min = _num("vo2_ml_min", 250.0, "VO2 (mL/min)", "Whole-body O2 uptake [mL/min].", 10.0)
     vo2_temperature_scaling = param.Boolean(
         default=False,
         label="Scale VO2 with temperature",
@@ -498,6 +469,22 @@ class CaseState(param.Parameterized):
             self.error_message = f"Scenario not loaded: {exc}"
             return False
         updates.update(scenario_name=scenario.name, scenario_description=scenario.description)
+        self.param.update(**updates)
+        return True
+
+    def apply_inputs(self, inputs: dict, name: str = "", description: str = "") -> bool:
+        """Make ``inputs`` (scenario key names) the live case, all-or-nothing.
+
+        Inputs not named return to their defaults, as for a scenario. Returns False and sets
+        ``error_message`` (nothing changed) when a key is unknown or a value is refused.
+        """
+        try:
+            updates = self._updates_from_inputs(dict(inputs))
+            model.solve_transport(**self._inputs_after(updates))
+        except (ValueError, TypeError) as exc:
+            self.error_message = f"Case not applied: {exc}"
+            return False
+        updates.update(scenario_name=name, scenario_description=description)
         self.param.update(**updates)
         return True
 

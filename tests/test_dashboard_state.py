@@ -190,3 +190,15 @@ def test_bounds_as_shown_in_kpa_are_accepted():
     assert "0.667–20 kPa" in s.error_message
     assert s.set_display_input("paco2_mmhg", 20.0), s.error_message
     assert s.paco2_mmhg == s.param.paco2_mmhg.bounds[1]
+
+
+def test_apply_inputs_is_all_or_nothing():
+    state = CaseState()
+    assert state.apply_inputs({"altitude_m": 4500.0, "hb_g_dl": 9.0}, name="trial")
+    assert state.altitude_m == 4500.0 and state.hb_g_dl == 9.0 and state.scenario_name == "trial"
+    before = state.model_inputs()
+    assert not state.apply_inputs({"altitude_m": 1000.0, "hb_g_dl": 99.0})
+    assert "Haemoglobin" in state.error_message and "99" in state.error_message
+    assert state.model_inputs() == before
+    assert not state.apply_inputs({"no_such_input": 1.0})
+    assert state.model_inputs() == before
