@@ -198,7 +198,7 @@ def test_apply_inputs_is_all_or_nothing():
     assert state.altitude_m == 4500.0 and state.hb_g_dl == 9.0 and state.scenario_name == "trial"
     before = state.model_inputs()
     assert not state.apply_inputs({"altitude_m": 1000.0, "hb_g_dl": 99.0})
-    assert "Haemoglobin" in state.error_message and "99" in state.error_message
+    assert "Hb (g/dL) = 99" in state.error_message and "2–25" in state.error_message
     assert state.model_inputs() == before
     assert not state.apply_inputs({"no_such_input": 1.0})
     assert state.model_inputs() == before
