@@ -8,6 +8,7 @@ One module per stage, in the order oxygen travels: ``air`` -> ``lungs`` ->
 from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base_excess
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
 from .ascent import AscentDay, AscentError, AscentProfile, load_ascent, run_ascent
+from .bedside import MEASURED_LIMITS, check_measured, derive
 from .circulation import (
                           body_surface_area,
                           extraction_ratio,
@@ -38,11 +39,13 @@ from .units import (
 )
 
 __all__ = [
-    "CURVES", "HUFNER_ML_G", "INPUT_LIMITS", "NORMAL_DPG_MMOL_L", "O2_SOLUBILITY_ML_DL_MMHG",
-    "PRESSURE_MODELS", "STANDARD_P50_MMHG", "AscentDay", "AscentError", "AscentProfile",
+    "CURVES", "HUFNER_ML_G", "INPUT_LIMITS", "MEASURED_LIMITS", "NORMAL_DPG_MMOL_L",
+    "O2_SOLUBILITY_ML_DL_MMHG", "PRESSURE_MODELS", "STANDARD_P50_MMHG", "AscentDay", "AscentError",
+    "AscentProfile",
     "BloodState", "Scenario", "ScenarioError",
     "TransportResult", "aa_gradient", "alveolar_po2", "barometric_pressure", "base_excess",
-    "bicarbonate", "blood_co2_content", "body_surface_area", "end_capillary_po2",
+    "bicarbonate", "blood_co2_content", "body_surface_area", "check_measured",
+    "derive", "end_capillary_po2",
     "extraction_ratio", "hb_g_dl_to_g_l", "hb_g_dl_to_mmol_l", "hb_g_l_to_g_dl",
     "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "load_ascent", "load_scenario",
     "mix_by_content",
