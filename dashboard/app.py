@@ -8,6 +8,7 @@ import panel as pn
 
 from dashboard.nav import screen_links
 from dashboard.state import CaseState
+from dashboard.urlstate import bind_url
 from dashboard.views import (
     ACCENT,
     CascadePlot,
@@ -32,6 +33,7 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
         collapsed_sidebar=False,
     )
     template.header.append(screen_links("/"))
+    bind_url(state, template)  # case from ?key=value on load; address follows every change
     template.sidebar.append(InputPanel(state))
     template.main.append(
         pn.Column(

@@ -1,0 +1,291 @@
+"""Shareable page state: the case inputs in the page address (``?altitude_m=4500&hb_g_dl=9``).
+
+Query keys are the scenario files' key names, which are also :class:`CaseState`'s input
+names (SI-style mmHg and g/dL keys; the files' ``_kpa``/``_g_l``/``_mmol_l`` variants are
+read too), plus the display choices ``pressure_unit`` and ``hb_unit``. On load each key is
+checked on its own: a refused value falls back to its default and a visible message names the
+field, the value, the allowed range and the unit; the valid ones are applied together through
+:meth:`CaseState.apply_inputs`. On every change the address is rewritten (only values that
+differ from the defaults), so the page can be bookmarked or shared at any moment.
+
+The pure half (:func:`case_query`, :func:`check_case_query`, :func:`parse_query_string`) has
+no Panel in it and is tested alone; :func:`bind_url` wires it to a served page, and
+:func:`read_query` / :func:`write_query` are the small generic helpers other screens use for
+their own keys.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+from collections.abc import Iterable
+from urllib.parse import parse_qsl, urlencode
+
+import panel as pn
+import param
+
+from dashboard.state import _CASE_INPUTS, CURVE_LABELS, CaseState
+from model.units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
+
+DISPLAY_KEYS = ("pressure_unit", "hb_unit")
+# Mode switches: apply_inputs infers them from which keys are given, so the address leaves
+# them out; they are still accepted when a hand-written link names them.
+_MODE_KEYS = ("use_pressure_override", "acid_base_input", "use_p50_override")
+# Scenario-file variants in other units: key -> (input name, factor to the input's unit, unit)
+UNIT_VARIANTS = {
+    "barometric_pressure_kpa": ("barometric_pressure_mmhg", MMHG_PER_KPA, "kPa"),
+    "paco2_kpa": ("paco2_mmhg", MMHG_PER_KPA, "kPa"),
+    "p50_kpa": ("p50_mmhg", MMHG_PER_KPA, "kPa"),
+    "hb_g_l": ("hb_g_dl", 0.1, "g/L"),
+    "hb_mmol_l": ("hb_g_dl", 1.0 / HB_MMOL_L_PER_G_DL, "mmol/L"),
+}
+CASE_KEYS = (*_CASE_INPUTS, *DISPLAY_KEYS)
+"""Every key the case screen owns in the address (unit variants are read, never written)."""
+
+_TRUE, _FALSE = ("true", "1", "yes", "on"), ("false", "0", "no", "off")
+_CURVE_NAMES = {
+    **{v: v for v in CURVE_LABELS.values()},
+    "severinghaus1979": "severinghaus",
+    "dash2016": "dash",
+    "hill1910": "hill",
+}
+
+
+def parse_query_string(search: str) -> dict[str, str]:
+    """``'?a=1&b=x'`` -> ``{'a': '1', 'b': 'x'}`` (raw text; the last of a repeated key wins).
+
+    >>> parse_query_string("?altitude_m=4500&hb_g_dl=9")
+    {'altitude_m': '4500', 'hb_g_dl': '9'}
+    """
+    return dict(parse_qsl(search.lstrip("?"), keep_blank_values=True))
+
+
+def _text(value) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, float):
+        return format(value, ".10g")
+    return str(value)
+
+
+def _field_unit(label: str) -> tuple[str, str]:
+    """'Hb (g/dL)' -> ('Hb', 'g/dL'); '(-)' and '(fraction ...)' give no unit."""
+    if not label.endswith(")"):
+        return label, ""
+    field, unit = label.rsplit(" (", 1)
+    unit = unit[:-1]
+    return field, "" if unit in ("-",) or unit.startswith("fraction") else unit
+
+
+def _shown(value, unit: str = "") -> str:
+    if value is None:
+        return "none"
+    text = f"{value:.4g}" if isinstance(value, float) else _text(value)
+    return f"{text} {unit}".strip()
+
+
+def case_query(state: CaseState) -> dict[str, str]:
+    """The address pairs that give back ``state``'s case and display choices.
+
+    Only values that differ from their defaults are written; a value that only matters in
+    one mode (barometric pressure, base excess, the standard P50) is written whenever that
+    mode is on, and never otherwise, so reading the pairs back selects the same modes.
+    """
+    out: dict[str, str] = {}
+    forced = {
+        "barometric_pressure_mmhg": state.use_pressure_override,
+        "base_excess_mmol_l": state.acid_base_input != "pH",
+        "p50_mmhg": state.use_p50_override,
+    }
+    for name in (*_CASE_INPUTS, *DISPLAY_KEYS):
+        if name in _MODE_KEYS:
+            continue
+        value = getattr(state, name)
+        if name in forced:
+            if forced[name]:
+                out[name] = _text(value)
+            continue
+        if name == "ph" and state.acid_base_input != "pH":
+            continue
+        if value is None or value == state.param[name].default:
+            continue
+        out[name] = _text(value)
+    return out
+
+
+def _check_one(state: CaseState, key: str, raw: str):
+    """(input name, value) for one address pair, or raise ValueError with a reader's message."""
+    name, factor, unit_shown = key, 1.0, None
+    if key in UNIT_VARIANTS:
+        name, factor, unit_shown = UNIT_VARIANTS[key]
+    p = state.param[name]
+    field, unit = _field_unit(p.label or name)
+    default = p.default
+    if unit_shown is not None:
+        unit = unit_shown
+        default = None if default is None else default / factor
+    fallback = f"the default {_shown(default, unit)} is used"
+    if isinstance(p, param.Boolean):
+        word = raw.strip().lower()
+        if word in _TRUE or word in _FALSE:
+            return name, word in _TRUE
+        raise ValueError(f"{field} = {raw!r} must be true or false; {fallback}")
+    if isinstance(p, param.Selector):
+        choices = list(p.objects.values()) if isinstance(p.objects, dict) else list(p.objects)
+        if name == "curve":
+            value = _CURVE_NAMES.get(raw.strip().lower())
+        else:
+            lookup = {str(c).lower().replace(" ", "_"): c for c in choices}
+            value = lookup.get(raw.strip().lower().replace(" ", "_"))
+        if value is None:
+            raise ValueError(
+                f"{field} = {raw!r} is not one of {', '.join(map(str, choices))}; {fallback}"
+            )
+        return name, value
+    lo, hi = p.bounds
+    lo, hi = lo / factor, hi / factor
+    span = f"{lo:.4g}–{hi:.4g}{' ' + unit if unit else ''}"
+    try:
+        number = float(raw)
+    except ValueError:
+        number = math.nan
+    if not math.isfinite(number):
+        raise ValueError(f"{field} = {raw!r} is not a number in {span}; {fallback}")
+    if not lo <= number <= hi:
+        raise ValueError(f"{field} = {raw} is outside the allowed range {span}; {fallback}")
+    return name, min(max(number * factor, p.bounds[0]), p.bounds[1])
+
+
+def check_case_query(
+    state: CaseState, pairs: dict[str, str], other_keys: Iterable[str] = ()
+) -> tuple[dict, dict, list[str]]:
+    """Check address pairs key by key.
+
+    Returns ``(inputs, display, messages)``: the case inputs that passed (for
+    :meth:`CaseState.apply_inputs`), the display choices that passed, and one message per
+    refused or unknown key. ``other_keys`` belong to another part of the page and are skipped.
+    """
+    inputs: dict = {}
+    display: dict = {}
+    messages: list[str] = []
+    skip = set(other_keys)
+    for key, raw in pairs.items():
+        if key in skip:
+            continue
+        if key not in CASE_KEYS and key not in UNIT_VARIANTS:
+            messages.append(f"{key!r} is not an input of this page; ignored")
+            continue
+        try:
+            name, value = _check_one(state, key, raw)
+        except ValueError as exc:
+            messages.append(str(exc))
+            continue
+        (display if name in DISPLAY_KEYS else inputs)[name] = value
+    return inputs, display, messages
+
+
+def restore_case(
+    state: CaseState, pairs: dict[str, str], other_keys: Iterable[str] = ()
+) -> list[str]:
+    """Make the address pairs the live case; return the messages for what was not used.
+
+    The pairs that pass their own checks are applied together. If the model refuses that
+    combination, they are taken one at a time, in the order given, keeping each that still
+    solves; every one dropped gets a message.
+    """
+    inputs, display, messages = check_case_query(state, pairs, other_keys)
+    if display:
+        state.param.update(**display)
+    if not inputs:
+        return messages
+    name = "Case from the page address"
+    if state.apply_inputs(inputs, name=name):
+        return messages
+    kept: dict = {}
+    for key, value in inputs.items():
+        trial = {**kept, key: value}
+        if state.apply_inputs(trial, name=name):
+            kept = trial
+        else:
+            why = state.error_message.removeprefix("Case not applied: ")
+            messages.append(f"{key} = {_text(value)} not applied with the rest: {why}")
+    if not kept:
+        state.apply_inputs({})
+    state.error_message = ""
+    return messages
+
+
+# ---------------------------------------------------------------------- served page
+def read_query() -> dict[str, str]:
+    """Raw key -> text pairs of the current page's address; {} outside a served page."""
+    loc = pn.state.location
+    return parse_query_string(loc.search) if loc is not None and loc.search else {}
+
+
+def write_query(values: dict[str, str | None], owned: Iterable[str]) -> None:
+    """Rewrite the page address: keys in ``owned`` take ``values`` (absent or None: removed);
+    keys owned by other parts of the page are kept as they are."""
+    loc = pn.state.location
+    if loc is None:
+        return
+    owned = set(owned)
+    pairs = {k: v for k, v in parse_query_string(loc.search or "").items() if k not in owned}
+    pairs.update({k: v for k, v in values.items() if v is not None})
+    search = f"?{urlencode(pairs)}" if pairs else ""
+    if search != (loc.search or ""):
+        loc.search = search
+
+
+def url_message_pane() -> pn.pane.HTML:
+    """The notice listing address values that were not used (hidden when there are none)."""
+    return pn.pane.HTML(
+        "",
+        visible=False,
+        css_classes=["o2-url-msg"],
+        sizing_mode="stretch_width",
+        styles={
+            "background": "#fdecea",
+            "color": "#7a1414",
+            "padding": "4px 10px",
+            "border-left": "5px solid #9a1b1b",
+            "font-size": "14px",
+        },
+    )
+
+
+def show_url_messages(pane: pn.pane.HTML, messages: list[str]) -> None:
+    items = "".join(f"<li>{html.escape(m)}</li>" for m in messages)
+    pane.object = f"<b>Some values in the page address were not used:</b><ul>{items}</ul>"
+    pane.visible = bool(messages)
+
+
+def bind_url(state: CaseState, template=None, other_keys: Iterable[str] = ()) -> pn.pane.HTML:
+    """Restore ``state`` from the page address now and keep the address in step with it.
+
+    The notice for refused values is put at the top of ``template.main`` (when given) and
+    returned; it hides itself at the user's next change, once the address holds the case
+    again. ``other_keys`` are address keys another part of the page owns.
+    """
+    pane = url_message_pane()
+    other_keys = tuple(other_keys)
+    messages = restore_case(state, read_query(), other_keys)
+    show_url_messages(pane, messages)
+    owned = set(CASE_KEYS) | set(UNIT_VARIANTS) | {k for k in read_query() if k not in other_keys}
+
+    def sync(*_events) -> None:
+        write_query(case_query(state), owned)
+
+    def changed(*events) -> None:
+        sync()
+        if pane.visible:
+            pane.visible = False
+
+    state.param.watch(changed, list(CASE_KEYS))
+    # The browser sends its own address when the page connects; rewrite it after that.
+    if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
+        pn.state.onload(sync)
+    else:
+        sync()
+    if template is not None:
+        template.main.insert(0, pane)
+    return pane
