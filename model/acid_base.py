@@ -14,7 +14,11 @@ References
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
+
+_LN10 = math.log(10.0)
 
 
 def co2_pk(ph, temperature_c=37.0):
@@ -31,8 +35,10 @@ def co2_pk(ph, temperature_c=37.0):
     >>> round(float(co2_pk(7.40, 37.0)), 5)
     6.09072
     """
-    ph = np.asarray(ph, dtype=float)
-    t = np.asarray(temperature_c, dtype=float)
+    return _co2_pk(np.asarray(ph, dtype=float), np.asarray(temperature_c, dtype=float))
+
+
+def _co2_pk(ph, t):
     return 6.086 + 0.042 * (7.4 - ph) + (38.0 - t) * (0.00472 + 0.00139 * (7.4 - ph))
 
 
@@ -46,7 +52,11 @@ def co2_solubility(temperature_c=37.0):
     >>> round(float(co2_solubility(40.0)), 5)
     0.02917
     """
-    d = 37.0 - np.asarray(temperature_c, dtype=float)
+    return _co2_solubility(np.asarray(temperature_c, dtype=float))
+
+
+def _co2_solubility(t):
+    d = 37.0 - t
     return 0.0307 + 0.00057 * d + 0.00002 * d**2
 
 
@@ -80,11 +90,14 @@ def blood_co2_content(pco2_mmhg, ph, so2, hb_g_dl, temperature_c=37.0):
     >>> round(float(blood_co2_content(40.0, 7.40, 0.97, 15.0)), 2)
     46.72
     """
-    ph = np.asarray(ph, dtype=float)
-    cp = 2.226 * co2_solubility(temperature_c) * np.asarray(pco2_mmhg, dtype=float) * (
-        1.0 + 10.0 ** (ph - co2_pk(ph, temperature_c)))
-    hb = np.asarray(hb_g_dl, dtype=float)
-    return cp * (1.0 - 0.0289 * hb / ((3.352 - 0.456 * np.asarray(so2, dtype=float)) * (8.142 - ph)))
+    return _blood_co2_content(*(np.asarray(v, dtype=float) for v in
+                                (pco2_mmhg, ph, so2, hb_g_dl, temperature_c)))
+
+
+def _blood_co2_content(pco2, ph, so2, hb, t):
+    # plain arithmetic: the same code serves arrays and the floats of the 0-d chain
+    cp = 2.226 * _co2_solubility(t) * pco2 * (1.0 + 10.0 ** (ph - _co2_pk(ph, t)))
+    return cp * (1.0 - 0.0289 * hb / ((3.352 - 0.456 * so2) * (8.142 - ph)))
 
 
 def bicarbonate(ph, pco2_mmhg):
@@ -95,7 +108,11 @@ def bicarbonate(ph, pco2_mmhg):
     >>> round(float(bicarbonate(7.40, 40.0)), 2)
     24.26
     """
-    return 0.0304 * np.asarray(pco2_mmhg, dtype=float) * 10.0 ** (np.asarray(ph, dtype=float) - 6.1)
+    return _bicarbonate(np.asarray(ph, dtype=float), np.asarray(pco2_mmhg, dtype=float))
+
+
+def _bicarbonate(ph, pco2):
+    return 0.0304 * pco2 * 10.0 ** (ph - 6.1)
 
 
 def base_excess(ph, pco2_mmhg, hb_g_dl, so2=1.0):
@@ -111,11 +128,13 @@ def base_excess(ph, pco2_mmhg, hb_g_dl, so2=1.0):
     >>> round(float(base_excess(7.40, 40.0, 15.0)), 3)
     0.002
     """
-    hb = np.asarray(hb_g_dl, dtype=float)
-    ph = np.asarray(ph, dtype=float)
-    van_slyke = (1.0 - 0.0143 * hb) * ((bicarbonate(ph, pco2_mmhg) - 24.26)
+    return _base_excess(*(np.asarray(v, dtype=float) for v in (ph, pco2_mmhg, hb_g_dl, so2)))
+
+
+def _base_excess(ph, pco2, hb, so2):
+    van_slyke = (1.0 - 0.0143 * hb) * ((_bicarbonate(ph, pco2) - 24.26)
                                         + (1.63 * hb + 9.5) * (ph - 7.4))
-    return van_slyke - 0.2 * hb * (1.0 - np.asarray(so2, dtype=float))
+    return van_slyke - 0.2 * hb * (1.0 - so2)
 
 
 def ph_from_base_excess(base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2=1.0):
@@ -133,10 +152,24 @@ def ph_from_base_excess(base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2=1.0):
     ph = np.full(be.shape, 7.4)
     z = 1.0 - 0.0143 * hb
     for _ in range(40):
-        f = base_excess(ph, pco2, hb, s) - be
-        df = z * (np.log(10.0) * bicarbonate(ph, pco2) + 1.63 * hb + 9.5)
+        f = _base_excess(ph, pco2, hb, s) - be
+        df = z * (_LN10 * _bicarbonate(ph, pco2) + 1.63 * hb + 9.5)
         step = np.clip(f / df, -0.5, 0.5)
         ph = ph - step
         if np.all(~(np.abs(step) > 1e-12)):
+            break
+    return ph
+
+
+def _ph_from_base_excess_scalar(be, pco2, hb, s):
+    """:func:`ph_from_base_excess` for floats (same Newton steps, same stopping rule)."""
+    ph = 7.4
+    z = 1.0 - 0.0143 * hb
+    for _ in range(40):
+        f = _base_excess(ph, pco2, hb, s) - be
+        df = z * (_LN10 * _bicarbonate(ph, pco2) + 1.63 * hb + 9.5)
+        step = min(max(f / df, -0.5), 0.5)
+        ph = ph - step
+        if not abs(step) > 1e-12:
             break
     return ph

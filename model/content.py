@@ -48,7 +48,11 @@ def oxygen_content(hb_g_dl, so2, po2_mmhg, *, cohb_fraction=0.0, methb_fraction=
     >>> round(float(oxygen_content(15.0, 0.98, 100.0)), 3)
     19.998
     """
-    hb = np.asarray(hb_g_dl, dtype=float)
-    carrying = 1.0 - np.asarray(cohb_fraction, dtype=float) - np.asarray(methb_fraction, dtype=float)
-    return (hufner_ml_g * hb * carrying * np.asarray(so2, dtype=float)
-            + o2_solubility_ml_dl_mmhg * np.asarray(po2_mmhg, dtype=float))
+    return _oxygen_content(*(np.asarray(v, dtype=float) for v in
+                             (hb_g_dl, so2, po2_mmhg, cohb_fraction, methb_fraction)),
+                           hufner_ml_g, o2_solubility_ml_dl_mmhg)
+
+
+def _oxygen_content(hb, so2, po2, cohb, methb, hufner, solubility):
+    # plain arithmetic: the same code serves arrays and the floats of the 0-d chain
+    return hufner * hb * (1.0 - cohb - methb) * so2 + solubility * po2

@@ -43,6 +43,8 @@ References
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 CURVES = ("severinghaus", "severinghaus1979", "dash", "dash2016", "siggaard_andersen1990",
@@ -72,6 +74,11 @@ _SA_DLNP50_DA = 1.121  # p50 = 3.578 kPa exp(1.121 a), [5]
 _DPG_LN_PER_MMOL = 0.06 * _SA_DLNP50_DA  # DPG term of the tanh model's a, [5]
 _METHB_LN = -0.7 * _SA_DLNP50_DA  # MetHb term of the tanh model's a, [6]
 _MMHG_PER_KPA = 760.0 / 101.325
+_LN10 = math.log(10.0)
+_LN7 = math.log(7.0)
+_DASH_K = DASH2016["beta"] * _LN10 / DASH2016["gamma_mmhg"]  # dnH/dp = _DASH_K 10^(-p/gamma)
+_HALDANE_ITERATIONS = 60  # safeguarded Newton; bisection alone would reach 2^-60
+_HALDANE_TOL = 1e-13  # last Newton step in total saturation [-]
 
 _LIMITS = {
     "ph": (6.5, 8.0, ""),
@@ -115,16 +122,19 @@ def _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_f
     return name, dict(zip(keys, vals))
 
 
-def _ln_shift(name, c):
-    """ln of the factor by which the curve's P50 moves away from its standard value."""
+def _ln_shift(name, c, m=np):
+    """ln of the factor by which the curve's P50 moves away from its standard value.
+
+    ``m`` is numpy for arrays or :mod:`math` for the floats of :class:`ScalarCurve`.
+    """
     fmet = _METHB_LN * c["fmet"]
-    override = np.log(c["p50std"] / STANDARD_P50_MMHG[name])
+    override = m.log(c["p50std"] / STANDARD_P50_MMHG[name])
     if name in ("severinghaus1979", "hill1910"):
         # Kelman's virtual-PO2 factors, [2]; DPG and MetHb terms of the tanh model, [5, 6]
-        log10 = -0.024 * (37.0 - c["t"]) - 0.40 * (c["ph"] - 7.40) - 0.06 * np.log10(40.0 / c["pco2"])
-        return np.log(10.0) * log10 + _DPG_LN_PER_MMOL * (c["dpg"] - NORMAL_DPG_MMOL_L) + fmet + override
+        log10 = -0.024 * (37.0 - c["t"]) - 0.40 * (c["ph"] - 7.40) - 0.06 * m.log10(40.0 / c["pco2"])
+        return _LN10 * log10 + _DPG_LN_PER_MMOL * (c["dpg"] - NORMAL_DPG_MMOL_L) + fmet + override
     if name == "dash2016":
-        return np.log(_dash_p50(c) / DASH2016["p50_mmhg"]) + fmet + override
+        return m.log(_dash_p50(c) / DASH2016["p50_mmhg"]) + fmet + override
     # siggaard_andersen1990: handled inside its own equation; only the override shifts x.
     return override
 
@@ -143,77 +153,117 @@ def _dash_p50(c):
     return p50s * (p_ph / p50s) * (p_co2 / p50s) * (p_dpg / p50s) * (p_t / p50s)
 
 
-def _sa_a_b(c):
-    a = (-0.88 * (c["ph"] - 7.40) + 0.048 * np.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
+def _sa_a_b(c, m=np):
+    a = (-0.88 * (c["ph"] - 7.40) + 0.048 * m.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
          - 0.7 * c["fmet"] + 0.06 * (c["dpg"] - NORMAL_DPG_MMOL_L))
     b = 0.055 * (c["t"] - 37.0)
     return a, b
 
 
+def _clip(x, lo, hi):
+    if isinstance(x, float):
+        return min(max(x, lo), hi)
+    return np.clip(x, lo, hi)
+
+
+def _converged(step, tol):
+    """True when no step is above tol (NaN counts as converged)."""
+    if isinstance(step, float):
+        return not abs(step) > tol
+    return bool(np.all(~(np.abs(step) > tol)))
+
+
 def _total(name, p, c, shift):
     """Total-ligand saturation of the curve at pressure p [mmHg] (no CO handling)."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if name == "severinghaus1979":
-            x = p * np.exp(-shift)
-            cubic = x * (x * x + 150.0)
-            return cubic / (cubic + 23400.0)  # Eq 1 of [1], rearranged
-        if name == "hill1910":
-            x = p * np.exp(-shift) / STANDARD_P50_MMHG["hill1910"]
-            xn = x**HILL_N
-            return xn / (1.0 + xn)
-        if name == "dash2016":
-            p50 = DASH2016["p50_mmhg"] * np.exp(shift)
-            nh = DASH2016["alpha"] - DASH2016["beta"] * 10.0 ** (-p / DASH2016["gamma_mmhg"])
-            xn = (p / p50) ** nh
-            return xn / (1.0 + xn)
-        a, b = _sa_a_b(c)
-        x = np.log(p / _MMHG_PER_KPA) - shift
-        x0 = np.log(7.0) + a + b
-        y = 1.8747 + (x - x0) + (3.5 + a) * np.tanh(0.5343 * (x - x0))
-        return 1.0 / (1.0 + np.exp(-y))
+        return _total_formula(name, p, c, shift, np)
+
+
+def _total_formula(name, p, c, shift, m):
+    if name == "severinghaus1979":
+        x = p * m.exp(-shift)
+        cubic = x * (x * x + 150.0)
+        return cubic / (cubic + 23400.0)  # Eq 1 of [1], rearranged
+    if name == "hill1910":
+        x = p * m.exp(-shift) / STANDARD_P50_MMHG["hill1910"]
+        xn = x**HILL_N
+        return xn / (1.0 + xn)
+    if name == "dash2016":
+        p50 = DASH2016["p50_mmhg"] * m.exp(shift)
+        nh = DASH2016["alpha"] - DASH2016["beta"] * 10.0 ** (-p / DASH2016["gamma_mmhg"])
+        xn = (p / p50) ** nh
+        return xn / (1.0 + xn)
+    a, b = _sa_a_b(c, m)
+    x = m.log(p / _MMHG_PER_KPA) - shift
+    x0 = _LN7 + a + b
+    y = 1.8747 + (x - x0) + (3.5 + a) * m.tanh(0.5343 * (x - x0))
+    return 1.0 / (1.0 + m.exp(-y))
+
+
+def _total_slope(name, p, s, c, shift, m):
+    """Analytic dS/dp of :func:`_total` at p [1/mmHg], given s = S(p) (Newton steps only)."""
+    if name == "severinghaus1979":
+        e = m.exp(-shift)
+        x = p * e
+        den = x * (x * x + 150.0) + 23400.0
+        return 23400.0 * (3.0 * x * x + 150.0) * e / (den * den)
+    if name == "hill1910":
+        return HILL_N * s * (1.0 - s) / p
+    if name == "dash2016":
+        decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
+        nh = DASH2016["alpha"] - DASH2016["beta"] * decay
+        ln_ratio = m.log(p) - m.log(DASH2016["p50_mmhg"]) - shift
+        return s * (1.0 - s) * (nh / p + _DASH_K * decay * ln_ratio)
+    a, b = _sa_a_b(c, m)
+    u = m.log(p / _MMHG_PER_KPA) - shift - (_LN7 + a + b)
+    th = m.tanh(0.5343 * u)
+    return s * (1.0 - s) * (1.0 + (3.5 + a) * 0.5343 * (1.0 - th * th)) / p
 
 
 def _total_inverse(name, s, c, shift):
     """Pressure [mmHg] at which the curve's total-ligand saturation equals s."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if name == "severinghaus1979":
-            # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1)
-            bb = 11700.0 * s / (1.0 - s)
-            root = np.sqrt(bb**2 + 50.0**3)
-            x = np.cbrt(bb + root) - np.cbrt(root - bb)
-            return x * np.exp(shift)
-        if name == "hill1910":
-            return STANDARD_P50_MMHG["hill1910"] * np.exp(shift) * (s / (1.0 - s)) ** (1.0 / HILL_N)
-        y = np.log(s / (1.0 - s))
-        if name == "siggaard_andersen1990":
-            a, b = _sa_a_b(c)
-            x0 = np.log(7.0) + a + b
-            h = 3.5 + a
-            u = (y - 1.8747) / (1.0 + h * 0.5343)  # start on the steepest line
-            for _ in range(60):
-                th = np.tanh(0.5343 * u)
-                f = u + h * th - (y - 1.8747)
-                du = f / (1.0 + h * 0.5343 * (1.0 - th**2))
-                u = u - du
-                if np.all(~(np.abs(du) > 1e-13)):
-                    break
-            return np.exp(u + x0 + shift) * _MMHG_PER_KPA
-        # dash2016: Newton in ln p on y(ln p) = nH(p) (ln p - ln p50)
-        p50 = DASH2016["p50_mmhg"] * np.exp(shift)
-        lp50 = np.log(p50)
-        lp = lp50 + y / 2.7
-        k = DASH2016["beta"] * np.log(10.0) / DASH2016["gamma_mmhg"]
+        return _inverse_formula(name, s, c, shift, np)
+
+
+def _inverse_formula(name, s, c, shift, m):
+    if name == "severinghaus1979":
+        # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1)
+        bb = 11700.0 * s / (1.0 - s)
+        root = m.sqrt(bb**2 + 50.0**3)
+        x = m.cbrt(bb + root) - m.cbrt(root - bb)
+        return x * m.exp(shift)
+    if name == "hill1910":
+        return STANDARD_P50_MMHG["hill1910"] * m.exp(shift) * (s / (1.0 - s)) ** (1.0 / HILL_N)
+    y = m.log(s / (1.0 - s))
+    if name == "siggaard_andersen1990":
+        a, b = _sa_a_b(c, m)
+        x0 = _LN7 + a + b
+        h = 3.5 + a
+        u = (y - 1.8747) / (1.0 + h * 0.5343)  # start on the steepest line
         for _ in range(60):
-            p = np.exp(lp)
-            decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
-            nh = DASH2016["alpha"] - DASH2016["beta"] * decay
-            f = nh * (lp - lp50) - y
-            df = nh + k * decay * p * (lp - lp50)
-            step = np.clip(f / df, -2.0, 2.0)
-            lp = lp - step
-            if np.all(~(np.abs(step) > 1e-13)):
+            th = m.tanh(0.5343 * u)
+            f = u + h * th - (y - 1.8747)
+            du = f / (1.0 + h * 0.5343 * (1.0 - th**2))
+            u = u - du
+            if _converged(du, 1e-13):
                 break
-        return np.exp(lp)
+        return m.exp(u + x0 + shift) * _MMHG_PER_KPA
+    # dash2016: Newton in ln p on y(ln p) = nH(p) (ln p - ln p50)
+    p50 = DASH2016["p50_mmhg"] * m.exp(shift)
+    lp50 = m.log(p50)
+    lp = lp50 + y / 2.7
+    for _ in range(60):
+        p = m.exp(lp)
+        decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
+        nh = DASH2016["alpha"] - DASH2016["beta"] * decay
+        f = nh * (lp - lp50) - y
+        df = nh + _DASH_K * decay * p * (lp - lp50)
+        step = _clip(f / df, -2.0, 2.0)
+        lp = lp - step
+        if _converged(step, 1e-13):
+            break
+    return m.exp(lp)
 
 
 def _broadcast(first, c):
@@ -295,17 +345,31 @@ class PreparedCurve:
         name, c, shift, sco = self.name, self.c, self.shift, self.sco
         if not self.has_co:
             return _total(name, p, c, shift)
-        # Haldane: total saturation s solves s = S(PO2 s / (s - sCO)); s - S(...) rises with s.
+        # Haldane: total saturation u solves F(u) = u - S(PO2 u / (u - sCO)) = 0 on (sCO, 1];
+        # F rises with u, so Newton is kept inside a bisection bracket.
+        p = np.asarray(p, dtype=float)
         lo, hi = sco * np.ones_like(p), np.ones_like(p * sco)
-        for _ in range(36):  # bracket width 2^-36 < 2e-11 in saturation
-            mid = 0.5 * (lo + hi)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                f = mid - _total(name, p * mid / (mid - sco), c, shift)
-            up = f > 0
-            hi = np.where(up, mid, hi)
-            lo = np.where(up, lo, mid)
-        s = 0.5 * (lo + hi)
-        so2 = np.where(sco > 0, (s - sco) / (1.0 - sco), _total(name, p, c, shift))
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            u = sco + (1.0 - sco) * _total_formula(name, p, c, shift, np)
+            u = np.where((u > lo) & (u < hi), u, 0.5 * (lo + hi))
+            skip = np.isnan(p) | (p <= 0) | (sco <= 0)
+            for _ in range(_HALDANE_ITERATIONS):
+                d = u - sco
+                q = p * u / d
+                t = _total_formula(name, q, c, shift, np)
+                f = u - t
+                hi = np.where(f > 0, u, hi)
+                lo = np.where(f > 0, lo, u)
+                df = 1.0 + _total_slope(name, q, t, c, shift, np) * p * sco / (d * d)
+                new = u - f / df
+                out = ((new < lo) | (new > hi) | ~np.isfinite(new)) & (f != 0)
+                new = np.where(out, 0.5 * (lo + hi), new)
+                step = np.where(skip, 0.0, new - u)
+                u = new
+                if _converged(step, _HALDANE_TOL):
+                    break
+            so2 = np.where(sco > 0, (u - sco) / (1.0 - sco), _total(name, p, c, shift))
+        so2 = np.where(p <= 0, 0.0, so2)
         return np.where(np.isnan(p), np.nan, so2)
 
     def slope(self, p):
@@ -328,6 +392,107 @@ class PreparedCurve:
         if np.any(ends):
             po2 = np.where(s == 0, 0.0, np.where(s == 1, np.inf, po2))
         return po2
+
+
+class ScalarCurve:
+    """:class:`PreparedCurve` for one set of float conditions, evaluated on floats.
+
+    The same equations through :mod:`math` (no array overhead), for the 0-d path of the
+    chain; use :func:`prepare_scalar_curve`.
+    """
+
+    __slots__ = ("c", "has_co", "name", "sco", "shift")
+
+    def __init__(self, name, c):
+        self.name, self.c = name, c
+        self.shift = _ln_shift(name, c, math)
+        self.sco = c["fco"] / (1.0 - c["fmet"])
+        self.has_co = self.sco > 0.0
+
+    def _total(self, p):
+        try:
+            return _total_formula(self.name, p, self.c, self.shift, math)
+        except ValueError:  # log(0) of the tanh curve at p = 0
+            return 0.0
+        except OverflowError:  # exp(-y) as p -> 0, or x**n as p -> inf
+            return 0.0 if p < 1.0 else 1.0
+
+    def saturation(self, p):
+        """Functional saturation at p [mmHg] (float)."""
+        if not self.has_co:
+            return self._total(p)
+        if not p > 0.0:
+            return 0.0 if p == 0.0 else math.nan
+        name, c, shift, sco = self.name, self.c, self.shift, self.sco
+        lo, hi = sco, 1.0
+        u = sco + (1.0 - sco) * self._total(p)
+        if not lo < u < hi:
+            u = 0.5 * (lo + hi)
+        for _ in range(_HALDANE_ITERATIONS):
+            d = u - sco
+            q = p * u / d
+            t = self._total(q)
+            f = u - t
+            if f > 0:
+                hi = u
+            else:
+                lo = u
+            if f == 0.0:
+                break
+            new = u - f / (1.0 + _total_slope(name, q, t, c, shift, math) * p * sco / (d * d))
+            if not lo <= new <= hi:
+                new = 0.5 * (lo + hi)
+            step = new - u
+            u = new
+            if not abs(step) > _HALDANE_TOL:
+                break
+        return (u - sco) / (1.0 - sco)
+
+    def slope(self, p):
+        """dS/dPO2 by a central difference [1/mmHg] (as :meth:`PreparedCurve.slope`)."""
+        h = max(1e-4 * p, 1e-6)
+        lo = max(p - h, 0.0)
+        return (self.saturation(p + h) - self.saturation(lo)) / (p + h - lo)
+
+    def inverse(self, s):
+        """PO2 [mmHg] at functional saturation s (float)."""
+        if s == 0.0:
+            return 0.0
+        if s == 1.0:
+            return math.inf
+        if self.has_co:
+            sco = self.sco
+            total = s * (1.0 - sco) + sco
+            return _inverse_formula(self.name, total, self.c, self.shift, math) * (total - sco) / total
+        return _inverse_formula(self.name, s, self.c, self.shift, math)
+
+
+_LIMIT_KEYS = ("ph", "pco2_mmhg", "temperature_c", "dpg_mmol_l", "cohb_fraction",
+               "methb_fraction", "p50_mmhg")
+
+
+def prepare_scalar_curve(name, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
+                         methb_fraction, p50_mmhg):
+    """Validate float conditions as :func:`prepare_curve` does and return a :class:`ScalarCurve`.
+
+    ``name`` is a canonical curve name; ``dpg_mmol_l`` and ``p50_mmhg`` may be None.
+
+    Examples
+    --------
+    >>> s = prepare_scalar_curve("severinghaus1979", 7.2, 40.0, 37.0, None, 0.0, 0.0, None)
+    >>> abs(s.saturation(40.0) - float(saturation(40.0, ph=7.2))) < 1e-15
+    True
+    """
+    dpg = NORMAL_DPG_MMOL_L if dpg_mmol_l is None else dpg_mmol_l
+    p50_std = STANDARD_P50_MMHG[name] if p50_mmhg is None else p50_mmhg
+    vals = (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)
+    for key, v in zip(_LIMIT_KEYS, vals):
+        lo, hi, _ = _LIMITS[key]
+        if not lo <= v <= hi:
+            _check(key, np.asarray(v, dtype=float))
+    if cohb_fraction + methb_fraction >= 1.0:
+        raise ValueError("cohb_fraction + methb_fraction must stay below 1")
+    return ScalarCurve(name, dict(zip(("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std"), vals)))
 
 
 def prepare_curve(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,

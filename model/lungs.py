@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .air import water_vapour_pressure
@@ -115,6 +117,20 @@ def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
     return p
 
 
+def _end_capillary_po2_scalar(pa, pv, hb, carrying, k, dt, curve, hufner, solubility, steps=24):
+    """:func:`end_capillary_po2` for floats: ``k = DLO2 / 60 / Vc``, ``dt`` one step [s],
+    ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a :class:`model.dissociation.ScalarCurve`."""
+    p = min(pv, pa)
+    kh = hufner * hb * carrying
+    exp = math.exp
+    b = (kh * curve.slope(p) + solubility) / 100.0
+    for _ in range(steps):
+        trial = pa - (pa - p) * exp(-k * dt / b)
+        b = (kh * curve.slope(0.5 * (p + trial)) + solubility) / 100.0
+        p = pa - (pa - p) * exp(-k * dt / b)
+    return p
+
+
 def mix_by_content(end_capillary_content_ml_dl, venous_content_ml_dl, shunt_fraction):
     """Arterial O2 content after venous admixture [mL O2/dL].
 
@@ -177,5 +193,33 @@ def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
         done = hit | (~outside & (np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)))
         p = np.where(hit, p, new)
         if np.all(done | np.isnan(c)):
+            break
+    return p
+
+
+def _po2_from_content_scalar(c, carrying, solubility, curve):
+    """:func:`po2_from_content` for floats; ``carrying`` = k Hb (1 - FCOHb - FMetHb)
+    [mL O2/dL], ``curve`` a :class:`model.dissociation.ScalarCurve`. Same steps and stops."""
+    lo = 0.0
+    hi = max(c / solubility, 1e-9)
+    p = 0.0
+    for _ in range(3):
+        s0 = min(max((c - solubility * p) / max(carrying, 1e-9), 1e-6), 0.9995)
+        p = min(max(curve.inverse(s0), lo), hi)
+    for _ in range(80):
+        f = carrying * curve.saturation(p) + solubility * p - c
+        if f > 0:
+            hi = p
+        else:
+            lo = p
+        new = p - f / (carrying * curve.slope(p) + solubility)
+        outside = not lo <= new <= hi  # also NaN
+        if outside:
+            new = 0.5 * (lo + hi)
+        if abs(f) <= 1e-12 * max(c, 1e-3):
+            break
+        done = not outside and abs(new - p) <= 1e-10 * max(p, 1.0)
+        p = new
+        if done:
             break
     return p

@@ -2,17 +2,32 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .acid_base import base_excess, blood_co2_content, ph_from_base_excess
+from .acid_base import (
+    _base_excess,
+    _blood_co2_content,
+    _ph_from_base_excess_scalar,
+    base_excess,
+    blood_co2_content,
+    ph_from_base_excess,
+)
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
-from .circulation import oxygen_delivery, vo2_at_temperature
-from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
-from .dissociation import _canonical, p50, saturation
-from .limits import check_range
-from .lungs import aa_gradient, alveolar_po2, end_capillary_po2, po2_from_content
+from .circulation import VO2_Q10_PER_C, oxygen_delivery, vo2_at_temperature
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, _oxygen_content, oxygen_content
+from .dissociation import _canonical, p50, prepare_scalar_curve, saturation
+from .limits import INPUT_LIMITS, check_range
+from .lungs import (
+    _end_capillary_po2_scalar,
+    _po2_from_content_scalar,
+    aa_gradient,
+    alveolar_po2,
+    end_capillary_po2,
+    po2_from_content,
+)
 
 
 @dataclass(frozen=True)
@@ -134,6 +149,169 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
             "caco2": caco2, "cvco2": cvco2}
 
 
+# --- the 0-d path: the same chain on floats -------------------------------------------------
+# Every step below mirrors one of the vectorised functions used by `_iterate` (same
+# equations, same Newton steps, same stopping rules) with math on floats, because a single
+# case through numpy costs far more in per-call overhead than in arithmetic.
+
+_SCALAR_NAMES = ("fio2", "paco2_mmhg", "rq", "shunt_fraction", "diffusing_capacity_ml_min_mmhg",
+                 "capillary_volume_ml", "hb_g_dl", "temperature_c", "cohb_fraction",
+                 "methb_fraction", "cardiac_output_l_min", "vo2_ml_min")
+_OPTIONAL_NAMES = ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg")
+_FLOAT64_FIELDS = frozenset((
+    "water_vapour_pressure_mmhg", "inspired_po2_mmhg", "alveolar_po2_mmhg",
+    "capillary_transit_time_s", "aa_gradient_mmhg", "do2_ml_min", "extraction_ratio",
+    "o2_extracted_ml_per_l", "venous_shift_gain_ml_per_l"))
+
+
+def _plain_float(v):
+    """v as a finite float if it is one number (Python or numpy, or a 0-d array), else None."""
+    if isinstance(v, np.ndarray):
+        if v.ndim or v.dtype.kind not in "fiub":
+            return None
+        v = v.item()
+    elif not isinstance(v, (float, int, np.floating, np.integer)):
+        return None
+    v = float(v)
+    return v if math.isfinite(v) else None
+
+
+def _scalar_inputs(kw: dict):
+    """The chain inputs as floats, or None when any is an array, non-finite or out of range
+    (the vectorised path then handles the case and words any refusal)."""
+    out = {}
+    for name in ("barometric_pressure_mmhg" if kw["barometric_pressure_mmhg"] is not None
+                 else "altitude_m",) + _SCALAR_NAMES + _OPTIONAL_NAMES:
+        raw = kw[name]
+        if raw is None:
+            out[name] = None
+            continue
+        v = _plain_float(raw)
+        if v is None:
+            return None
+        lo, hi = INPUT_LIMITS[name][:2]
+        if not lo <= v <= hi:
+            return None
+        out[name] = v
+    for name in ("hufner_ml_g", "o2_solubility_ml_dl_mmhg", "tol"):
+        v = _plain_float(kw[name])
+        if v is None:
+            return None
+        out[name] = v
+    if out["cohb_fraction"] + out["methb_fraction"] >= 0.9:
+        return None
+    return out
+
+
+def _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, p):
+    """:func:`_venous_co2` for floats."""
+    for _ in range(30):
+        ph = _ph_from_base_excess_scalar(be_ox, p, hb, svo2)
+        f = _blood_co2_content(p, ph, svo2, hb, t) - cvco2
+        h = 1e-4 * p
+        ph2 = _ph_from_base_excess_scalar(be_ox, p + h, hb, svo2)
+        df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
+        step = min(max(f / df, -0.5 * p), 40.0)
+        p = p - step
+        if not abs(step) > 1e-9:
+            break
+    return p, _ph_from_base_excess_scalar(be_ox, p, hb, svo2)
+
+
+def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, max_iterations):
+    """:func:`solve_transport` for one case of floats (``x`` from :func:`_scalar_inputs`)."""
+    name = _canonical(curve)
+    hufner, sol = x["hufner_ml_g"], x["o2_solubility_ml_dl_mmhg"]
+    hb, t, q, qs = x["hb_g_dl"], x["temperature_c"], x["cardiac_output_l_min"], x["shunt_fraction"]
+    paco2, cohb, methb, rq = x["paco2_mmhg"], x["cohb_fraction"], x["methb_fraction"], x["rq"]
+    fio2, dpg, p50o = x["fio2"], x["dpg_mmol_l"], x["p50_mmhg"]
+    be_given = x["base_excess_mmol_l"]
+    if x.get("barometric_pressure_mmhg") is None:
+        pb = float(barometric_pressure(x["altitude_m"], model=pressure_model))
+    else:
+        pb = x["barometric_pressure_mmhg"]
+    vo2 = x["vo2_ml_min"] * VO2_Q10_PER_C ** (t - 37.0) if vo2_temperature_scaling else x["vo2_ml_min"]
+    ph2o = float(water_vapour_pressure(t))
+    pio2 = float(inspired_po2(fio2, pb, t))
+    pao2_alv = float(alveolar_po2(fio2=fio2, pb_mmhg=pb, paco2_mmhg=paco2, rq=rq, temperature_c=t))
+    if not pao2_alv > 1.0:
+        return None
+    transit = x["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
+    d_av = vo2 / (10.0 * q)
+    k = x["diffusing_capacity_ml_min_mmhg"] / 60.0 / x["capillary_volume_ml"]
+    dt = transit / 24
+    carrying = 1.0 - cohb - methb
+    carrying_ml = hufner * hb * (1.0 - cohb - methb)
+    admix = qs / (1.0 - qs) * d_av
+
+    def curve_at(ph_, pco2_):
+        return prepare_scalar_curve(name, ph_, pco2_, t, dpg, cohb, methb, p50o)
+
+    ph_a = x["ph"] if x["ph"] is not None else 7.40
+    pv_o2 = min(0.4 * pao2_alv, 40.0)
+    pv_co2, sao2 = paco2 + 5.0, 0.97
+    ph_v = ph_a - 0.03
+    tol = x["tol"]
+    iterations = 0
+    for iterations in range(1, max_iterations + 1):
+        if be_given is not None:
+            ph_a = _ph_from_base_excess_scalar(be_given, paco2, hb, sao2)
+        art = curve_at(ph_a, paco2)
+        pc = _end_capillary_po2_scalar(pao2_alv, pv_o2, hb, carrying, k, dt, art, hufner, sol)
+        sc = art.saturation(pc)
+        cc = _oxygen_content(hb, sc, pc, cohb, methb, hufner, sol)
+        cao2 = cc - admix
+        cvo2 = cao2 - d_av
+        if cvo2 <= 0.0:
+            return None
+        pa_o2 = _po2_from_content_scalar(cao2, carrying_ml, sol, art)
+        sao2 = art.saturation(pa_o2)
+        be_ox = _base_excess(ph_a, paco2, hb, sao2)
+        caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
+        cvco2 = caco2 + rq * d_av
+        ven = curve_at(ph_v, pv_co2)
+        new_pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
+        svo2 = ven.saturation(new_pv_o2)
+        pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0))
+        change = abs(new_pv_o2 - pv_o2)
+        pv_o2 = new_pv_o2
+        if not change > tol:
+            break
+    ven = curve_at(ph_v, pv_co2)
+    pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
+    svo2 = ven.saturation(pv_o2)
+    art = curve_at(ph_a, paco2)
+    c_art_curve = _oxygen_content(hb, art.saturation(pv_o2), pv_o2, cohb, methb, hufner, sol)
+
+    def arr(v):
+        return np.array(v, dtype=float)
+
+    def cond(ph_, pco2_):
+        return _curve_kw(arr(ph_), arr(pco2_), arr(t), None if dpg is None else arr(dpg),
+                         arr(cohb), arr(methb), None if p50o is None else arr(p50o), curve)
+
+    arterial = BloodState(arr(pa_o2), arr(sao2), arr(cao2), np.float64(art.inverse(0.5)),
+                          arr(ph_a), arr(paco2), arr(caco2),
+                          np.float64(_base_excess(ph_a, paco2, hb, sao2)))
+    venous = BloodState(arr(pv_o2), np.float64(svo2), arr(cvo2), np.float64(ven.inverse(0.5)),
+                        arr(ph_v), arr(pv_co2), arr(cvco2),
+                        np.float64(_base_excess(ph_v, pv_co2, hb, svo2)))
+    fields = {
+        "barometric_pressure_mmhg": pb, "water_vapour_pressure_mmhg": ph2o,
+        "inspired_po2_mmhg": pio2, "alveolar_po2_mmhg": pao2_alv, "end_capillary_po2_mmhg": pc,
+        "end_capillary_so2": sc, "end_capillary_o2_content_ml_dl": cc,
+        "capillary_transit_time_s": transit, "aa_gradient_mmhg": pao2_alv - pa_o2,
+        "shunt_fraction": qs, "fio2": fio2, "cardiac_output_l_min": q, "hb_g_dl": hb,
+        "temperature_c": t, "do2_ml_min": 10.0 * q * cao2, "vo2_ml_min": vo2,
+        "extraction_ratio": (cao2 - cvo2) / cao2, "o2_extracted_ml_per_l": 10.0 * (cao2 - cvo2),
+        "venous_shift_gain_ml_per_l": 10.0 * (c_art_curve - cvo2),
+    }
+    fields = {f: (np.float64(v) if f in _FLOAT64_FIELDS else arr(v)) for f, v in fields.items()}
+    return TransportResult(**fields, arterial=arterial, venous=venous, iterations=iterations,
+                           arterial_conditions=cond(ph_a, paco2),
+                           venous_conditions=cond(ph_v, pv_co2))
+
+
 def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_model="standard",
                     fio2=0.21, paco2_mmhg=40.0, rq=0.8, shunt_fraction=0.02,
                     diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
@@ -215,6 +393,17 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     _canonical(curve)
     if ph is not None and base_excess_mmol_l is not None:
         raise ValueError("give either ph or base_excess_mmol_l, not both")
+    given = locals()
+    x = _scalar_inputs(given)
+    if x is not None:
+        try:
+            r = _solve_scalar(x, pressure_model=pressure_model, curve=curve,
+                              vo2_temperature_scaling=vo2_temperature_scaling,
+                              max_iterations=max_iterations)
+        except (ValueError, OverflowError, ZeroDivisionError):
+            r = None  # refused or degenerate: the vectorised path words the message
+        if r is not None:
+            return r
     if barometric_pressure_mmhg is None:
         pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
     else:
