@@ -427,13 +427,39 @@ def _category(ratio, cuts):
     return code
 
 
-def _append(text, mask, message):
-    """Append ``message`` to the object array ``text`` where ``mask`` holds ("; " joined)."""
-    mask = np.asarray(mask, dtype=bool)
-    if not mask.any():
-        return
-    sub = text[mask]
-    text[mask] = np.where(sub == "", message, sub + "; " + message)
+class _Messages:
+    """Per-element messages, joined by "; " in the order added.
+
+    Stored as one bit per message, so building the strings costs one pass over the
+    distinct combinations rather than one string operation per element and message.
+    """
+
+    def __init__(self, n: int):
+        self.bits = np.zeros(n, dtype=np.int64)
+        self.messages: list[str] = []
+
+    def add(self, mask, message: str) -> None:
+        mask = np.asarray(mask, dtype=bool)
+        if mask.any():
+            if message not in self.messages:
+                if len(self.messages) == 63:
+                    raise RuntimeError("more than 63 distinct messages")
+                self.messages.append(message)
+            self.bits |= mask.astype(np.int64) << self.messages.index(message)
+
+    def mask(self) -> np.ndarray:
+        return self.bits != 0
+
+    def text(self) -> np.ndarray:
+        combos, inverse = np.unique(self.bits, return_inverse=True)
+        strings = np.empty(len(combos), dtype=object)
+        for k, c in enumerate(combos.tolist()):
+            strings[k] = "; ".join(m for b, m in enumerate(self.messages) if c >> b & 1)
+        return strings[inverse.ravel()]
+
+
+def _append(messages: _Messages, mask, message: str) -> None:
+    messages.add(mask, message)
 
 
 def _given(x):
@@ -588,8 +614,7 @@ def derive(
             "fractions of total haemoglobin)"
         )
     n = cohb.size
-    notes = np.full(n, "", dtype=object)
-    reasons = np.full(n, "", dtype=object)
+    notes, reasons = _Messages(n), _Messages(n)
     out: dict[str, np.ndarray] = {}
 
     pao2, paco2, ph_a, sa = m["pao2_mmhg"], m["paco2_mmhg"], m["ph"], m["sao2"]
@@ -614,7 +639,7 @@ def derive(
     # Alveolar gas and A-a gradient
     pa_o2 = alveolar_po2(fio2=fio2_, pb_mmhg=pb, paco2_mmhg=paco2, rq=rq, temperature_c=37.0)
     pa_bad = pa_o2 <= 0
-    _append(reasons, pa_bad, "PAO2 <= 0: FiO2, PB and PaCO2 cannot coexist")
+    _append(reasons, pa_bad, "PAO2 <= 0: FiO2 and PB cannot hold this PaCO2")
     pa_o2 = np.where(pa_bad, np.nan, pa_o2)
     out["alveolar_po2_mmhg"] = pa_o2
     out["aa_gradient_mmhg"] = aa_gradient(pa_o2, pao2)
@@ -628,7 +653,7 @@ def derive(
     _append(
         notes,
         use_corr & np.isfinite(pf),
-        "P/F category from P/F x PB/760 (above 1000 m, Berlin definition)",
+        "P/F category from P/F x PB/760 (above 1000 m: Berlin definition)",
     )
     out["pao2_fio2_ratio"] = pf
     out["pao2_fio2_ratio_pb_corrected"] = pf_corr
@@ -678,7 +703,7 @@ def derive(
     with np.errstate(divide="ignore", invalid="ignore"):
         shunt = (cco2 - cao2) / (cco2 - cvo2)
     no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2)
-    _append(reasons, no_gap, "shunt: CcO2 <= CvO2, the venous sample cannot be right")
+    _append(reasons, no_gap, "shunt: CcO2 <= CvO2 (the venous sample cannot be right)")
     shunt = np.where(no_gap, np.nan, shunt)
     _append(
         reasons,
@@ -719,7 +744,7 @@ def derive(
 
     # P50
     lo_s, hi_s = SINGLE_POINT_SO2_RANGE
-    p50_reason = np.full(n, "", dtype=object)
+    p50_reason = _Messages(n)
     _append(
         p50_reason,
         sa > hi_s,
@@ -731,7 +756,7 @@ def derive(
         f"SaO2 below {lo_s:g}: outside the single-point method's validated range",
     )
     _append(p50_reason, cohb > 0.10, "COHb above 0.10: the curve is no longer Hill-shaped")
-    refused = p50_reason != ""
+    refused = p50_reason.mask()
     p50_insitu = np.where(refused, np.nan, single_point_p50(pao2, sa, hill_n=hill_n))
     factor = p50(ph=ph_a, pco2_mmhg=paco2, temperature_c=37.0) / p50()
     out["p50_insitu_mmhg"] = p50_insitu
@@ -747,7 +772,7 @@ def derive(
     out["ph_stat_ph"] = temperature_corrected_ph(ph_a, t)
 
     # Flags
-    flags = np.full(n, "", dtype=object)
+    flags = _Messages(n)
     for key, (low, high, label, _source) in USUAL_RANGES.items():
         v = m[key] if key in m else out[key]
         if low is not None:
@@ -757,7 +782,7 @@ def derive(
     _append(
         flags,
         np.isin(out["pf_category_berlin"], PF_CATEGORIES[1:]),
-        "P/F in the ARDS oxygenation range (<= 300, Berlin 2012)",
+        "P/F in the ARDS oxygenation range (<= 300 by Berlin 2012)",
     )
     _append(
         flags,
@@ -766,8 +791,8 @@ def derive(
     )
 
     result = {k: np.reshape(v, shape) for k, v in out.items()}
-    result["notes"] = notes.reshape(shape)
-    result["reasons"] = reasons.reshape(shape)
-    result["p50_insitu_reason"] = p50_reason.reshape(shape)
-    result["flags"] = flags.reshape(shape)
+    result["notes"] = notes.text().reshape(shape)
+    result["reasons"] = reasons.text().reshape(shape)
+    result["p50_insitu_reason"] = p50_reason.text().reshape(shape)
+    result["flags"] = flags.text().reshape(shape)
     return result

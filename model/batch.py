@@ -1,0 +1,457 @@
+"""Batch: the bedside derived values for a whole table of blood gases (CSV in, CSV out).
+
+Input columns (header names exact, any order; extra columns are passed through):
+
+* required: ``pao2_mmhg, paco2_mmhg, ph, sao2, hb_g_dl, fio2, temperature_c``;
+* optional: ``pb_mmhg, age_years, pvo2_mmhg, svo2, pvco2_mmhg, cardiac_output_l_min``
+  and any other key of :data:`model.bedside.MEASURED_LIMITS` under its own name
+  (``cohb_fraction, methb_fraction, lactate_mmol_l, altitude_m,
+  mean_airway_pressure_cmh2o, cardiac_index_l_min_m2, height_cm, weight_kg``,
+  ``barometric_pressure_mmhg``);
+* unit variants (``COLUMN_VARIANTS``): ``pao2_kpa, paco2_kpa, pvo2_kpa, pvco2_kpa,
+  pb_kpa`` [kPa], ``hb_g_l`` [g/L], ``sao2_percent, svo2_percent, fio2_percent`` [%].
+  One quantity in one column only: giving ``pao2_mmhg`` and ``pao2_kpa`` is an error.
+
+A blank cell (or ``nan``) means "not given". Each output row keeps the input cells and
+adds the derived values (``BATCH_OUTPUTS``, blank where not computable), the P/F
+categories, ``p50_insitu_reason``, ``notes``, ``flags`` and ``error``. A row with a cell
+that is not a number, out of range or missing where required gets its message in
+``error`` and blank outputs; the other rows are unaffected. The first line of the output
+is a ``#`` comment carrying the caution; the reader here skips leading ``#`` lines, so an
+output can be read back.
+
+Files with ``;`` or tab as the separator are accepted; with ``;`` a decimal comma is
+accepted in the input and used in the output. Excel's UTF-8 byte-order mark is skipped.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import os
+import sys
+import tempfile
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from .bedside import DERIVED_FIELDS, MEASURED_LIMITS, REQUIRED_MEASURED, derive
+from .units import MMHG_PER_KPA
+
+CAUTION = (
+    "o2transit is an aid for education and planning, not a medical device. Verify "
+    "against measurements; defer to local protocols and licensed clinical practice."
+)
+
+COLUMN_VARIANTS: dict[str, tuple[str, float, str]] = {
+    "pb_mmhg": ("barometric_pressure_mmhg", 1.0, "mmHg"),
+    "pb_kpa": ("barometric_pressure_mmhg", MMHG_PER_KPA, "kPa"),
+    "pao2_kpa": ("pao2_mmhg", MMHG_PER_KPA, "kPa"),
+    "paco2_kpa": ("paco2_mmhg", MMHG_PER_KPA, "kPa"),
+    "pvo2_kpa": ("pvo2_mmhg", MMHG_PER_KPA, "kPa"),
+    "pvco2_kpa": ("pvco2_mmhg", MMHG_PER_KPA, "kPa"),
+    "hb_g_l": ("hb_g_dl", 0.1, "g/L"),
+    "sao2_percent": ("sao2", 0.01, "%"),
+    "svo2_percent": ("svo2", 0.01, "%"),
+    "fio2_percent": ("fio2", 0.01, "%"),
+}
+"""Input column -> (measured key, factor to the model's unit, the column's unit)."""
+
+BATCH_OUTPUTS = (
+    "barometric_pressure_used_mmhg",
+    "alveolar_po2_mmhg",
+    "aa_gradient_mmhg",
+    "aa_gradient_expected_mmhg",
+    "pao2_fio2_ratio",
+    "pao2_fio2_ratio_pb_corrected",
+    "pf_category_berlin",
+    "pf_category_global2024",
+    "sf_category_global2024",
+    "oxygenation_index",
+    "cao2_ml_dl",
+    "cvo2_ml_dl",
+    "shunt_fraction",
+    "do2_ml_min",
+    "do2i_ml_min_m2",
+    "vo2_ml_min",
+    "extraction_ratio",
+    "pco2_gap_mmhg",
+    "p50_insitu_mmhg",
+    "p50_standard_mmhg",
+    "ph_stat_pao2_mmhg",
+    "ph_stat_paco2_mmhg",
+    "ph_stat_ph",
+    "p50_insitu_reason",
+    "notes",
+    "flags",
+    "error",
+)
+"""Columns added to every output row by default, in order (units in the names)."""
+
+ALL_OUTPUTS = tuple(DERIVED_FIELDS) + ("p50_insitu_reason", "notes", "reasons", "flags", "error")
+"""Columns added with ``--all-columns``: every output of :func:`model.bedside.derive`."""
+
+CHUNK_ROWS = 10_000
+"""Rows computed together (bounds memory; one progress step each)."""
+
+
+class BatchError(ValueError):
+    """A problem with the whole file (missing file or column): nothing is written."""
+
+
+@dataclass(frozen=True)
+class BatchSummary:
+    """What a batch run did."""
+
+    rows: int
+    rows_with_errors: int
+    output: str
+
+
+def _column_map(header: list[str], source: str) -> dict[str, tuple[int, str, float, str]]:
+    """Measured key -> (column index, column name, factor, unit of the column)."""
+    found: dict[str, tuple[int, str, float, str]] = {}
+    for i, name in enumerate(header):
+        if name in MEASURED_LIMITS:
+            key, factor, unit = name, 1.0, MEASURED_LIMITS[name][2]
+        elif name in COLUMN_VARIANTS:
+            key, factor, unit = COLUMN_VARIANTS[name]
+        else:
+            continue
+        if key in found:
+            raise BatchError(
+                f"{source}: columns {found[key][1]!r} and {name!r} both give "
+                f"{MEASURED_LIMITS[key][3]}; keep one"
+            )
+        found[key] = (i, name, factor, unit)
+    missing = [k for k in REQUIRED_MEASURED if k not in found]
+    if missing:
+        alts = {
+            k: [k] + [c for c, (key, _, _) in COLUMN_VARIANTS.items() if key == k] for k in missing
+        }
+        what = "; ".join(" or ".join(alts[k]) for k in missing)
+        raise BatchError(
+            f"{source}: required column missing: {what} (found columns: "
+            f"{', '.join(header) or 'none'})"
+        )
+    clash = [c for c in header if c in ALL_OUTPUTS]
+    if clash:
+        raise BatchError(
+            f"{source}: input column {clash[0]!r} has the name of an output "
+            "column; rename it (or give the original input file)"
+        )
+    return found
+
+
+def _parse(cells: list[str], decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Floats of the cells (NaN for blank/nan) and a mask of cells that are not numbers."""
+    if decimal_comma:
+        cells = [c.replace(",", ".") for c in cells]
+    try:
+        values = np.array(cells, dtype=float)
+        return np.where(np.isnan(values), np.nan, values), np.zeros(len(cells), dtype=bool)
+    except ValueError:
+        pass
+    values = np.empty(len(cells))
+    bad = np.zeros(len(cells), dtype=bool)
+    for i, c in enumerate(cells):
+        c = c.strip()
+        if not c:
+            values[i] = np.nan
+            continue
+        try:
+            values[i] = float(c)
+        except ValueError:
+            values[i] = np.nan
+            bad[i] = True
+    return values, bad
+
+
+def _range_text(key: str, factor: float, unit: str) -> str:
+    lo, hi, _, label = MEASURED_LIMITS[key]
+    u = f" {unit}" if unit else ""
+    return f"{lo / factor:.4g}-{hi / factor:.4g}{u} ({label})"
+
+
+def derive_columns(
+    columns: Mapping[str, Sequence[str]],
+    *,
+    decimal_comma: bool = False,
+    errors: np.ndarray | None = None,
+    source: str = "input",
+):
+    """Derived values and per-row errors for columns of CSV text cells.
+
+    Parameters
+    ----------
+    columns : Mapping
+        CSV column name -> cells (str), all of one length; names as in the module
+        docstring, other names are ignored.
+    decimal_comma : bool
+        Accept "7,35" for 7.35.
+    errors : ndarray of object, optional
+        Messages already known per row (e.g. a malformed row); such rows are blanked.
+    source : str
+        Name of the input for :class:`BatchError` messages.
+
+    Returns
+    -------
+    (dict, ndarray)
+        ``derived`` as from :func:`model.bedside.derive` (NaN/"" on every row with an
+        error) and ``errors``, an object array of messages ("" for a good row).
+
+    Raises
+    ------
+    BatchError
+        A required column is missing or two columns give the same quantity.
+
+    Examples
+    --------
+    >>> d, e = derive_columns({"pao2_kpa": ["8.0", "x"], "paco2_kpa": ["5.3", "5.3"],
+    ...     "ph": ["7.40", "7.40"], "sao2": ["0.92", "0.92"], "hb_g_l": ["120", "120"],
+    ...     "fio2": ["0.4", "0.4"], "temperature_c": ["37", "37"]})
+    >>> d["pao2_fio2_ratio"].round(1).tolist(), e.tolist()
+    ([150.0, nan], ['', "pao2_kpa = 'x' is not a number"])
+    """
+    colmap = _column_map(list(columns), source)
+    n = len(next(iter(columns.values()))) if columns else 0
+    errors = np.full(n, "", dtype=object) if errors is None else errors.astype(object)
+    row_bad = errors != ""
+    measured: dict[str, np.ndarray] = {}
+    for key, (_, name, factor, unit) in colmap.items():
+        cells = columns[name]
+        raw, not_number = _parse(cells, decimal_comma)
+        values = raw * factor
+        lo, hi = MEASURED_LIMITS[key][:2]
+        with np.errstate(invalid="ignore"):
+            out_of_range = (values < lo) | (values > hi)
+        u = f" {unit}" if unit else ""
+        for i in np.flatnonzero(not_number):
+            errors[i] = _join(errors[i], f"{name} = {cells[i].strip()!r} is not a number")
+        for i in np.flatnonzero(out_of_range):
+            hint = ""
+            if unit == "" and hi <= 1.0 and raw[i] > 1.0:
+                hint = f"; give a fraction, or use a {name}_percent column"
+            errors[i] = _join(
+                errors[i],
+                f"{name} = {raw[i]:g}{u} is outside the allowed "
+                f"range {_range_text(key, factor, unit)}{hint}",
+            )
+        if key in REQUIRED_MEASURED:
+            missing = np.isnan(values) & ~not_number
+            for i in np.flatnonzero(missing):
+                errors[i] = _join(
+                    errors[i], f"{name} is missing (required, {_range_text(key, factor, unit)})"
+                )
+            row_bad |= missing
+        row_bad |= not_number | out_of_range
+        measured[key] = values
+    if "cohb_fraction" in measured or "methb_fraction" in measured:
+        total = np.nan_to_num(measured.get("cohb_fraction", np.zeros(n))) + np.nan_to_num(
+            measured.get("methb_fraction", np.zeros(n))
+        )
+        for i in np.flatnonzero((total >= 1.0) & ~row_bad):
+            errors[i] = _join(errors[i], "cohb_fraction + methb_fraction must stay below 1")
+        row_bad |= total >= 1.0
+    clean = {k: np.where(row_bad, np.nan, v) for k, v in measured.items()}
+    try:
+        derived = derive(**clean)
+    except ValueError:  # a combination derive refuses that the checks above missed
+        derived = _derive_row_by_row(clean, errors)
+    return derived, errors
+
+
+def _join(old: str, new: str) -> str:
+    return new if not old else f"{old}; {new}"
+
+
+def _derive_row_by_row(clean: dict[str, np.ndarray], errors: np.ndarray):
+    n = len(errors)
+    nan_row = {k: np.nan for k in clean}
+    parts = []
+    for i in range(n):
+        row = {k: v[i] for k, v in clean.items()}
+        try:
+            parts.append(derive(**row))
+        except ValueError as exc:
+            errors[i] = _join(errors[i], str(exc))
+            parts.append(derive(**nan_row))
+    return {k: np.array([p[k] for p in parts], dtype=parts[0][k].dtype) for k in parts[0]}
+
+
+def _format_column(values: np.ndarray, decimals: int, decimal_comma: bool) -> list[str]:
+    fmt = f"{{:.{decimals}f}}".format
+    out = list(map(fmt, values.tolist()))
+    for i in np.flatnonzero(~np.isfinite(values)).tolist():
+        out[i] = ""
+    if decimal_comma:
+        out = [c.replace(".", ",") for c in out]
+    return out
+
+
+def _quoted(cells: Sequence[str], delimiter: str) -> Sequence[str]:
+    """The cells with CSV quoting where a cell needs it (checked once per column)."""
+    joined = "\x00".join(cells)
+    if not (delimiter in joined or '"' in joined or "\n" in joined or "\r" in joined):
+        return cells
+    return [
+        '"' + c.replace('"', '""') + '"'
+        if (delimiter in c or '"' in c or "\n" in c or "\r" in c)
+        else c
+        for c in cells
+    ]
+
+
+def _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma) -> str:
+    columns = [_quoted(c, delimiter) for c in inputs]
+    for key in outputs:
+        if key == "error":
+            columns.append(_quoted(errors.tolist(), delimiter))
+        elif derived[key].dtype == object:
+            columns.append(_quoted(derived[key].tolist(), delimiter))
+        else:
+            columns.append(_format_column(derived[key], DERIVED_FIELDS[key][2], decimal_comma))
+    return "".join(delimiter.join(r) + "\n" for r in zip(*columns))
+
+
+class _Progress:
+    """A one-line progress bar on a terminal; silent when ``stream`` is not a tty."""
+
+    def __init__(self, total: int, stream, enabled: bool | None):
+        self.total, self.stream = total, stream
+        self.enabled = stream.isatty() if enabled is None else enabled
+
+    def update(self, done: int) -> None:
+        if not self.enabled:
+            return
+        width = 30
+        filled = int(width * done / max(self.total, 1))
+        self.stream.write(
+            f"\rbatch [{'#' * filled}{'.' * (width - filled)}] {done:,}/{self.total:,} rows"
+        )
+        self.stream.flush()
+
+    def close(self) -> None:
+        if self.enabled:
+            self.stream.write("\n")
+            self.stream.flush()
+
+
+def read_table(path) -> tuple[list[str], list[list[str]], str]:
+    """Header, data rows and delimiter of a CSV file.
+
+    Leading blank and ``#`` lines are skipped, as are blank rows; the delimiter is ","
+    unless the header has none and has ";" or a tab.
+    """
+    path = Path(path)
+    if not path.is_file():
+        raise BatchError(f"input file not found: {path}")
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        text = path.read_text(encoding="latin-1")
+    lines = text.splitlines()
+    start = 0
+    while start < len(lines) and (not lines[start].strip() or lines[start].startswith("#")):
+        start += 1
+    if start == len(lines):
+        raise BatchError(f"{path}: no header line (the file is empty)")
+    head = lines[start]
+    delimiter = ","
+    if "," not in head:
+        delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
+    reader = csv.reader(io.StringIO("\n".join(lines[start:])), delimiter=delimiter)
+    header = [h.strip() for h in next(reader)]
+    dup = sorted({h for h in header if h and header.count(h) > 1})
+    if dup:
+        raise BatchError(f"{path}: column {dup[0]!r} appears more than once")
+    rows = [r for r in reader if any(r)]
+    return header, rows, delimiter
+
+
+def run_batch(
+    in_path, out_path, *, progress: bool | None = None, stream=None, all_columns: bool = False
+) -> BatchSummary:
+    """Compute the bedside derived values for every row of ``in_path`` into ``out_path``.
+
+    ``out_path`` "-" writes to standard output. A file is written to a temporary name and
+    renamed, so a failure never leaves half a file. ``progress`` None shows a bar on
+    ``stream`` (standard error) only when it is a terminal. ``all_columns`` adds every
+    output of :func:`model.bedside.derive` (``ALL_OUTPUTS``) instead of ``BATCH_OUTPUTS``.
+
+    Raises
+    ------
+    BatchError
+        Missing or empty file, missing required column, clashing columns; nothing written.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> _ = (d / "in.csv").write_text("pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c"
+    ...                               "\\n80,40,7.4,0.95,12,0.4,37\\n80,40,7.4,0.95,12,4,37\\n")
+    >>> run_batch(d / "in.csv", d / "out.csv").rows_with_errors
+    1
+    """
+    stream = sys.stderr if stream is None else stream
+    in_path = Path(in_path)
+    header, rows, delimiter = read_table(in_path)
+    _column_map(header, str(in_path))  # file-level problems before anything is written
+    outputs = ALL_OUTPUTS if all_columns else BATCH_OUTPUTS
+    decimal_comma = delimiter == ";"
+    to_stdout = str(out_path) == "-"
+    if not to_stdout:
+        out_path = Path(out_path)
+        if out_path.resolve() == in_path.resolve():
+            raise BatchError(
+                f"{out_path}: the output would overwrite the input; choose another name"
+            )
+        if not out_path.parent.is_dir():
+            raise BatchError(f"{out_path}: folder {out_path.parent} does not exist")
+    bar = _Progress(len(rows), stream, progress)
+    width = len(header)
+    n_errors = 0
+    if to_stdout:
+        handle, tmp = sys.stdout, None
+    else:
+        fd, tmp = tempfile.mkstemp(prefix=f".{out_path.name}.", dir=out_path.parent)
+        handle = os.fdopen(fd, "w", encoding="utf-8", newline="")
+    try:
+        handle.write(f"# o2transit batch. {CAUTION}\n")
+        handle.write(delimiter.join(_quoted(header + list(outputs), delimiter)) + "\n")
+        bar.update(0)
+        for start in range(0, len(rows), CHUNK_ROWS):
+            chunk = rows[start : start + CHUNK_ROWS]
+            errors = np.full(len(chunk), "", dtype=object)
+            for i, r in enumerate(chunk):
+                if len(r) != width:
+                    if len(r) > width:
+                        errors[i] = (
+                            f"row has {len(r)} cells but the header has {width}: values "
+                            "may be shifted (an unquoted comma?)"
+                        )
+                    chunk[i] = (r + [""] * (width - len(r)))[:width]
+            inputs = list(zip(*chunk)) if chunk else [()] * width
+            derived, errors = derive_columns(
+                dict(zip(header, inputs)),
+                decimal_comma=decimal_comma,
+                errors=errors,
+                source=str(in_path),
+            )
+            n_errors += int(np.count_nonzero(errors != ""))
+            handle.write(_output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma))
+            bar.update(start + len(chunk))
+        bar.close()
+        if tmp is not None:
+            handle.close()
+            os.replace(tmp, out_path)
+            tmp = None
+        else:
+            handle.flush()
+    finally:
+        if tmp is not None:
+            handle.close()
+            os.unlink(tmp)
+    return BatchSummary(len(rows), n_errors, "-" if to_stdout else str(out_path))
