@@ -1,0 +1,448 @@
+"""Ranked what-ifs: which lever helps this case most — oxygen, blood, flow, temperature or pH?
+
+:func:`rank_levers` takes a case (keywords of :func:`model.solve_transport`, typically
+``fit_case(...).inputs``), changes one thing at a time, solves the chain for every
+change and ranks the changes by their predicted effect on O2 delivery, PaO2, SvO2, PvO2
+or the extraction ratio. Every what-if carries its full ``inputs``, so it can become the
+live case (``CaseState.apply_inputs``) with the base case kept as the baseline.
+
+The levers and their rules:
+
+* **FiO2 steps** — each step above the present FiO2, nothing else changed.
+* **Transfusion to a target Hb** — Hb raised to the target, cardiac output and VO2
+  unchanged. With ``stored_blood_dpg_depleted`` the donor cells carry
+  :data:`STORED_BLOOD_DPG_MMOL_L` of 2,3-DPG and the red-cell DPG of the mixture is the
+  haemoglobin-weighted mean, ``DPG = (Hb0 DPG0 + (Hbt - Hb0) DPGstored) / Hbt`` (red
+  cells of the same haemoglobin concentration mix by volume; common practice). COHb,
+  MetHb and a fitted P50 offset are kept for the mixture.
+* **Cardiac output up** — cardiac output times ``cardiac_output_factor``, VO2 unchanged.
+* **Cooling** — temperature to ``cooling_to_c`` with VO2 scaled by
+  :data:`model.circulation.VO2_Q10_PER_C` per degC (common practice). Acid-base by the
+  alpha-stat rule (default: the values a 37 degC analyser reads are kept, so in the
+  cooled patient PCO2 falls by 10^(0.019 dT) and pH rises by 0.0147 per degC) or the
+  pH-stat rule (PaCO2 and pH held at the patient's temperature).
+* **pH correction** — arterial pH to ``ph_target`` with PaCO2 held (a metabolic
+  correction).
+* **Shunt change** — the shunt fraction changed by ``shunt_change`` (e.g. -0.1 after
+  recruitment), entered by the user.
+
+A lever that does not apply to the case (FiO2 already at or above a step, Hb at or above
+the target, temperature at or below the cooling target, pH already at the target, no
+shunt change given) is left out. A what-if the chain refuses is kept with its ``error``
+and ranked last.
+
+Ranking rule: by the change in the ``rank_by`` quantity, best first — a rise is better for
+``"do2"``, ``"pao2"``, ``"svo2"`` and ``"pvo2"``, a fall for ``"extraction"``; equal changes
+(within 1e-9) are ordered by the rise in PvO2, then by key.
+
+References
+----------
+1. Valeri CR, Hirsch NM. Restoration in vivo of erythrocyte adenosine triphosphate,
+   2,3-diphosphoglycerate, potassium ion, and sodium ion concentrations following the
+   transfusion of acid-citrate-dextrose-stored human red blood cells. J Lab Clin Med
+   1969; 73:722-733 (DPG of stored cells falls to a small fraction of normal; from memory).
+2. Kelman GR. Digital computer subroutine for the conversion of oxygen tension into
+   saturation. J Appl Physiol 1966; 21:1375-1376 (temperature and pH shifts of the curve).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .bedside import temperature_corrected_pco2, temperature_corrected_ph
+from .circulation import VO2_Q10_PER_C
+from .dissociation import NORMAL_DPG_MMOL_L
+from .limits import INPUT_LIMITS, check_range
+from .transport import solve_transport
+
+DEFAULT_FIO2_STEPS = (0.3, 0.4, 0.5, 0.6, 0.8, 1.0)
+"""FiO2 values tried by default (those above the present FiO2) [-]."""
+
+STORED_BLOOD_DPG_MMOL_L = 0.5
+"""Red-cell 2,3-DPG of stored blood at the end of its usual storage [mmol/L]: a tenth of
+normal (from memory: DPG falls to below 10 % within about two weeks of storage; Valeri &
+Hirsch 1969)."""
+
+RANK_QUANTITIES: dict[str, tuple[str, int, str]] = {
+    "do2": ("do2_ml_min", 1, "O2 delivery"),
+    "pao2": ("pao2_mmhg", 1, "PaO2"),
+    "svo2": ("svo2", 1, "SvO2"),
+    "pvo2": ("pvo2_mmhg", 1, "PvO2"),
+    "extraction": ("extraction_ratio", -1, "O2 extraction ratio"),
+}
+"""rank_by -> (outcome field, +1 if a rise is better / -1 if a fall is, label)."""
+
+COOLING_RULES = ("alpha_stat", "ph_stat")
+
+_OUTCOMES = (
+    "do2_ml_min",
+    "pao2_mmhg",
+    "sao2",
+    "cao2_ml_dl",
+    "svo2",
+    "pvo2_mmhg",
+    "extraction_ratio",
+)
+
+
+@dataclass(frozen=True)
+class LeverOutcome:
+    """One what-if and its predicted effect; ``delta_*`` are what-if minus base.
+
+    ``changes`` holds only the inputs the lever changed; ``inputs`` the whole what-if
+    case (``solve_transport`` keywords, ready for ``CaseState.apply_inputs``). Values are
+    NaN and ``error`` says why when the chain refused the what-if.
+    """
+
+    key: str
+    label: str
+    changes: dict
+    note: str
+    inputs: dict = field(repr=False)
+    do2_ml_min: float
+    pao2_mmhg: float
+    sao2: float
+    cao2_ml_dl: float
+    svo2: float
+    pvo2_mmhg: float
+    extraction_ratio: float
+    delta_do2_ml_min: float
+    delta_pao2_mmhg: float
+    delta_sao2: float
+    delta_cao2_ml_dl: float
+    delta_svo2: float
+    delta_pvo2_mmhg: float
+    delta_extraction_ratio: float
+    error: str = ""
+
+
+def _range_error(name: str, value, lo: float, hi: float, unit: str, label: str) -> ValueError:
+    u = f" {unit}" if unit else ""
+    return ValueError(f"{name} = {value!r} is outside the allowed range {lo:g}-{hi:g}{u} ({label})")
+
+
+def _number(name: str, value, lo: float, hi: float, unit: str, label: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.floating, np.integer)):
+        raise ValueError(  # noqa: TRY004 - bad input is a ValueError throughout the model
+            f"{name} = {value!r} must be a number ({label}, {lo:g}-{hi:g}"
+            f"{' ' + unit if unit else ''})"
+        )
+    v = float(value)
+    if not (lo <= v <= hi):
+        raise _range_error(name, value, lo, hi, unit, label)
+    return v
+
+
+def _limit(name: str, lever: str, value) -> float:
+    lo, hi, unit, label = INPUT_LIMITS[name]
+    return _number(lever, value, lo, hi, unit, label)
+
+
+def _outcome_values(result, i: int | None) -> dict:
+    def pick(x):
+        a = np.asarray(x, dtype=float)
+        return float(a if i is None else a.ravel()[i])
+
+    return {
+        "do2_ml_min": pick(result.do2_ml_min),
+        "pao2_mmhg": pick(result.arterial.po2_mmhg),
+        "sao2": pick(result.arterial.so2),
+        "cao2_ml_dl": pick(result.arterial.o2_content_ml_dl),
+        "svo2": pick(result.venous.so2),
+        "pvo2_mmhg": pick(result.venous.po2_mmhg),
+        "extraction_ratio": pick(result.extraction_ratio),
+    }
+
+
+def _solve_one(case: dict) -> tuple[dict, str]:
+    try:
+        return _outcome_values(solve_transport(**case), None), ""
+    except ValueError as exc:
+        return dict.fromkeys(_OUTCOMES, math.nan), str(exc)
+
+
+def _solve_cases(cases: list[dict]) -> list[tuple[dict, str]]:
+    """(outcomes, error) per case; cases with the same keys and choices share one call."""
+    groups: dict = {}
+    for i, case in enumerate(cases):
+        fixed = tuple(
+            sorted((k, v) for k, v in case.items() if v is None or isinstance(v, (str, bool)))
+        )
+        groups.setdefault((frozenset(case), fixed), []).append(i)
+    out: list = [None] * len(cases)
+    for (keys, fixed), idx in groups.items():
+        if len(idx) == 1:
+            out[idx[0]] = _solve_one(cases[idx[0]])
+            continue
+        kw = dict(fixed)
+        for k in keys:
+            if k not in kw:
+                kw[k] = np.array([float(cases[i][k]) for i in idx])
+        try:
+            result = solve_transport(**kw)
+        except ValueError:  # find which case the chain refuses, solve the rest alone
+            for i in idx:
+                out[i] = _solve_one(cases[i])
+            continue
+        for j, i in enumerate(idx):
+            out[i] = (_outcome_values(result, j), "")
+    return out
+
+
+def _check_base(inputs: Mapping) -> dict:
+    base = {k: v for k, v in dict(inputs).items() if v is not None}
+    try:
+        solve_transport(**base)
+    except TypeError as exc:
+        raise ValueError(f"inputs: {exc}".replace("solve_transport() got an ", "")) from None
+    return base
+
+
+def _fmt(x: float, digits: int) -> str:
+    return f"{x:.{digits}f}"
+
+
+def rank_levers(
+    inputs: Mapping,
+    *,
+    fio2_steps=DEFAULT_FIO2_STEPS,
+    target_hb_g_dl: float = 10.0,
+    stored_blood_dpg_depleted: bool = False,
+    cardiac_output_factor: float = 1.2,
+    cooling_to_c: float = 36.0,
+    cooling_rule: str = "alpha_stat",
+    ph_target: float = 7.40,
+    shunt_change: float | None = None,
+    rank_by: str = "do2",
+) -> list[LeverOutcome]:
+    """Predict and rank one-at-a-time changes to a case.
+
+    Parameters
+    ----------
+    inputs : Mapping
+        The base case, keywords of :func:`model.solve_transport` (e.g.
+        ``fit_case(...).inputs``); ``None`` values are dropped.
+    fio2_steps : sequence of float
+        FiO2 values to try [-]; those not above the present FiO2 are skipped.
+    target_hb_g_dl : float
+        Hb after transfusion [g/dL]; skipped when the case's Hb is at or above it.
+    stored_blood_dpg_depleted : bool
+        Donor cells low in 2,3-DPG (:data:`STORED_BLOOD_DPG_MMOL_L`), mixed by Hb.
+    cardiac_output_factor : float
+        Multiple of the present cardiac output, 1 < factor <= 3 [-].
+    cooling_to_c : float
+        Target temperature [degC]; skipped unless below the case's temperature.
+    cooling_rule : {"alpha_stat", "ph_stat"}
+        How PaCO2 and pH follow the cooling (module docstring).
+    ph_target : float
+        Arterial pH after correction [-], PaCO2 held; skipped within 0.005 of the case.
+    shunt_change : float or None
+        Change in shunt fraction [-], e.g. -0.1; None leaves this lever out.
+    rank_by : {"do2", "pao2", "svo2", "pvo2", "extraction"}
+        Quantity whose change orders the table (see the module docstring).
+
+    Returns
+    -------
+    list of LeverOutcome
+        Best first by the ranking rule; refused what-ifs last.
+
+    Raises
+    ------
+    ValueError
+        A lever setting out of range or of the wrong type (field, value, range, unit), an
+        unknown ``rank_by`` or ``cooling_rule``, or a base case the chain refuses.
+
+    Examples
+    --------
+    >>> table = rank_levers({"fio2": 0.3, "shunt_fraction": 0.2, "hb_g_dl": 8.0})
+    >>> table[0].key
+    'transfusion'
+    >>> all(o.delta_pao2_mmhg > 0 for o in table if o.key.startswith("fio2"))
+    True
+    """
+    if rank_by not in RANK_QUANTITIES:
+        raise ValueError(
+            f"rank_by {rank_by!r} is unknown; choose one of {', '.join(RANK_QUANTITIES)}"
+        )
+    if cooling_rule not in COOLING_RULES:
+        raise ValueError(
+            f"cooling_rule {cooling_rule!r} is unknown; choose one of {', '.join(COOLING_RULES)}"
+        )
+    if not isinstance(stored_blood_dpg_depleted, (bool, np.bool_)):
+        raise ValueError(  # noqa: TRY004
+            f"stored_blood_dpg_depleted = {stored_blood_dpg_depleted!r} must be true or false"
+        )
+    steps = [_limit("fio2", "fio2_steps", s) for s in np.atleast_1d(fio2_steps).tolist()]
+    hb_target = _limit("hb_g_dl", "target_hb_g_dl", target_hb_g_dl)
+    factor = _number(
+        "cardiac_output_factor",
+        cardiac_output_factor,
+        1.0,
+        3.0,
+        "",
+        "multiple of the present cardiac output",
+    )
+    if factor == 1.0:
+        raise _range_error(
+            "cardiac_output_factor",
+            cardiac_output_factor,
+            1.0,
+            3.0,
+            "",
+            "multiple of the present cardiac output, above 1",
+        )
+    cool_to = _limit("temperature_c", "cooling_to_c", cooling_to_c)
+    ph_to = _limit("ph", "ph_target", ph_target)
+    base = _check_base(inputs)
+    defaults = {
+        "fio2": 0.21,
+        "hb_g_dl": 15.0,
+        "cardiac_output_l_min": 5.0,
+        "temperature_c": 37.0,
+        "shunt_fraction": 0.02,
+        "vo2_ml_min": 250.0,
+        "paco2_mmhg": 40.0,
+    }
+    now = {k: float(base.get(k, v)) for k, v in defaults.items()}
+    levers: list[tuple[str, str, dict, str]] = []
+
+    for step in sorted(set(steps)):
+        if step > now["fio2"] + 0.005:
+            levers.append(
+                (f"fio2_{step:.2f}", f"FiO2 {now['fio2']:.2f} → {step:.2f}", {"fio2": step}, "")
+            )
+
+    if hb_target > now["hb_g_dl"] + 0.05:
+        changes = {"hb_g_dl": hb_target}
+        label = f"Transfuse: Hb {now['hb_g_dl']:.1f} → {hb_target:.1f} g/dL"
+        note = "Cardiac output and VO2 unchanged."
+        if stored_blood_dpg_depleted:
+            dpg0 = float(base.get("dpg_mmol_l", NORMAL_DPG_MMOL_L))
+            share = now["hb_g_dl"] / hb_target
+            dpg = share * dpg0 + (1.0 - share) * STORED_BLOOD_DPG_MMOL_L
+            changes["dpg_mmol_l"] = dpg
+            label += ", stored blood low in 2,3-DPG"
+            note = (
+                f"2,3-DPG {dpg0:.1f} → {dpg:.1f} mmol/L: donor cells at "
+                f"{STORED_BLOOD_DPG_MMOL_L:g} mmol/L mixed by Hb. " + note
+            )
+        levers.append(("transfusion", label, changes, note))
+
+    q_new = now["cardiac_output_l_min"] * factor
+    check_range("cardiac_output_l_min", q_new)
+    levers.append(
+        (
+            "cardiac_output",
+            f"Cardiac output ×{factor:g}: {now['cardiac_output_l_min']:.1f} → {q_new:.1f} L/min",
+            {"cardiac_output_l_min": q_new},
+            "VO2 unchanged.",
+        )
+    )
+
+    if cool_to < now["temperature_c"] - 0.05:
+        dt = cool_to - now["temperature_c"]
+        changes = {"temperature_c": cool_to}
+        if base.get("vo2_temperature_scaling"):
+            note = "VO2 follows temperature (the case scales VO2 with temperature)."
+        else:
+            changes["vo2_ml_min"] = now["vo2_ml_min"] * VO2_Q10_PER_C**dt
+            note = (
+                f"VO2 {now['vo2_ml_min']:.0f} → {changes['vo2_ml_min']:.0f} mL/min "
+                f"({(VO2_Q10_PER_C - 1) * 100:.0f} % per °C)."
+            )
+        if cooling_rule == "alpha_stat":
+            changes["paco2_mmhg"] = float(temperature_corrected_pco2(now["paco2_mmhg"], 37.0 + dt))
+            if "ph" in base:
+                changes["ph"] = float(temperature_corrected_ph(base["ph"], 37.0 + dt))
+            note += " Alpha-stat: ventilation keeps the 37 °C readings, so PaCO2 falls."
+        else:
+            note += " pH-stat: PaCO2 and pH held at the patient's temperature."
+        levers.append(
+            ("cooling", f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C", changes, note)
+        )
+
+    ph_now = base.get("ph")
+    if ph_now is None or abs(float(ph_now) - ph_to) > 0.005:
+        shown = "" if ph_now is None else f"{float(ph_now):.2f} → "
+        levers.append(
+            (
+                "ph",
+                f"Correct pH: {shown}{ph_to:.2f}",
+                {"ph": ph_to},
+                "Metabolic correction: PaCO2 held.",
+            )
+        )
+
+    if shunt_change is not None:
+        change = _number("shunt_change", shunt_change, -0.8, 0.8, "", "change in shunt fraction")
+        lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
+        new = now["shunt_fraction"] + change
+        if not lo <= new <= hi:
+            raise ValueError(
+                f"shunt_change = {change:g} would take the shunt fraction from "
+                f"{now['shunt_fraction']:.2f} to {new:.2f}, outside the allowed range "
+                f"{lo:g}-{hi:g} (Shunt fraction)"
+            )
+        if change != 0.0:
+            levers.append(
+                (
+                    "shunt",
+                    f"Shunt {now['shunt_fraction']:.2f} → {new:.2f}",
+                    {"shunt_fraction": new},
+                    "Entered change (e.g. after recruitment).",
+                )
+            )
+
+    cases = [base]
+    for _, _, changes, _ in levers:
+        case = dict(base, **changes)
+        if "ph" in changes:
+            case.pop("base_excess_mmol_l", None)
+        cases.append(case)
+    solved = _solve_cases(cases)
+    ref, base_error = solved[0]
+    if base_error:
+        raise ValueError(f"inputs: the base case cannot be solved: {base_error}")
+    table = []
+    for (key, label, changes, note), case, (values, error) in zip(levers, cases[1:], solved[1:]):
+        deltas = {f"delta_{k}": values[k] - ref[k] for k in _OUTCOMES}
+        table.append(
+            LeverOutcome(
+                key=key,
+                label=label,
+                changes=changes,
+                note=note,
+                inputs=case,
+                error=error,
+                **values,
+                **deltas,
+            )
+        )
+    return sort_outcomes(table, rank_by)
+
+
+def sort_outcomes(outcomes: list[LeverOutcome], rank_by: str = "do2") -> list[LeverOutcome]:
+    """Order what-ifs by the ranking rule of the module docstring (refused ones last).
+
+    Examples
+    --------
+    >>> [o.key for o in sort_outcomes(rank_levers({"hb_g_dl": 8.0}), "pao2")][:1]
+    ['fio2_0.30']
+    """
+    if rank_by not in RANK_QUANTITIES:
+        raise ValueError(
+            f"rank_by {rank_by!r} is unknown; choose one of {', '.join(RANK_QUANTITIES)}"
+        )
+    name, sign, _ = RANK_QUANTITIES[rank_by]
+
+    def order(o: LeverOutcome):
+        gain = sign * getattr(o, f"delta_{name}")
+        if o.error or not math.isfinite(gain):
+            return (1, 0.0, 0.0, o.key)
+        return (0, -round(gain, 9), -round(o.delta_pvo2_mmhg, 9), o.key)
+
+    return sorted(outcomes, key=order)
