@@ -1,4 +1,4 @@
-"""The ``o2transit`` command: ``evaluate`` scenario files, ``serve`` the dashboard."""
+"""The ``o2transit`` command: ``evaluate`` scenario files, ``batch`` blood gases, ``serve`` the dashboard."""
 
 from __future__ import annotations
 
@@ -67,6 +67,18 @@ def main(argv=None) -> int:
     asc = sub.add_parser("ascent", help="compare ascent schedules day by day")
     asc.add_argument("profiles", nargs="+", metavar="PROFILE")
     asc.add_argument("--json", action="store_true", help="print JSON instead of tables")
+    bt = sub.add_parser("batch", help="derived blood-gas values for every row of a CSV file",
+                        description="Bedside derived values (P/F, A-a, CaO2, shunt, DO2, P50, "
+                                    "...) for a table of blood gases. Required columns: "
+                                    "pao2_mmhg, paco2_mmhg, ph, sao2, hb_g_dl, fio2, "
+                                    "temperature_c (kPa, g/L and percent variants: see README). "
+                                    + CAUTION)
+    bt.add_argument("input", metavar="IN.csv")
+    bt.add_argument("-o", "--output", required=True, metavar="OUT.csv",
+                    help="output CSV ('-' for standard output)")
+    bt.add_argument("--all-columns", action="store_true",
+                    help="add every derived value, not only the main ones")
+    bt.add_argument("--no-progress", action="store_true", help="never show the progress bar")
     sv = sub.add_parser("serve", help="start the dashboard on this machine")
     sv.add_argument("--port", type=int, default=5006)
     sv.add_argument("--address", default="127.0.0.1",
@@ -104,6 +116,20 @@ def main(argv=None) -> int:
         else:
             print("\n\n".join(format_ascent(r) for r in results))
             print(f"\n{CAUTION}")
+        return 0
+    if args.command == "batch":
+        from .batch import BatchError, run_batch
+
+        try:
+            summary = run_batch(args.input, args.output, all_columns=args.all_columns,
+                                progress=False if args.no_progress else None)
+        except (BatchError, OSError) as exc:
+            print(f"error: {exc}", file=sys.stderr)
+            return 2
+        where = "standard output" if summary.output == "-" else summary.output
+        print(f"{summary.rows} rows -> {where}; {summary.rows_with_errors} with an error "
+              "(see the error column)", file=sys.stderr)
+        print(CAUTION, file=sys.stderr)
         return 0
     from dashboard.app import serve
 
