@@ -9,6 +9,15 @@ from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
 from .ascent import AscentDay, AscentError, AscentProfile, load_ascent, run_ascent
 from .bedside import MEASURED_LIMITS, check_measured, derive
+from .casebook import (
+                          IDENTIFIER_WARNING,
+                          CaseFileError,
+                          CaseRecord,
+                          default_case_dir,
+                          list_cases,
+                          open_case,
+                          save_case,
+)
 from .circulation import (
                           body_surface_area,
                           extraction_ratio,
@@ -25,6 +34,8 @@ from .dissociation import (
                           po2_from_saturation,
                           saturation,
 )
+from .fitting import FitResult, Residual, fit_case
+from .levers import LeverOutcome, rank_levers
 from .limits import INPUT_LIMITS
 from .lungs import aa_gradient, alveolar_po2, end_capillary_po2, mix_by_content, po2_from_content
 from .scenario import Scenario, ScenarioError, load_scenario
@@ -39,17 +50,19 @@ from .units import (
 )
 
 __all__ = [
-    "CURVES", "HUFNER_ML_G", "INPUT_LIMITS", "MEASURED_LIMITS", "NORMAL_DPG_MMOL_L",
+    "CURVES", "HUFNER_ML_G", "IDENTIFIER_WARNING", "INPUT_LIMITS", "MEASURED_LIMITS", "NORMAL_DPG_MMOL_L",
     "O2_SOLUBILITY_ML_DL_MMHG", "PRESSURE_MODELS", "STANDARD_P50_MMHG", "AscentDay", "AscentError",
     "AscentProfile",
-    "BloodState", "Scenario", "ScenarioError",
+    "BloodState", "CaseFileError", "CaseRecord", "FitResult", "LeverOutcome", "Residual",
+    "Scenario", "ScenarioError",
     "TransportResult", "aa_gradient", "alveolar_po2", "barometric_pressure", "base_excess",
     "bicarbonate", "blood_co2_content", "body_surface_area", "check_measured",
-    "derive", "end_capillary_po2",
-    "extraction_ratio", "hb_g_dl_to_g_l", "hb_g_dl_to_mmol_l", "hb_g_l_to_g_dl",
-    "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "load_ascent", "load_scenario",
+    "default_case_dir", "derive", "end_capillary_po2",
+    "extraction_ratio", "fit_case", "hb_g_dl_to_g_l", "hb_g_dl_to_mmol_l", "hb_g_l_to_g_dl",
+    "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "list_cases", "load_ascent", "load_scenario",
     "mix_by_content",
-    "mmhg_to_kpa", "oxygen_content", "oxygen_delivery", "p50", "ph_from_base_excess",
-    "po2_from_content", "po2_from_saturation", "run_ascent", "saturation", "solve_transport",
+    "mmhg_to_kpa", "open_case", "oxygen_content", "oxygen_delivery", "p50", "ph_from_base_excess",
+    "po2_from_content", "po2_from_saturation", "rank_levers", "run_ascent", "saturation",
+    "save_case", "solve_transport",
     "venous_content_fick", "vo2_at_temperature", "water_vapour_pressure",
 ]

@@ -365,13 +365,17 @@ def rank_levers(
             ("cooling", f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C", changes, note)
         )
 
-    ph_now = base.get("ph")
-    if ph_now is None or abs(float(ph_now) - ph_to) > 0.005:
-        shown = "" if ph_now is None else f"{float(ph_now):.2f} → "
+    if "ph" in base:
+        ph_now = float(base["ph"])
+    elif "base_excess_mmol_l" in base:
+        ph_now = float(solve_transport(**base).arterial.ph)
+    else:
+        ph_now = 7.40  # solve_transport's pH when neither pH nor base excess is given
+    if abs(ph_now - ph_to) > 0.005:
         levers.append(
             (
                 "ph",
-                f"Correct pH: {shown}{ph_to:.2f}",
+                f"Correct pH: {ph_now:.2f} → {ph_to:.2f}",
                 {"ph": ph_to},
                 "Metabolic correction: PaCO2 held.",
             )
@@ -430,8 +434,8 @@ def sort_outcomes(outcomes: list[LeverOutcome], rank_by: str = "do2") -> list[Le
 
     Examples
     --------
-    >>> [o.key for o in sort_outcomes(rank_levers({"hb_g_dl": 8.0}), "pao2")][:1]
-    ['fio2_0.30']
+    >>> [o.key for o in sort_outcomes(rank_levers({"hb_g_dl": 8.0}), "pao2")][:2]
+    ['fio2_1.00', 'fio2_0.80']
     """
     if rank_by not in RANK_QUANTITIES:
         raise ValueError(
