@@ -170,9 +170,9 @@ def _parse(cells: list[str], decimal_comma: bool) -> tuple[np.ndarray, np.ndarra
 
 
 def _range_text(key: str, factor: float, unit: str) -> str:
-    lo, hi, _, label = MEASURED_LIMITS[key]
+    lo, hi, _, _ = MEASURED_LIMITS[key]
     u = f" {unit}" if unit else ""
-    return f"{lo / factor:.4g}-{hi / factor:.4g}{u} ({label})"
+    return f"{lo / factor:.4g}-{hi / factor:.4g}{u}"
 
 
 def derive_columns(
@@ -213,7 +213,7 @@ def derive_columns(
     ...     "ph": ["7.40", "7.40"], "sao2": ["0.92", "0.92"], "hb_g_l": ["120", "120"],
     ...     "fio2": ["0.4", "0.4"], "temperature_c": ["37", "37"]})
     >>> d["pao2_fio2_ratio"].round(1).tolist(), e.tolist()
-    ([150.0, nan], ['', "pao2_kpa = 'x' is not a number"])
+    ([150.0, nan], ['', "pao2_kpa = 'x' is not a number (PaO2; allowed range 1.333-99.99 kPa)"])
     """
     colmap = _column_map(list(columns), source)
     n = len(next(iter(columns.values()))) if columns else 0
@@ -224,26 +224,32 @@ def derive_columns(
         cells = columns[name]
         raw, not_number = _parse(cells, decimal_comma)
         values = raw * factor
-        lo, hi = MEASURED_LIMITS[key][:2]
+        lo, hi, _, label = MEASURED_LIMITS[key]
         with np.errstate(invalid="ignore"):
             out_of_range = (values < lo) | (values > hi)
         u = f" {unit}" if unit else ""
         for i in np.flatnonzero(not_number):
-            errors[i] = _join(errors[i], f"{name} = {cells[i].strip()!r} is not a number")
+            errors[i] = _join(
+                errors[i],
+                f"{name} = {cells[i].strip()!r} is not a number ({label}; allowed range "
+                f"{_range_text(key, factor, unit)})",
+            )
         for i in np.flatnonzero(out_of_range):
             hint = ""
             if unit == "" and hi <= 1.0 and raw[i] > 1.0:
                 hint = f"; give a fraction, or use a {name}_percent column"
             errors[i] = _join(
                 errors[i],
-                f"{name} = {raw[i]:g}{u} is outside the allowed "
-                f"range {_range_text(key, factor, unit)}{hint}",
+                f"{name} = {raw[i]:g}{u} is outside the allowed range "
+                f"{_range_text(key, factor, unit)} ({label}){hint}",
             )
         if key in REQUIRED_MEASURED:
             missing = np.isnan(values) & ~not_number
             for i in np.flatnonzero(missing):
                 errors[i] = _join(
-                    errors[i], f"{name} is missing (required, {_range_text(key, factor, unit)})"
+                    errors[i],
+                    f"{name} is missing ({label}, required; allowed range "
+                    f"{_range_text(key, factor, unit)})",
                 )
             row_bad |= missing
         row_bad |= not_number | out_of_range

@@ -62,22 +62,22 @@ from .dissociation import HILL_N, p50, po2_from_saturation, saturation
 from .lungs import aa_gradient, alveolar_po2
 
 MEASURED_LIMITS: dict[str, tuple[float, float, str, str]] = {
-    "pao2_mmhg": (10.0, 750.0, "mmHg", "Arterial PO2 (PaO2)"),
-    "paco2_mmhg": (5.0, 150.0, "mmHg", "Arterial PCO2 (PaCO2)"),
+    "pao2_mmhg": (10.0, 750.0, "mmHg", "PaO2"),
+    "paco2_mmhg": (5.0, 150.0, "mmHg", "PaCO2"),
     "ph": (6.6, 7.9, "", "Arterial pH"),
-    "sao2": (0.05, 1.0, "", "Arterial O2 saturation (SaO2, co-oximetry)"),
+    "sao2": (0.05, 1.0, "", "SaO2"),
     "hb_g_dl": (2.0, 25.0, "g/dL", "Haemoglobin"),
     "cohb_fraction": (0.0, 0.7, "", "COHb fraction"),
     "methb_fraction": (0.0, 0.7, "", "MetHb fraction"),
     "lactate_mmol_l": (0.0, 30.0, "mmol/L", "Lactate"),
-    "temperature_c": (25.0, 43.0, "degC", "Patient temperature"),
+    "temperature_c": (25.0, 43.0, "degC", "Temperature"),
     "fio2": (0.05, 1.0, "", "FiO2"),
     "barometric_pressure_mmhg": (150.0, 1100.0, "mmHg", "Barometric pressure"),
     "altitude_m": (-500.0, 9000.0, "m", "Altitude"),
     "mean_airway_pressure_cmh2o": (1.0, 60.0, "cmH2O", "Mean airway pressure"),
-    "pvo2_mmhg": (5.0, 200.0, "mmHg", "Venous PO2 (PvO2)"),
-    "svo2": (0.05, 1.0, "", "Venous O2 saturation (SvO2)"),
-    "pvco2_mmhg": (5.0, 200.0, "mmHg", "Venous PCO2 (PvCO2)"),
+    "pvo2_mmhg": (5.0, 200.0, "mmHg", "PvO2"),
+    "svo2": (0.05, 1.0, "", "SvO2"),
+    "pvco2_mmhg": (5.0, 200.0, "mmHg", "PvCO2"),
     "cardiac_output_l_min": (0.5, 40.0, "L/min", "Cardiac output"),
     "cardiac_index_l_min_m2": (0.3, 20.0, "L/min/m2", "Cardiac index"),
     "height_cm": (40.0, 250.0, "cm", "Height"),
@@ -228,7 +228,7 @@ def _out_of_range_message(name: str, value: float) -> str:
 def _missing_message(name: str) -> str:
     lo, hi, unit, label = MEASURED_LIMITS[name]
     u = f" {unit}" if unit else ""
-    return f"{name} is required ({label}, allowed range {lo:g}-{hi:g}{u})"
+    return f"{name} is required ({label}; allowed range {lo:g}-{hi:g}{u})"
 
 
 def check_measured(mapping: Mapping[str, object]) -> dict[str, float | None]:
@@ -279,7 +279,7 @@ def check_measured(mapping: Mapping[str, object]) -> dict[str, float | None]:
             except (TypeError, ValueError):
                 u = f" {unit}" if unit else ""
                 raise ValueError(
-                    f"{name} = {raw!r} is not a number ({label}, allowed range {lo:g}-{hi:g}{u})"
+                    f"{name} = {raw!r} is not a number ({label}; allowed range {lo:g}-{hi:g}{u})"
                 ) from None
             if math.isnan(value):
                 value = None
