@@ -450,8 +450,9 @@ class _Messages:
     def mask(self) -> np.ndarray:
         return self.bits != 0
 
-    def text(self) -> np.ndarray:
-        combos, inverse = np.unique(self.bits, return_inverse=True)
+    def text(self, keep=True) -> np.ndarray:
+        """The joined messages per element ("" where ``keep`` is False)."""
+        combos, inverse = np.unique(np.where(keep, self.bits, 0), return_inverse=True)
         strings = np.empty(len(combos), dtype=object)
         for k, c in enumerate(combos.tolist()):
             strings[k] = "; ".join(m for b, m in enumerate(self.messages) if c >> b & 1)
@@ -498,7 +499,8 @@ def derive(
 
     Every argument broadcasts; optional ones are None or NaN where not given, and every
     output that needs them is then NaN. Values are validated against ``MEASURED_LIMITS``
-    (NaN passes as "not given"; a NaN in a required input gives NaN outputs).
+    (NaN passes as "not given"; a NaN in a required input gives NaN outputs and empty
+    messages).
 
     Equations (all in the 37 degC frame of the analyser, see the module docstring):
 
@@ -790,9 +792,13 @@ def derive(
         "A-a gradient above the age-expected value (room-air norm)",
     )
 
-    result = {k: np.reshape(v, shape) for k, v in out.items()}
-    result["notes"] = notes.text().reshape(shape)
-    result["reasons"] = reasons.text().reshape(shape)
-    result["p50_insitu_reason"] = p50_reason.text().reshape(shape)
-    result["flags"] = flags.text().reshape(shape)
+    complete = np.all([np.isfinite(m[k]) for k in REQUIRED_MEASURED], axis=0)
+    result = {
+        k: np.reshape(np.where(complete, v, "" if v.dtype == object else np.nan), shape)
+        for k, v in out.items()
+    }
+    result["notes"] = notes.text(complete).reshape(shape)
+    result["reasons"] = reasons.text(complete).reshape(shape)
+    result["p50_insitu_reason"] = p50_reason.text(complete).reshape(shape)
+    result["flags"] = flags.text(complete).reshape(shape)
     return result
