@@ -552,9 +552,12 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
             barometric_pressure(sleep[j], model=model),
             barometric_pressure(high[j], model=model),
         )
+        o2 = fio2[j] > 0.21  # equivalent altitudes only where O2 is added (a bisection each)
         for h, out in ((sleep[j], h_n), (high[j], h_h)):
-            eq = equivalent_altitude(h, fio2[j], pressure_model=model, air_fio2=0.21)
-            out[j] = np.where(fio2[j] > 0.21, np.minimum(h, eq), h)
+            out[j] = h
+            if np.any(o2):
+                eq = equivalent_altitude(h[o2], fio2[j][o2], pressure_model=model, air_fio2=0.21)
+                out[j][o2] = np.minimum(h[o2], eq)
     x_n, x_h = inspired_po2(fio2, pb_n), inspired_po2(fio2, pb_h)
 
     def baseline(name):

@@ -173,37 +173,41 @@ def _converged(step, tol):
     return bool(np.all(~(np.abs(step) > tol)))
 
 
-def _total(name, p, c, shift):
-    """Total-ligand saturation of the curve at pressure p [mmHg] (no CO handling)."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        return _total_formula(name, p, c, shift, np)
+def _constants(name, c, shift, m):
+    """The parts of :func:`_total_formula` that depend only on the conditions."""
+    if name in ("severinghaus1979", "hill1910"):
+        return {"e": m.exp(-shift)}
+    if name == "dash2016":
+        p50 = DASH2016["p50_mmhg"] * m.exp(shift)
+        return {"p50": p50, "lp50": m.log(p50)}
+    a, b = _sa_a_b(c, m)
+    return {"shift": shift, "x0": _LN7 + a + b, "h": 3.5 + a}
 
 
-def _total_formula(name, p, c, shift, m):
+def _total_formula(name, p, k, m):
+    """Total-ligand saturation at p [mmHg]; ``k`` from :func:`_constants`, ``m`` numpy or math."""
     if name == "severinghaus1979":
-        x = p * m.exp(-shift)
+        x = p * k["e"]
         cubic = x * (x * x + 150.0)
         return cubic / (cubic + 23400.0)  # Eq 1 of [1], rearranged
     if name == "hill1910":
-        x = p * m.exp(-shift) / STANDARD_P50_MMHG["hill1910"]
+        x = p * k["e"] / STANDARD_P50_MMHG["hill1910"]
         xn = x**HILL_N
         return xn / (1.0 + xn)
     if name == "dash2016":
-        p50 = DASH2016["p50_mmhg"] * m.exp(shift)
         nh = DASH2016["alpha"] - DASH2016["beta"] * 10.0 ** (-p / DASH2016["gamma_mmhg"])
-        xn = (p / p50) ** nh
+        xn = (p / k["p50"]) ** nh
         return xn / (1.0 + xn)
-    a, b = _sa_a_b(c, m)
-    x = m.log(p / _MMHG_PER_KPA) - shift
-    x0 = _LN7 + a + b
-    y = 1.8747 + (x - x0) + (3.5 + a) * m.tanh(0.5343 * (x - x0))
+    x = m.log(p / _MMHG_PER_KPA) - k["shift"]
+    x0 = k["x0"]
+    y = 1.8747 + (x - x0) + k["h"] * m.tanh(0.5343 * (x - x0))
     return 1.0 / (1.0 + m.exp(-y))
 
 
-def _total_slope(name, p, s, c, shift, m):
-    """Analytic dS/dp of :func:`_total` at p [1/mmHg], given s = S(p) (Newton steps only)."""
+def _total_slope(name, p, s, k, m):
+    """Analytic dS/dp of :func:`_total_formula` at p [1/mmHg], given s = S(p) (Newton only)."""
     if name == "severinghaus1979":
-        e = m.exp(-shift)
+        e = k["e"]
         x = p * e
         den = x * (x * x + 150.0) + 23400.0
         return 23400.0 * (3.0 * x * x + 150.0) * e / (den * den)
@@ -212,12 +216,9 @@ def _total_slope(name, p, s, c, shift, m):
     if name == "dash2016":
         decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
         nh = DASH2016["alpha"] - DASH2016["beta"] * decay
-        ln_ratio = m.log(p) - m.log(DASH2016["p50_mmhg"]) - shift
-        return s * (1.0 - s) * (nh / p + _DASH_K * decay * ln_ratio)
-    a, b = _sa_a_b(c, m)
-    u = m.log(p / _MMHG_PER_KPA) - shift - (_LN7 + a + b)
-    th = m.tanh(0.5343 * u)
-    return s * (1.0 - s) * (1.0 + (3.5 + a) * 0.5343 * (1.0 - th * th)) / p
+        return s * (1.0 - s) * (nh / p + _DASH_K * decay * (m.log(p) - k["lp50"]))
+    th = m.tanh(0.5343 * (m.log(p / _MMHG_PER_KPA) - k["shift"] - k["x0"]))
+    return s * (1.0 - s) * (1.0 + k["h"] * 0.5343 * (1.0 - th * th)) / p
 
 
 def _total_inverse(name, s, c, shift):
@@ -337,46 +338,56 @@ class PreparedCurve:
     def __init__(self, name, c):
         self.name, self.c = name, c
         self.shift = _ln_shift(name, c)
+        self.k = _constants(name, c, self.shift, np)
         self.sco = c["fco"] / (1.0 - c["fmet"])
         self.has_co = bool(np.any(self.sco > 0))
 
     def saturation(self, p):
         """Functional saturation at p [mmHg] (see :func:`saturation`)."""
-        name, c, shift, sco = self.name, self.c, self.shift, self.sco
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return self._saturation(p)
+
+    def _saturation(self, p):
+        # callers hold np.errstate(divide, invalid, over = "ignore")
+        name, k, sco = self.name, self.k, self.sco
         if not self.has_co:
-            return _total(name, p, c, shift)
+            return _total_formula(name, p, k, np)
         # Haldane: total saturation u solves F(u) = u - S(PO2 u / (u - sCO)) = 0 on (sCO, 1];
         # F rises with u, so Newton is kept inside a bisection bracket.
         p = np.asarray(p, dtype=float)
         lo, hi = sco * np.ones_like(p), np.ones_like(p * sco)
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            u = sco + (1.0 - sco) * _total_formula(name, p, c, shift, np)
-            u = np.where((u > lo) & (u < hi), u, 0.5 * (lo + hi))
-            skip = np.isnan(p) | (p <= 0) | (sco <= 0)
-            for _ in range(_HALDANE_ITERATIONS):
-                d = u - sco
-                q = p * u / d
-                t = _total_formula(name, q, c, shift, np)
-                f = u - t
-                hi = np.where(f > 0, u, hi)
-                lo = np.where(f > 0, lo, u)
-                df = 1.0 + _total_slope(name, q, t, c, shift, np) * p * sco / (d * d)
-                new = u - f / df
-                out = ((new < lo) | (new > hi) | ~np.isfinite(new)) & (f != 0)
-                new = np.where(out, 0.5 * (lo + hi), new)
-                step = np.where(skip, 0.0, new - u)
-                u = new
-                if _converged(step, _HALDANE_TOL):
-                    break
-            so2 = np.where(sco > 0, (u - sco) / (1.0 - sco), _total(name, p, c, shift))
+        u = sco + (1.0 - sco) * _total_formula(name, p, k, np)
+        u = np.where((u > lo) & (u < hi), u, 0.5 * (lo + hi))
+        skip = np.isnan(p) | (p <= 0) | (sco <= 0)
+        for _ in range(_HALDANE_ITERATIONS):
+            d = u - sco
+            q = p * u / d
+            t = _total_formula(name, q, k, np)
+            f = u - t
+            hi = np.where(f > 0, u, hi)
+            lo = np.where(f > 0, lo, u)
+            df = 1.0 + _total_slope(name, q, t, k, np) * p * sco / (d * d)
+            new = u - f / df
+            out = ((new < lo) | (new > hi) | ~np.isfinite(new)) & (f != 0)
+            new = np.where(out, 0.5 * (lo + hi), new)
+            step = np.where(skip, 0.0, new - u)
+            u = new
+            if _converged(step, _HALDANE_TOL):
+                break
+        so2 = np.where(sco > 0, (u - sco) / (1.0 - sco), _total_formula(name, p, k, np))
         so2 = np.where(p <= 0, 0.0, so2)
         return np.where(np.isnan(p), np.nan, so2)
 
     def slope(self, p):
         """dS/dPO2 by a central difference [1/mmHg]."""
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return self._slope(p)
+
+    def _slope(self, p):
+        # callers hold np.errstate(divide, invalid, over = "ignore")
         h = np.maximum(1e-4 * p, 1e-6)
         lo = np.maximum(p - h, 0.0)
-        return (self.saturation(p + h) - self.saturation(lo)) / (p + h - lo)
+        return (self._saturation(p + h) - self._saturation(lo)) / (p + h - lo)
 
     def inverse(self, s):
         """PO2 [mmHg] at functional saturation s (exact inverse of :meth:`saturation`)."""
@@ -401,17 +412,18 @@ class ScalarCurve:
     chain; use :func:`prepare_scalar_curve`.
     """
 
-    __slots__ = ("c", "has_co", "name", "sco", "shift")
+    __slots__ = ("c", "has_co", "k", "name", "sco", "shift")
 
     def __init__(self, name, c):
         self.name, self.c = name, c
         self.shift = _ln_shift(name, c, math)
+        self.k = _constants(name, c, self.shift, math)
         self.sco = c["fco"] / (1.0 - c["fmet"])
         self.has_co = self.sco > 0.0
 
     def _total(self, p):
         try:
-            return _total_formula(self.name, p, self.c, self.shift, math)
+            return _total_formula(self.name, p, self.k, math)
         except ValueError:  # log(0) of the tanh curve at p = 0
             return 0.0
         except OverflowError:  # exp(-y) as p -> 0, or x**n as p -> inf
@@ -423,7 +435,7 @@ class ScalarCurve:
             return self._total(p)
         if not p > 0.0:
             return 0.0 if p == 0.0 else math.nan
-        name, c, shift, sco = self.name, self.c, self.shift, self.sco
+        name, k, sco = self.name, self.k, self.sco
         lo, hi = sco, 1.0
         u = sco + (1.0 - sco) * self._total(p)
         if not lo < u < hi:
@@ -439,7 +451,7 @@ class ScalarCurve:
                 lo = u
             if f == 0.0:
                 break
-            new = u - f / (1.0 + _total_slope(name, q, t, c, shift, math) * p * sco / (d * d))
+            new = u - f / (1.0 + _total_slope(name, q, t, k, math) * p * sco / (d * d))
             if not lo <= new <= hi:
                 new = 0.5 * (lo + hi)
             step = new - u

@@ -102,18 +102,24 @@ def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
     k = np.asarray(diffusing_capacity_ml_min_mmhg, dtype=float) / 60.0 / np.asarray(
         capillary_volume_ml, dtype=float)
     dt = np.asarray(transit_time_s, dtype=float) / steps
-    p = np.minimum(pv, pa)
     curve = prepare_curve(**curve_conditions)
+    return _end_capillary_po2(pa, pv, hb, carrying, k, dt, curve, hufner_ml_g,
+                              o2_solubility_ml_dl_mmhg, steps)
 
-    def beta(x):
-        return (hufner_ml_g * hb * carrying * curve.slope(x) + o2_solubility_ml_dl_mmhg) / 100.0
 
-    b = beta(p)
-    for _ in range(steps):
-        # predictor with the previous midpoint's beta, corrector at the new midpoint
-        trial = pa - (pa - p) * np.exp(-k * dt / b)
-        b = beta(0.5 * (p + trial))
-        p = pa - (pa - p) * np.exp(-k * dt / b)
+def _end_capillary_po2(pa, pv, hb, carrying, k, dt, curve, hufner, solubility, steps=24):
+    """:func:`end_capillary_po2` on arrays: ``k = DLO2 / 60 / Vc``, ``dt`` one step [s],
+    ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a :class:`model.dissociation.PreparedCurve`."""
+    p = np.minimum(pv, pa)
+    kh = hufner * hb * carrying
+    mkdt = -k * dt
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        b = (kh * curve._slope(p) + solubility) / 100.0
+        for _ in range(steps):
+            # predictor with the previous midpoint's beta, corrector at the new midpoint
+            trial = pa - (pa - p) * np.exp(mkdt / b)
+            b = (kh * curve._slope(0.5 * (p + trial)) + solubility) / 100.0
+            p = pa - (pa - p) * np.exp(mkdt / b)
     return p
 
 
@@ -122,12 +128,13 @@ def _end_capillary_po2_scalar(pa, pv, hb, carrying, k, dt, curve, hufner, solubi
     ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a :class:`model.dissociation.ScalarCurve`."""
     p = min(pv, pa)
     kh = hufner * hb * carrying
+    mkdt = -k * dt
     exp = math.exp
     b = (kh * curve.slope(p) + solubility) / 100.0
     for _ in range(steps):
-        trial = pa - (pa - p) * exp(-k * dt / b)
+        trial = pa - (pa - p) * exp(mkdt / b)
         b = (kh * curve.slope(0.5 * (p + trial)) + solubility) / 100.0
-        p = pa - (pa - p) * exp(-k * dt / b)
+        p = pa - (pa - p) * exp(mkdt / b)
     return p
 
 
@@ -172,28 +179,35 @@ def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
     """
     c = np.asarray(content_ml_dl, dtype=float)
     c, hb = np.broadcast_arrays(c, np.asarray(hb_g_dl, dtype=float))
-    lo = np.zeros(c.shape)
-    hi = np.maximum(c / o2_solubility_ml_dl_mmhg, 1e-9)
     carrying = hufner_ml_g * hb * (1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
                                    - np.asarray(curve_conditions.get("methb_fraction", 0.0)))
     curve = prepare_curve(**curve_conditions)
+    return _po2_from_content(c, carrying, o2_solubility_ml_dl_mmhg, curve)
+
+
+def _po2_from_content(c, carrying, solubility, curve):
+    """:func:`po2_from_content` on arrays; ``carrying`` = k Hb (1 - FCOHb - FMetHb)
+    [mL O2/dL], ``curve`` a :class:`model.dissociation.PreparedCurve`."""
+    lo = np.zeros(c.shape)
+    hi = np.maximum(c / solubility, 1e-9)
     p = np.zeros(c.shape)
     for _ in range(3):  # fixed-point start: contracts fast where the curve is steep
-        s0 = np.clip((c - o2_solubility_ml_dl_mmhg * p) / np.maximum(carrying, 1e-9), 1e-6, 0.9995)
+        s0 = np.clip((c - solubility * p) / np.maximum(carrying, 1e-9), 1e-6, 0.9995)
         p = np.clip(curve.inverse(s0), lo, hi)
-    for _ in range(80):
-        f = carrying * curve.saturation(p) + o2_solubility_ml_dl_mmhg * p - c
-        hi = np.where(f > 0, p, hi)
-        lo = np.where(f > 0, lo, p)
-        df = carrying * curve.slope(p) + o2_solubility_ml_dl_mmhg
-        new = p - f / df
-        outside = (new < lo) | (new > hi) | ~np.isfinite(new)
-        new = np.where(outside, 0.5 * (lo + hi), new)
-        hit = np.abs(f) <= 1e-12 * np.maximum(c, 1e-3)
-        done = hit | (~outside & (np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)))
-        p = np.where(hit, p, new)
-        if np.all(done | np.isnan(c)):
-            break
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for _ in range(80):
+            f = carrying * curve._saturation(p) + solubility * p - c
+            hi = np.where(f > 0, p, hi)
+            lo = np.where(f > 0, lo, p)
+            df = carrying * curve._slope(p) + solubility
+            new = p - f / df
+            outside = (new < lo) | (new > hi) | ~np.isfinite(new)
+            new = np.where(outside, 0.5 * (lo + hi), new)
+            hit = np.abs(f) <= 1e-12 * np.maximum(c, 1e-3)
+            done = hit | (~outside & (np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)))
+            p = np.where(hit, p, new)
+            if np.all(done | np.isnan(c)):
+                break
     return p
 
 

@@ -10,22 +10,22 @@ import numpy as np
 from .acid_base import (
     _base_excess,
     _blood_co2_content,
+    _ph_from_base_excess,
     _ph_from_base_excess_scalar,
     base_excess,
-    blood_co2_content,
-    ph_from_base_excess,
 )
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
 from .circulation import VO2_Q10_PER_C, oxygen_delivery, vo2_at_temperature
 from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, _oxygen_content, oxygen_content
-from .dissociation import _canonical, p50, prepare_scalar_curve, saturation
+from .dissociation import _canonical, p50, prepare_curve, prepare_scalar_curve, saturation
 from .limits import INPUT_LIMITS, check_range
 from .lungs import (
+    _end_capillary_po2,
     _end_capillary_po2_scalar,
+    _po2_from_content,
     _po2_from_content_scalar,
     aa_gradient,
     alveolar_po2,
-    end_capillary_po2,
     po2_from_content,
 )
 
@@ -100,50 +100,78 @@ def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve):
             "curve": curve}
 
 
-def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start):
-    """PvCO2 and pHv such that Douglas content equals cvco2 on the venous buffer line."""
+def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start, ph):
+    """PvCO2 and pHv such that Douglas content equals cvco2 on the venous buffer line
+    (each pH solve starts from the last one, ``ph`` first)."""
     p = p_start.copy()
     for _ in range(30):
-        ph = ph_from_base_excess(be_ox, p, hb, svo2)
-        f = blood_co2_content(p, ph, svo2, hb, t) - cvco2
+        ph = _ph_from_base_excess(be_ox, p, hb, svo2, ph)
+        f = _blood_co2_content(p, ph, svo2, hb, t) - cvco2
         h = 1e-4 * p
-        ph2 = ph_from_base_excess(be_ox, p + h, hb, svo2)
-        df = (blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
+        ph2 = _ph_from_base_excess(be_ox, p + h, hb, svo2, ph)
+        df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
         step = np.clip(f / df, -0.5 * p, 40.0)
         p = p - step
         if np.all(~(np.abs(step) > 1e-9)):
             break
-    return p, ph_from_base_excess(be_ox, p, hb, svo2)
+    return p, _ph_from_base_excess(be_ox, p, hb, svo2, ph)
+
+
+def _aitken(x0, x1, x2):
+    """Aitken's delta-squared extrapolation of x0, x1 = G(x0), x2 = G(x1) towards the fixed
+    point of G, where the two steps shrink by a steady factor |r| < 0.9 (else x2).
+
+    The mixed venous PO2 converges geometrically (r about 0.2-0.4, highest where diffusion
+    limits uptake), so one extrapolation after every two passes halves the passes needed.
+    """
+    d1, d2 = x1 - x0, x2 - x1
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r = d2 / d1
+        y = x2 + d2 * r / (1.0 - r)
+    return np.where((np.abs(r) < 0.9) & (y > 0.0), y, x2)
+
+
+def _aitken_scalar(x0, x1, x2):
+    """:func:`_aitken` for floats."""
+    d1, d2 = x1 - x0, x2 - x1
+    if d1 == 0.0:
+        return x2
+    r = d2 / d1
+    if not abs(r) < 0.9:
+        return x2
+    y = x2 + d2 * r / (1.0 - r)
+    return y if y > 0.0 else x2
 
 
 def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     """One pass of the coupled arterial-venous solution on the cases still moving."""
+    hufner, sol = content_kw["hufner_ml_g"], content_kw["o2_solubility_ml_dl_mmhg"]
+    hb, t, paco2 = f["hb"], f["t"], f["paco2"]
     ph_a = st["ph_a"]
     if "base_excess_mmol_l" in f:
-        ph_a = ph_from_base_excess(f["base_excess_mmol_l"], f["paco2"], f["hb"], st["sao2"])
-    art = _curve_kw(ph_a, f["paco2"], f["t"], f.get("dpg_mmol_l"), f["cohb"], f["methb"],
-                    f.get("p50_mmhg"), curve)
-    pc = end_capillary_po2(f["pao2_alv"], st["pv_o2"], f["hb"],
-                           diffusing_capacity_ml_min_mmhg=f["dl"], capillary_volume_ml=f["vc"],
-                           transit_time_s=f["transit"], **content_kw, **art)
-    sc = saturation(pc, **art)
-    cc = oxygen_content(f["hb"], sc, pc, cohb_fraction=f["cohb"], methb_fraction=f["methb"],
-                        **content_kw)
-    cao2 = cc - f["qs"] / (1.0 - f["qs"]) * f["d_av"]
+        ph_a = _ph_from_base_excess(f["base_excess_mmol_l"], paco2, hb, st["sao2"], ph_a)
+    art = prepare_curve(**_curve_kw(ph_a, paco2, t, f.get("dpg_mmol_l"), f["cohb"], f["methb"],
+                                     f.get("p50_mmhg"), curve))
+    pc = _end_capillary_po2(f["pao2_alv"], st["pv_o2"], hb, f["carry"], f["k"], f["dt"], art,
+                            hufner, sol)
+    sc = art.saturation(pc)
+    cc = _oxygen_content(hb, sc, pc, f["cohb"], f["methb"], hufner, sol)
+    cao2 = cc - f["admix"]
     cvo2 = cao2 - f["d_av"]
     if np.any(cvo2 <= 0.0):
         raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
                          "output (venous O2 content would be below zero)")
-    pa_o2 = po2_from_content(cao2, f["hb"], **content_kw, **art)
-    sao2 = saturation(pa_o2, **art)
-    be_ox = base_excess(ph_a, f["paco2"], f["hb"], sao2)  # referred to full oxygenation (Zander)
-    caco2 = blood_co2_content(f["paco2"], ph_a, sao2, f["hb"], f["t"])
+    pa_o2 = _po2_from_content(cao2, f["carry_ml"], sol, art)
+    sao2 = art.saturation(pa_o2)
+    be_ox = _base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
+    caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
     cvco2 = caco2 + f["rq"] * f["d_av"]
-    ven = _curve_kw(st["ph_v"], st["pv_co2"], f["t"], f.get("dpg_mmol_l"), f["cohb"],
-                    f["methb"], f.get("p50_mmhg"), curve)
-    pv_o2 = po2_from_content(cvo2, f["hb"], **content_kw, **ven)
-    svo2 = saturation(pv_o2, **ven)
-    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, f["hb"], f["t"], np.maximum(st["pv_co2"], 1.0))
+    ven = prepare_curve(**_curve_kw(st["ph_v"], st["pv_co2"], t, f.get("dpg_mmol_l"), f["cohb"],
+                                     f["methb"], f.get("p50_mmhg"), curve))
+    pv_o2 = _po2_from_content(cvo2, f["carry_ml"], sol, ven)
+    svo2 = ven.saturation(pv_o2)
+    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(st["pv_co2"], 1.0),
+                               st["ph_v"])
     return {"ph_a": ph_a, "pv_o2": pv_o2, "pv_co2": pv_co2, "ph_v": ph_v, "sao2": sao2,
             "pc": pc, "sc": sc, "cc": cc, "cao2": cao2, "cvo2": cvo2, "pa_o2": pa_o2,
             "caco2": caco2, "cvco2": cvco2}
@@ -203,19 +231,19 @@ def _scalar_inputs(kw: dict):
     return out
 
 
-def _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, p):
+def _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, p, ph):
     """:func:`_venous_co2` for floats."""
     for _ in range(30):
-        ph = _ph_from_base_excess_scalar(be_ox, p, hb, svo2)
+        ph = _ph_from_base_excess_scalar(be_ox, p, hb, svo2, ph)
         f = _blood_co2_content(p, ph, svo2, hb, t) - cvco2
         h = 1e-4 * p
-        ph2 = _ph_from_base_excess_scalar(be_ox, p + h, hb, svo2)
+        ph2 = _ph_from_base_excess_scalar(be_ox, p + h, hb, svo2, ph)
         df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
         step = min(max(f / df, -0.5 * p), 40.0)
         p = p - step
         if not abs(step) > 1e-9:
             break
-    return p, _ph_from_base_excess_scalar(be_ox, p, hb, svo2)
+    return p, _ph_from_base_excess_scalar(be_ox, p, hb, svo2, ph)
 
 
 def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, max_iterations):
@@ -252,10 +280,11 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
     pv_co2, sao2 = paco2 + 5.0, 0.97
     ph_v = ph_a - 0.03
     tol = x["tol"]
+    prev_in = math.nan
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         if be_given is not None:
-            ph_a = _ph_from_base_excess_scalar(be_given, paco2, hb, sao2)
+            ph_a = _ph_from_base_excess_scalar(be_given, paco2, hb, sao2, ph_a)
         art = curve_at(ph_a, paco2)
         pc = _end_capillary_po2_scalar(pao2_alv, pv_o2, hb, carrying, k, dt, art, hufner, sol)
         sc = art.saturation(pc)
@@ -272,11 +301,15 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
         ven = curve_at(ph_v, pv_co2)
         new_pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
         svo2 = ven.saturation(new_pv_o2)
-        pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0))
+        pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0), ph_v)
         change = abs(new_pv_o2 - pv_o2)
-        pv_o2 = new_pv_o2
         if not change > tol:
+            pv_o2 = new_pv_o2
             break
+        if iterations >= 3 and iterations % 2:
+            prev_in, pv_o2 = pv_o2, _aitken_scalar(prev_in, pv_o2, new_pv_o2)
+        else:
+            prev_in, pv_o2 = pv_o2, new_pv_o2
     ven = curve_at(ph_v, pv_co2)
     pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
     svo2 = ven.saturation(pv_o2)
@@ -447,7 +480,9 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     flat = {k: np.array(v, dtype=float).ravel() for k, v in {
         "pao2_alv": pao2_alv, "hb": hb, "t": t, "paco2": paco2, "cohb": cohb, "methb": methb,
         "qs": qs, "d_av": d_av, "transit": transit, "rq": a["rq"],
-        "dl": a["diffusing_capacity_ml_min_mmhg"], "vc": a["capillary_volume_ml"],
+        "k": a["diffusing_capacity_ml_min_mmhg"] / 60.0 / a["capillary_volume_ml"],
+        "dt": transit / 24, "carry": 1.0 - cohb - methb,
+        "carry_ml": hufner_ml_g * hb * (1.0 - cohb - methb), "admix": qs / (1.0 - qs) * d_av,
         **{k: a[k] for k in ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg") if k in a},
     }.items()}
     fixed = {"curve": curve, "content_kw": content_kw}
@@ -456,14 +491,20 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
           "sao2": np.full(flat["hb"].shape, 0.97)}
     st["ph_v"] = st["ph_a"] - 0.03
     active = np.arange(flat["hb"].size)
+    prev_in = np.full(flat["hb"].shape, np.nan)
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         sub = {k: v[active] for k, v in flat.items()}
         new = _iterate(sub, {k: v[active] for k, v in st.items()}, **fixed)
-        change = np.abs(new["pv_o2"] - st["pv_o2"][active])
+        x_in = st["pv_o2"][active]
+        change = np.abs(new["pv_o2"] - x_in)
         for k, v in new.items():
             st.setdefault(k, np.full(flat["hb"].shape, np.nan))[active] = v
-        active = active[change > tol]
+        moving = change > tol
+        if iterations >= 3 and iterations % 2:
+            st["pv_o2"][active[moving]] = _aitken(prev_in[active], x_in, new["pv_o2"])[moving]
+        prev_in[active] = x_in
+        active = active[moving]
         if active.size == 0:
             break
     st = {k: v.reshape(shape) for k, v in st.items()}
