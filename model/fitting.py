@@ -414,6 +414,12 @@ def _fit_shunt(mt: dict, m37: dict, inputs: dict, messages: list[str]) -> float:
     for round_ in range(3):
         grid = np.linspace(a, b, 17)
         gaps = _pao2_at_shunts(inputs, grid) - pao2  # falls as shunt rises
+        if round_ == 0 and gaps[0] == -pao2:  # the chain refused even an unshunted lung
+            raise ValueError(
+                f"the case cannot be fitted: Hb {inputs['hb_g_dl']:g} g/dL at a cardiac output "
+                f"of {inputs['cardiac_output_l_min']:g} L/min cannot deliver a VO2 of "
+                f"{inputs['vo2_ml_min']:g} mL/min even with no shunt"
+            )
         if round_ == 0 and gaps[0] < 0.0:
             messages.append(_too_high_message(m37, inputs, gaps[0] + pao2, mt))
             return lo
@@ -650,7 +656,10 @@ def fit_case(
         assumptions[-1] += f"{DEFAULT_VO2_ML_MIN:g} mL/min assumed."
         shunt = _fit_shunt(mt, m37, inputs, messages)
     inputs["shunt_fraction"] = fitted["shunt_fraction"] = shunt
-    result = solve_transport(**inputs)
+    try:
+        result = solve_transport(**inputs)
+    except ValueError as exc:
+        raise ValueError(f"the case cannot be fitted: {exc}") from None
     residuals = _residuals(m37, result, fitted_keys)
     _residual_messages(residuals, fitted, messages)
     body = {k: m37[k] for k in ("height_cm", "weight_kg") if k in m37}

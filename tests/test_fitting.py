@@ -322,3 +322,9 @@ def test_arterial_content_matches_hufner_at_measured_values():
         )
     )
     assert float(fit.result.arterial.o2_content_ml_dl) == pytest.approx(expected, abs=1e-6)
+
+
+def test_delivery_too_low_for_any_fit_is_refused_in_words():
+    m = {**synthesise(venous=False), "hb_g_dl": 2.0, "cardiac_output_l_min": 0.5}
+    with pytest.raises(ValueError, match="cannot deliver a VO2 of 250 mL/min even with no shunt"):
+        fit_case(m)
