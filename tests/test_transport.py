@@ -316,3 +316,92 @@ def test_vo2_temperature_scaling():
     r = solve_transport(temperature_c=39.0, vo2_temperature_scaling=True)
     assert 250.0 * 1.15 <= float(r.vo2_ml_min) <= 250.0 * 1.30
     assert float(solve_transport(temperature_c=39.0).vo2_ml_min) == pytest.approx(250.0)
+
+
+# --- the float path for one case against the array path --------------------------------------
+
+
+def _leaves(d, prefix=""):
+    for k, v in d.items():
+        if isinstance(v, dict):
+            yield from _leaves(v, f"{prefix}{k}.")
+        elif k != "iterations":
+            yield f"{prefix}{k}", v
+
+
+def _random_cases(n: int) -> list[dict]:
+    """Valid cases mixing CO, MetHb, altitude, fever, acidosis, every curve (invented)."""
+    rng = np.random.default_rng(11)
+    curves = ["severinghaus", "dash", "hill", "siggaard_andersen1990"]
+    cases = []
+    for i in range(n):
+        case = {
+            "altitude_m": float(rng.uniform(0.0, 4000.0)),
+            "fio2": float(rng.uniform(0.21, 0.6)),
+            "paco2_mmhg": float(rng.uniform(28.0, 50.0)),
+            "shunt_fraction": float(rng.uniform(0.0, 0.3)),
+            "hb_g_dl": float(rng.uniform(10.0, 18.0)),
+            "temperature_c": float(rng.uniform(35.0, 41.0)),
+            "cardiac_output_l_min": float(rng.uniform(4.0, 8.0)),
+            "vo2_ml_min": float(rng.uniform(200.0, 320.0)),
+            "cohb_fraction": float(rng.uniform(0.0, 0.25)) if i % 2 else 0.0,
+            "methb_fraction": float(rng.uniform(0.0, 0.15)) if i % 3 == 1 else 0.0,
+            "curve": curves[i % 4],
+        }
+        if i % 3 == 0:
+            case["ph"] = float(rng.uniform(7.05, 7.5))
+        elif i % 3 == 1:
+            case["base_excess_mmol_l"] = float(rng.uniform(-15.0, 8.0))
+        if i % 5 == 0:
+            case["dpg_mmol_l"] = float(rng.uniform(3.0, 8.0))
+        if i % 7 == 0:
+            case["p50_mmhg"] = float(rng.uniform(18.0, 32.0))
+        cases.append(case)
+    return cases
+
+
+@pytest.mark.parametrize("scaling", [False, True])
+def test_float_path_matches_array_path(scaling):
+    # One scalar case runs through math on floats; an array runs the vectorised chain. Both
+    # take the same steps, so they agree to rounding (1e-9 allows for the odd last ulp
+    # carried through the Newton solves; regression, not physiology).
+    cases = _random_cases(24)
+    by_curve: dict[str, list[int]] = {}
+    for i, c in enumerate(cases):
+        key = (c["curve"], tuple(sorted(k for k in c if k not in ("curve",))))
+        by_curve.setdefault(key, []).append(i)
+    for (curve, keys), idx in by_curve.items():
+        arrays = {k: np.array([cases[i][k] for i in idx]) for k in keys}
+        batch = solve_transport(curve=curve, vo2_temperature_scaling=scaling, **arrays)
+        batch_leaves = dict(_leaves(batch.to_dict()))
+        for j, i in enumerate(idx):
+            one = solve_transport(vo2_temperature_scaling=scaling, **cases[i])
+            assert isinstance(one.arterial.po2_mmhg, np.ndarray)
+            for name, value in _leaves(one.to_dict()):
+                assert value == pytest.approx(batch_leaves[name][j], rel=1e-9, abs=1e-9), (
+                    name,
+                    cases[i],
+                )
+
+
+def test_float_path_0d_array_and_numpy_scalars():
+    # 0-d arrays and numpy scalars take the float path too; results equal plain floats.
+    a = solve_transport(altitude_m=np.array(3000.0), hb_g_dl=np.float64(13.0), fio2=0.3)
+    b = solve_transport(altitude_m=3000.0, hb_g_dl=13.0, fio2=0.3)
+    c = solve_transport(altitude_m=np.array([3000.0]), hb_g_dl=13.0, fio2=0.3)
+    assert a.to_dict() == b.to_dict()
+    assert float(b.arterial.po2_mmhg) == pytest.approx(float(c.arterial.po2_mmhg[0]), rel=1e-9)
+    assert float(b.venous.so2) == pytest.approx(float(c.venous.so2[0]), rel=1e-9)
+
+
+def test_float_path_refusals_match_array_path():
+    # A refusal found inside the chain is worded by the array path for scalars as well.
+    for kw in (
+        {"vo2_ml_min": 2000.0, "cardiac_output_l_min": 1.0},
+        {"altitude_m": 8800.0, "paco2_mmhg": 45.0},
+    ):
+        with pytest.raises(ValueError) as one:
+            solve_transport(**kw)
+        with pytest.raises(ValueError) as arr:
+            solve_transport(**{k: np.array([v]) for k, v in kw.items()})
+        assert str(one.value) == str(arr.value)
