@@ -22,11 +22,15 @@ within range can reproduce, or that contradict each other (venous saturation abo
 arterial, venous PCO2 below arterial, PaO2 above what an unshunted lung could give), are
 reported in plain words and make :attr:`FitResult.consistent` false.
 
-Assumptions: PaO2, PaCO2 and pH are at the patient's temperature (correct analyser values
-reported at 37 degC first); SaO2 and SvO2 are functional saturations, O2Hb/(O2Hb + HHb), as
-co-oximeters report sO2; a venous sample stands for mixed venous blood; without a measured
-cardiac output the model's 5.0 L/min is assumed, and then the fitted VO2 is only as good
-as that assumption (VO2 and flow are not separable from contents alone, Fick 1870).
+Assumptions: PO2, PCO2 and pH are entered as a blood gas analyser reports them, at 37 degC
+(the frame of :mod:`model.bedside`); the chain works at the patient's temperature, so they
+are moved there first (``model.bedside.temperature_corrected_*``: Severinghaus 1979 Eq 3 for
+PO2) and the model's values are moved back to 37 degC for the residuals. SaO2 and SvO2 are
+functional saturations, O2Hb/(O2Hb + HHb), as co-oximeters report sO2; a venous sample
+stands for mixed venous blood; without a measured cardiac output the model's 5.0 L/min is
+assumed, and then the fitted VO2 is only as good as that assumption (VO2 and flow are not
+separable from contents alone, Fick 1870). The fit uses the model's default diffusing
+capacity, capillary volume and RQ: whatever limits O2 uptake shows up as shunt.
 
 References
 ----------
@@ -37,6 +41,8 @@ References
    Ges Würzburg 1870; 16 (VO2 = Q (CaO2 - CvO2), the starting value of VO2).
 3. Mosteller RD. Simplified calculation of body-surface area. N Engl J Med 1987; 317:1098
    (cardiac output from cardiac index).
+4. Severinghaus JW. Simple, accurate equations for human blood O2 dissociation
+   computations. J Appl Physiol 1979; 46:599-602 (Eq 3, PO2 against temperature).
 """
 
 from __future__ import annotations
@@ -102,7 +108,12 @@ about 18-36 mmHg; only rare high- or low-affinity haemoglobins lie beyond."""
 
 @dataclass(frozen=True)
 class Residual:
-    """One measured quantity beside the fitted model's value (model minus measured)."""
+    """One measured quantity beside the fitted model's value, both as at 37 degC.
+
+    ``key`` is the measured key, ``quantity`` its display name, ``unit`` "" for fractions;
+    ``difference`` is model minus measured; ``fitted`` says whether the fit aimed at it;
+    ``within_tolerance`` compares it with :data:`RESIDUAL_TOLERANCE`.
+    """
 
     key: str
     quantity: str
@@ -123,7 +134,9 @@ class FitResult:
     inputs : dict
         Keywords for :func:`model.solve_transport`; every key is also a
         ``dashboard.state.CaseState`` input, so the dict can be given to
-        ``CaseState.apply_inputs`` as it is.
+        ``CaseState.apply_inputs`` as it is. ``paco2_mmhg`` and ``ph`` are at the
+        patient's temperature (the chain's frame), so they differ from the 37 degC
+        readings when the patient is not at 37 degC.
     fitted : dict
         Fitted parameters by name: ``shunt_fraction`` [-] always; ``vo2_ml_min``
         [mL/min] when venous values were used; ``p50_mmhg`` (standard-state) and
