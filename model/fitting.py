@@ -7,7 +7,7 @@ model's free parameters so that the chain reproduces what was measured:
 1. **P50 offset** (standard-state P50, ``p50_mmhg``) when a co-oximetry SaO2 disagrees
    with the dissociation curve at the measured PaO2, pH, PaCO2, temperature, COHb and
    MetHb by more than ``sao2_tolerance``: a one-dimensional root (Brent's method) of
-   ``S(PaO2; P50std) = SaO2``.
+   ``S(PaO2; P50std) = SaO2``. Not above SaO2 0.97, where the curve is too flat.
 2. **Shunt fraction** (venous admixture Qs/Qt) to the measured PaO2 (PaO2 falls
    monotonically with shunt: a bracketing root on vectorised chain calls); and, when a venous
    SvO2 and/or PvO2 is given,
@@ -56,6 +56,7 @@ from scipy.optimize import brentq, least_squares
 
 from .air import barometric_pressure
 from .bedside import (
+    SINGLE_POINT_SO2_RANGE,
     check_measured,
     temperature_corrected_pco2,
     temperature_corrected_ph,
@@ -99,6 +100,10 @@ _DIRECT = (
     "cohb_fraction",
     "methb_fraction",
 )
+
+FLAT_SAO2 = SINGLE_POINT_SO2_RANGE[1]
+"""SaO2 above which no P50 offset is fitted [-]: the curve is so flat there that a
+co-oximeter's +/-0.01 moves P50 by over 15 % (as for model.bedside's single-point P50)."""
 
 PLAUSIBLE_P50_MMHG = (15.0, 40.0)
 """Standard P50 outside which a fitted offset is reported as implausible [mmHg]. From
@@ -291,11 +296,25 @@ def _fit_p50(
     def gap(p50_std):
         return float(saturation(pao2, **{**cond, "p50_mmhg": p50_std})) - sao2
 
-    if abs(gap(standard)) <= tolerance:
+    off = gap(standard)
+    if abs(off) <= tolerance:
         assumptions.append(
             f"SaO2 {sao2:.3f} agrees with the curve at PaO2 {shown:.0f} mmHg within "
             f"{tolerance:g}: no P50 offset fitted."
         )
+        return
+    if sao2 > FLAT_SAO2:
+        assumptions.append(
+            f"SaO2 {sao2:.3f} differs from the curve's {sao2 + off:.3f} at PaO2 {shown:.0f} "
+            f"mmHg, but above {FLAT_SAO2:g} the curve is too flat to read a P50 from one "
+            "sample: no P50 offset fitted."
+        )
+        if abs(off) > 3.0 * tolerance:
+            messages.append(
+                f"Measured SaO2 {sao2:.3f} is {abs(off):.3f} off the curve's {sao2 + off:.3f} "
+                f"at PaO2 {shown:.0f} mmHg, more than co-oximetry error explains — check that "
+                "PaO2 and SaO2 come from the same sample."
+            )
         return
     lo, hi = INPUT_LIMITS["p50_mmhg"][:2]
     g_lo, g_hi = gap(lo), gap(hi)

@@ -212,17 +212,32 @@ def test_venous_pco2_below_arterial_is_reported():
     assert any("Venous PCO2" in msg for msg in fit.messages)
 
 
-def test_sao2_impossible_for_any_p50_is_reported():
+@pytest.mark.parametrize(("pao2", "sao2", "too"), [(20.0, 0.96, "high"), (200.0, 0.50, "low")])
+def test_sao2_impossible_for_any_p50_is_reported(pao2, sao2, too):
     m = synthesise(venous=False)
-    m.update(pao2_mmhg=30.0, sao2=0.995)
+    m.update(pao2_mmhg=pao2, sao2=sao2)
     fit = fit_case(m)
     assert not fit.consistent
-    assert any("impossible for any standard P50" in msg for msg in fit.messages)
+    assert any(
+        "impossible for any standard P50" in msg and f"too {too}" in msg for msg in fit.messages
+    )
+
+
+def test_no_p50_is_read_from_the_flat_top_of_the_curve():
+    m = synthesise(venous=False)
+    m.update(pao2_mmhg=150.0, sao2=0.975)  # the curve says about 0.99: within co-oximetry
+    fit = fit_case(m)
+    assert "p50_mmhg" not in fit.fitted and fit.consistent
+    assert any("too flat" in a for a in fit.assumptions)
+    m.update(pao2_mmhg=80.0, sao2=1.0)  # 0.04 above the curve: not co-oximetry error
+    fit = fit_case(m)
+    assert "p50_mmhg" not in fit.fitted and not fit.consistent
+    assert any("more than co-oximetry error explains" in msg for msg in fit.messages)
 
 
 def test_implausible_p50_is_reported():
     m = synthesise(venous=False)
-    m.update(pao2_mmhg=45.0, sao2=0.99)  # needs a standard P50 near 9 mmHg
+    m.update(pao2_mmhg=150.0, sao2=0.95)  # needs a standard P50 near 53 mmHg
     fit = fit_case(m)
     assert not fit.consistent
     assert any("rare haemoglobin variants" in msg for msg in fit.messages)
