@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 import os
 import sys
 import tempfile
@@ -145,28 +146,24 @@ def _column_map(header: list[str], source: str) -> dict[str, tuple[int, str, flo
     return found
 
 
-def _parse(cells: list[str], decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
+def _parse(cells: Sequence[str], decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
     """Floats of the cells (NaN for blank/nan) and a mask of cells that are not numbers."""
     if decimal_comma:
         cells = [c.replace(",", ".") for c in cells]
+    filled = ["nan" if not c or c.isspace() else c for c in cells]
+    bad = np.zeros(len(filled), dtype=bool)
     try:
-        values = np.array(cells, dtype=float)
-        return np.where(np.isnan(values), np.nan, values), np.zeros(len(cells), dtype=bool)
+        return np.array(filled, dtype=float), bad
     except ValueError:
         pass
-    values = np.empty(len(cells))
-    bad = np.zeros(len(cells), dtype=bool)
-    for i, c in enumerate(cells):
-        c = c.strip()
-        if not c:
-            values[i] = np.nan
-            continue
+    values = []
+    for i, c in enumerate(filled):
         try:
-            values[i] = float(c)
+            values.append(float(c))
         except ValueError:
-            values[i] = np.nan
+            values.append(math.nan)
             bad[i] = True
-    return values, bad
+    return np.array(values, dtype=float), bad
 
 
 def _range_text(key: str, factor: float, unit: str) -> str:
@@ -288,12 +285,18 @@ def _derive_row_by_row(clean: dict[str, np.ndarray], errors: np.ndarray):
 
 
 def _format_column(values: np.ndarray, decimals: int, decimal_comma: bool) -> list[str]:
-    fmt = f"{{:.{decimals}f}}".format
-    out = list(map(fmt, values.tolist()))
-    for i in np.flatnonzero(~np.isfinite(values)).tolist():
+    """Cells of a numeric column at fixed decimals; "" for NaN."""
+    finite = np.isfinite(values)
+    if not finite.any():
+        return [""] * len(values)
+    if decimals == 0:
+        out = list(map(str, np.rint(np.where(finite, values, 0.0)).astype(np.int64).tolist()))
+    else:
+        out = list(map(f"%.{decimals}f".__mod__, values.tolist()))
+        if decimal_comma:
+            out = [c.replace(".", ",") for c in out]
+    for i in np.flatnonzero(~finite).tolist():
         out[i] = ""
-    if decimal_comma:
-        out = [c.replace(".", ",") for c in out]
     return out
 
 
@@ -319,7 +322,7 @@ def _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma) ->
             columns.append(_quoted(derived[key].tolist(), delimiter))
         else:
             columns.append(_format_column(derived[key], DERIVED_FIELDS[key][2], decimal_comma))
-    return "".join(delimiter.join(r) + "\n" for r in zip(*columns))
+    return "\n".join(map(delimiter.join, zip(*columns))) + "\n"
 
 
 class _Progress:
@@ -358,17 +361,21 @@ def read_table(path) -> tuple[list[str], list[list[str]], str]:
         text = path.read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         text = path.read_text(encoding="latin-1")
-    lines = text.splitlines()
-    start = 0
-    while start < len(lines) and (not lines[start].strip() or lines[start].startswith("#")):
-        start += 1
-    if start == len(lines):
+    offset = 0
+    while offset < len(text):
+        end = text.find("\n", offset)
+        end = len(text) if end < 0 else end + 1
+        line = text[offset:end]
+        if line.strip() and not line.startswith("#"):
+            break
+        offset = end
+    if offset >= len(text):
         raise BatchError(f"{path}: no header line (the file is empty)")
-    head = lines[start]
+    head = line
     delimiter = ","
     if "," not in head:
         delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
-    reader = csv.reader(io.StringIO("\n".join(lines[start:])), delimiter=delimiter)
+    reader = csv.reader(io.StringIO(text[offset:]), delimiter=delimiter)
     header = [h.strip() for h in next(reader)]
     dup = sorted({h for h in header if h and header.count(h) > 1})
     if dup:
@@ -431,15 +438,16 @@ def run_batch(
         for start in range(0, len(rows), CHUNK_ROWS):
             chunk = rows[start : start + CHUNK_ROWS]
             errors = np.full(len(chunk), "", dtype=object)
-            for i, r in enumerate(chunk):
-                if len(r) != width:
-                    if len(r) > width:
-                        errors[i] = (
-                            f"row has {len(r)} cells but the header has {width}: values "
-                            "may be shifted (an unquoted comma?)"
-                        )
-                    chunk[i] = (r + [""] * (width - len(r)))[:width]
-            inputs = list(zip(*chunk)) if chunk else [()] * width
+            lengths = np.fromiter(map(len, chunk), dtype=np.int64, count=len(chunk))
+            for i in np.flatnonzero(lengths != width).tolist():
+                r = chunk[i]
+                if len(r) > width:
+                    errors[i] = (
+                        f"row has {len(r)} cells but the header has {width}: values "
+                        "may be shifted (an unquoted comma?)"
+                    )
+                chunk[i] = (r + [""] * (width - len(r)))[:width]
+            inputs = list(zip(*chunk))
             derived, errors = derive_columns(
                 dict(zip(header, inputs)),
                 decimal_comma=decimal_comma,
