@@ -11,7 +11,6 @@ import csv
 import datetime as dt
 import html
 import io
-import re
 
 from bokeh.embed import components
 from bokeh.resources import INLINE
@@ -148,18 +147,25 @@ def _day_table(ws: AscentWorkspace, key: str) -> str:
 
 
 def _inline_resources() -> str:
-    """Bokeh's scripts and styles inline; a script loaded by address (Panel adds a module
-    shim to Bokeh's list) is dropped: the page needs none and it could not load offline."""
-    return re.sub(r"<script[^>]*\bsrc=[^>]*>\s*</script>", "", INLINE.render())
+    """Bokeh's scripts and styles, inline only.
+
+    Files referred to by address are left out: Panel adds its module shim and, in a served
+    session, the stylesheets of loaded extensions (as CDN links) to Bokeh's lists; the page
+    needs none of them and they could not load offline.
+    """
+    js = "".join(f"<script>{code}</script>\n" for code in INLINE.js_raw)
+    css = "".join(f"<style>{code}</style>\n" for code in INLINE.css_raw)
+    return css + js
 
 
 def comparison_html(ws: AscentWorkspace, when: dt.datetime | None = None) -> str:
     """A standalone page of the comparison that works offline (scripts inline)."""
     figs = ComparisonFigures(width=560, height=280, tap=False)
-    compared = [(k, {**ws.series(k), "name": ws.results[k].profile.name}) for k in ws.compared]
+    compared = [(k, ws.series(k)) for k in ws.compared]
     figs.update(compared, (ws.threshold_high_pct, ws.threshold_low_pct))
     script, div = components(figs.grid())
     names = [ws.results[k].profile.name for k in ws.compared]
+    entries = [(s["name"], s["slot"]) for _k, s in compared]
     made = _now(when)
     tables = "".join(
         f"<h3>{html.escape(ws.results[k].profile.name)}</h3>"
@@ -188,7 +194,7 @@ Night values at rest at the sleeping altitude; SaO2 thresholds {ws.threshold_hig
 <h2>Summary</h2>
 {summary_html([ws.summary(k) for k in ws.compared], (ws.threshold_high_pct, ws.threshold_low_pct))}
 <h2>Day by day</h2>
-{legend_html(names)}
+{legend_html(entries)}
 {div}
 <h2>Days breaking the ascent-rate guidance</h2>
 <p class="meta">Wilderness Medical Society consensus guidelines (Luks et al., Wilderness Environ

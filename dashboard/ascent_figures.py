@@ -177,16 +177,17 @@ class ComparisonFigures:
 
     def update(self, compared: list[tuple[str, dict]], thresholds_pct=(90.0, 80.0)) -> None:
         """Replace the data: ``compared`` is ``[(key, series), ...]`` (at most four), each
-        series as :meth:`dashboard.ascent_state.AscentWorkspace.series` gives it with a
-        ``name``."""
+        series as :meth:`dashboard.ascent_state.AscentWorkspace.series` gives it (with its
+        ``name`` and drawing ``slot``)."""
         for key, col, _title, unit, digits in PANELS:
             pts = {k: [] for k in _EMPTY_POINTS}
+            drawn = {int(s["slot"]): (skey, s) for skey, s in compared}
             for slot in range(len(SLOT_COLORS)):
                 src = self.line_sources[key][slot]
-                if slot >= len(compared):
+                if slot not in drawn:
                     src.data = {"x": [], "y": []}
                     continue
-                skey, s = compared[slot]
+                skey, s = drawn[slot]
                 x = [int(v) for v in s["day"]]
                 y = [float(v) for v in s[col]]
                 src.data = {"x": x, "y": y}
@@ -208,7 +209,8 @@ class ComparisonFigures:
             self.point_sources[key].data = pts
             self.point_sources[key].selected.indices = []
         hi = {k: [] for k in ("x", "y0", "y1", "color", "name", "text")}
-        for slot, (_skey, s) in enumerate(compared[: len(SLOT_COLORS)]):
+        for _skey, s in compared:
+            slot = int(s["slot"])
             for i in np.flatnonzero(s["high_given"]):
                 hi["x"].append(int(s["day"][i]))
                 hi["y0"].append(float(s["sleep_altitude_m"][i]))
@@ -244,10 +246,11 @@ def _night_text(s: dict, i: int) -> str:
     return f"{float(s['sleep_altitude_m'][i]):.0f} m on {gas}"
 
 
-def legend_html(names: list[str]) -> str:
-    """A legend row: each schedule's colour and dash, the flagged-day and high-point marks."""
+def legend_html(entries: list[tuple[str, int]]) -> str:
+    """A legend row: each schedule's colour and dash (``(name, slot)`` pairs), the
+    flagged-day and high-point marks."""
     items = []
-    for slot, name in enumerate(names[: len(SLOT_COLORS)]):
+    for name, slot in entries[: len(SLOT_COLORS)]:
         dash = SVG_DASHES[SLOT_DASHES[slot]]
         items.append(
             "<span class='o2-legend-item'><svg width='46' height='14' aria-hidden='true'>"
@@ -344,10 +347,10 @@ def summary_html(summaries: list[dict], thresholds_pct=(90.0, 80.0)) -> str:
     return f"<table class='o2s'>{head}{''.join(body)}</table>"
 
 
-def flags_html(flagged: list[tuple[str, list[tuple[int, float, str]]]]) -> str:
-    """The guidance flags of each schedule: ``[(name, [(day, sleep m, text), ...]), ...]``."""
+def flags_html(flagged: list[tuple[str, list[tuple[int, float, str]], int]]) -> str:
+    """The guidance flags of each schedule: ``[(name, [(day, sleep m, text), ...], slot)]``."""
     parts = []
-    for slot, (name, days) in enumerate(flagged):
+    for name, days, slot in flagged:
         color = SLOT_COLORS[slot % len(SLOT_COLORS)]
         title = f"<b><span style='color:{color}'>■</span> {html.escape(name)}</b>: " + (
             "no day breaks the ascent-rate guidance" if not days else f"{len(days)} day(s)"

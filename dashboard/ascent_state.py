@@ -83,6 +83,11 @@ class AscentWorkspace(param.Parameterized):
     schedules = param.Dict(default={}, doc="key -> AscentProfile, in the order opened.")
     results = param.Dict(default={}, doc="key -> AscentResult of every open schedule.")
     compared = param.List(default=[], item_type=str, doc="Keys of the compared schedules.")
+    slots = param.Dict(
+        default={},
+        doc="Compared key -> drawing slot 0-3 (colour and dash); a schedule keeps its slot "
+        "while it stays compared, so its colour does not jump when another is unticked.",
+    )
     editing = param.String(default="", doc="Key of the schedule in the editor ('' = none).")
     selected_day = param.Integer(
         default=None, allow_None=True, bounds=(1, None), doc="1-based day picked in the editor."
@@ -150,6 +155,7 @@ class AscentWorkspace(param.Parameterized):
             updates.update(editing=key, selected_day=None)
         if len(self.compared) < MAX_COMPARED:
             updates["compared"] = [*self.compared, key]
+            updates["slots"] = self._slots_for(updates["compared"])
         self.param.update(**updates)
         return key
 
@@ -202,6 +208,7 @@ class AscentWorkspace(param.Parameterized):
             "schedules": schedules,
             "results": results,
             "compared": [k for k in self.compared if k != key],
+            "slots": {k: v for k, v in self.slots.items() if k != key},
             "error_message": "",
             "status_message": f"Closed {self.schedules[key].name}.",
         }
@@ -221,8 +228,16 @@ class AscentWorkspace(param.Parameterized):
             return self._refuse(f"no open schedule {unknown[0]!r}")
         if len(keys) > MAX_COMPARED:
             return self._refuse(f"{len(keys)} schedules chosen; compare 2-{MAX_COMPARED} at a time")
-        self.param.update(compared=keys, error_message="")
+        self.param.update(slots=self._slots_for(keys), compared=keys, error_message="")
         return True
+
+    def _slots_for(self, keys) -> dict[str, int]:
+        kept = {k: v for k, v in self.slots.items() if k in keys}
+        free = [i for i in range(MAX_COMPARED) if i not in kept.values()]
+        for k in keys:
+            if k not in kept:
+                kept[k] = free.pop(0)
+        return kept
 
     def selection_query(self) -> str:
         """The address value of the compared schedules: keys joined by commas."""
@@ -360,7 +375,8 @@ class AscentWorkspace(param.Parameterized):
             return self._refuse("a schedule keeps at least 1 day; close it instead")
         days = [d for j, d in enumerate(profile.days) if j != i]
         if self._replace(self.editing, days, status=f"Day {day} removed."):
-            self.param.update(selected_day=min(day, len(days)), picked=None)
+            keep = min(day, len(days))
+            self.param.update(selected_day=keep, picked=(self.editing, keep))
             return True
         return False
 
@@ -453,6 +469,7 @@ class AscentWorkspace(param.Parameterized):
             nights_below_high=nights_below(r, hi),
             nights_below_low=nights_below(r, lo),
             hypoxic_burden=hypoxic_burden(r, hi),
+            slot=self.slots.get(key, 0),
         )
         return s
 
@@ -477,6 +494,8 @@ class AscentWorkspace(param.Parameterized):
             "high_cao2_ml_dl": np.asarray(h.arterial.o2_content_ml_dl, dtype=float),
             "flagged": np.array([bool(f) for f in r.flags]),
             "flags": ["; ".join(f) for f in r.flags],
+            "name": r.profile.name,
+            "slot": self.slots.get(key, 0),
         }
 
     def case_inputs(self, key: str, day: int) -> dict:
@@ -518,8 +537,9 @@ class AscentWorkspace(param.Parameterized):
             f"{100 * float(r.night.arterial.so2[i]):.1f} %"
         )
 
-    def flag_list(self) -> list[tuple[str, list[tuple[int, float, str]]]]:
-        """For each compared schedule: its name and (day, sleeping altitude, flag text)."""
+    def flag_list(self) -> list[tuple[str, list[tuple[int, float, str]], int]]:
+        """For each compared schedule: its name, its (day, sleeping altitude, flag text)
+        and its drawing slot."""
         out = []
         for key in self.compared:
             r = self.results[key]
@@ -528,5 +548,5 @@ class AscentWorkspace(param.Parameterized):
                 for i, f in enumerate(r.flags)
                 if f
             ]
-            out.append((r.profile.name, days))
+            out.append((r.profile.name, days, self.slots[key]))
         return out

@@ -232,12 +232,12 @@ class ScheduleEditor(pn.viewable.Viewer):
                 "sao2_pct": NumberFormatter(format="0.0", nan_format=""),
             },
             widths={
-                "day": 48,
-                "sleep_altitude_m": 80,
-                "high_altitude_m": 76,
-                "fio2": 60,
-                "sao2_pct": 72,
-                "guidance": 56,
+                "day": 50,
+                "sleep_altitude_m": 78,
+                "high_altitude_m": 72,
+                "fio2": 62,
+                "sao2_pct": 70,
+                "guidance": 80,
             },
             configuration={"columnDefaults": {"headerSort": False}},
             layout="fit_columns",
@@ -414,9 +414,9 @@ class ComparisonPlots(pn.viewable.Viewer):
 
     def _update(self, *_events) -> None:
         ws = self._ws
-        compared = [(k, {**ws.series(k), "name": ws.results[k].profile.name}) for k in ws.compared]
+        compared = [(k, ws.series(k)) for k in ws.compared]
         self.figures.update(compared, (ws.threshold_high_pct, ws.threshold_low_pct))
-        names = [s["name"] for _k, s in compared]
+        names = [(s["name"], s["slot"]) for _k, s in compared]
         self._legend.object = (
             legend_html(names)
             if names

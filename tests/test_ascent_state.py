@@ -71,6 +71,15 @@ def test_open_text_refuses_bad_toml_naming_the_file():
     assert key == "my-trek" and w.schedules[key].name == "Mine" and not w.error_message
 
 
+def test_a_schedule_keeps_its_colour_while_compared(ws):
+    assert ws.slots == {"fast-to-5300m": 0, "oxygen-above-6000m": 1, "slow-to-5300m": 2}
+    assert ws.set_compared(["slow-to-5300m", "fast-to-5300m"])
+    assert ws.slots == {"slow-to-5300m": 2, "fast-to-5300m": 0}
+    copy = ws.duplicate()
+    assert ws.slots[copy] == 1  # the first free one
+    assert ws.close("fast-to-5300m") and set(ws.slots) == {"slow-to-5300m", copy}
+
+
 def test_selection_round_trips_through_the_address():
     w = AscentWorkspace()
     msgs = w.restore_selection("slow-to-5300m,fast-to-5300m,../etc,missing")
@@ -301,7 +310,7 @@ def test_views_render_and_follow_the_state(ws):
     flagged = [m for m in pts["marker"] if m == "triangle"]
     assert len(flagged) == sum(len([f for f in ws.results[k].flags if f]) for k in ws.compared)
     ws.set_compared(["slow-to-5300m", "fast-to-5300m"])
-    assert [len(s.data["x"]) for s in src] == [13, 8, 0, 0]
+    assert [len(s.data["x"]) for s in src] == [8, 0, 13, 0]  # each keeps its colour
     editor = ScheduleEditor(ws)
     assert list(editor._table.value["day"]) == list(range(1, 9))
     ws.add_day(1)

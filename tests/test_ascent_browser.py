@@ -1,0 +1,338 @@
+"""Browser test of the ascent planner (/ascent) in headless Debian Chromium via Playwright.
+
+A planner's session: load the examples, edit a day (and have a bad value refused), add,
+move and remove days, choose what to compare, open a night on the case screen from a plot,
+export the comparison (CSV and an HTML page that is then opened offline), and restore the
+comparison from the address. Skipped only without Chromium and without CI.
+"""
+
+import csv
+import io
+import logging
+import os
+import re
+import socket
+import time
+import urllib.request
+from pathlib import Path
+from urllib.parse import parse_qsl, urlsplit
+
+import panel as pn
+import pytest
+from playwright.sync_api import expect, sync_playwright
+
+from dashboard.app import SCREENS
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
+ARGS = [
+    "--headless=new",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
+ARTIFACTS = Path(__file__).resolve().parent.parent / "artifacts"
+LOCAL_HOSTS = {"127.0.0.1", "localhost"}
+
+if not Path(CHROMIUM).exists():
+    if os.environ.get("CI"):
+        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
+    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+
+
+@pytest.fixture(scope="module")
+def base_url():
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    server = pn.serve(
+        dict(SCREENS),
+        address="127.0.0.1",
+        port=port,
+        show=False,
+        threaded=True,
+        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
+    )
+    base = f"http://127.0.0.1:{port}"
+    deadline = time.monotonic() + 20
+    while True:
+        try:
+            urllib.request.urlopen(f"{base}/ascent", timeout=5).close()
+            break
+        except OSError:
+            if time.monotonic() > deadline:
+                raise
+            time.sleep(0.1)
+    yield base
+    server.stop()
+    server.join(timeout=5)
+
+
+@pytest.fixture(scope="module")
+def browser():
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
+        yield b
+        b.close()
+
+
+class _ErrorLog(logging.Handler):
+    """Collects server-side errors (callbacks run in the server thread, not the page)."""
+
+    def __init__(self):
+        super().__init__(level=logging.ERROR)
+        self.records = []
+
+    def emit(self, record):
+        self.records.append(self.format(record))
+
+
+@pytest.fixture
+def context(browser):
+    server_errors = _ErrorLog()
+    logging.getLogger().addHandler(server_errors)
+    ctx = browser.new_context(viewport={"width": 1400, "height": 900}, accept_downloads=True)
+    ctx.errors, ctx.requests = [], []
+
+    def watch(pg):
+        pg.on("pageerror", lambda e: ctx.errors.append(str(e)))
+        pg.on("request", lambda r: ctx.requests.append(r.url))
+
+    ctx.on("page", watch)
+    yield ctx
+    ctx.close()
+    logging.getLogger().removeHandler(server_errors)
+    assert not ctx.errors, ctx.errors
+    # A tab closed while the server still writes to it is not an error of the page.
+    errors = [r for r in server_errors.records if "WebSocketClosedError" not in r]
+    assert not errors, errors
+
+
+def rows(page) -> list[list[str]]:
+    """The day table as text, one list per row (day, sleep, high, FiO2, SaO2, flags)."""
+    return page.locator(".o2-asc-table .tabulator-row").evaluate_all(
+        "(rs, fields) => rs.map(r => fields.map(f => "
+        "(r.querySelector(`.tabulator-cell[tabulator-field=${f}]`)?.textContent ?? '').trim()))",
+        ["day", "sleep_altitude_m", "high_altitude_m", "fio2", "sao2_pct", "guidance"],
+    )
+
+
+def cell(page, row: int, field: str):
+    return (
+        page.locator(".o2-asc-table .tabulator-row")
+        .nth(row)
+        .locator(f".tabulator-cell[tabulator-field={field}]")
+    )
+
+
+def edit(page, row: int, field: str, text: str) -> None:
+    cell(page, row, field).click()
+    box = page.locator(".o2-asc-table .tabulator-cell input")
+    box.fill(text)
+    box.press("Enter")
+
+
+def wait_rows(page, check, timeout: float = 10.0):
+    deadline = time.monotonic() + timeout
+    while True:
+        current = rows(page)
+        if check(current):
+            return current
+        if time.monotonic() > deadline:
+            raise AssertionError(current)
+        time.sleep(0.05)
+
+
+def point_on_plot(page, title: str, x: float, y: float) -> tuple[float, float]:
+    """Page coordinates of data point (x, y) on the figure titled ``title``."""
+    return tuple(
+        page.evaluate(
+            """([title, x, y]) => {
+                const seen = new Set();
+                let found = null;
+                const walk = (v) => {
+                    if (!v || seen.has(v) || found) return;
+                    seen.add(v);
+                    if (v.model.type === "Figure" && v.model.title?.text === title) found = v;
+                    for (const c of v.child_views ?? []) walk(c);
+                };
+                Object.values(Bokeh.index).forEach(walk);
+                const r = found.el.getBoundingClientRect();
+                return [r.left + found.frame.x_scale.compute(x),
+                        r.top + found.frame.y_scale.compute(y)];
+            }""",
+            [title, x, y],
+        )
+    )
+
+
+def test_planner_session(context, base_url, tmp_path):
+    page = context.new_page()
+    page.goto(f"{base_url}/ascent")
+    expect(page.locator(".o2-asc-legend")).to_contain_text("Nothing compared yet")
+    expect(page.locator(".o2-caution")).to_contain_text("not a medical device")
+
+    # load the examples: three compared, the address follows
+    page.locator(".o2-asc-examples button").click()
+    summary = page.locator(".o2-asc-summary")
+    for name in ("Fast ascent", "Slow ascent", "Expedition with oxygen"):
+        expect(summary).to_contain_text(name)
+    expect(page).to_have_url(re.compile(r"schedules=fast-to-5300m%2Coxygen-above-6000m%2Cslow"))
+    table = wait_rows(page, lambda r: len(r) == 8)
+    assert table[2][:2] == ["3", "4000"] and "⚠" in table[2][5]
+
+    # edit a cell: day 3 sleeps at 3600 m instead of 4000 m -> better SaO2 that night
+    sao2 = float(table[2][4])
+    edit(page, 2, "sleep_altitude_m", "3600")
+    table = wait_rows(page, lambda r: r[2][1] == "3600" and float(r[2][4]) > sao2)
+    expect(page.locator(".o2-asc-status")).to_contain_text("Day 3: sleep_altitude_m changed")
+
+    # a bad value is refused with field, value and range, and the cell shows the old value
+    edit(page, 1, "high_altitude_m", "3000")
+    expect(page.locator(".o2-asc-error")).to_contain_text(
+        "day 2 high_altitude_m = 3000.0 is below the sleeping altitude 3400 m; "
+        "the allowed range is 3400-9000 m"
+    )
+    wait_rows(page, lambda r: r[1][2] == "3500")
+
+    # pick day 2, add a rest day after it, move it down, remove it
+    cell(page, 1, "day").click()
+    expect(page.locator(".o2-asc-edit-hint")).to_contain_text("Day 2 picked")
+    page.locator(".o2-asc-add button").click()
+    table = wait_rows(page, lambda r: len(r) == 9)
+    assert table[2][1] == "3400" and table[2][2] == ""  # the new day: a rest day at 3400 m
+    expect(page.locator(".o2-asc-edit-hint")).to_contain_text("Day 3 picked")
+    page.locator(".o2-asc-down button").click()
+    table = wait_rows(page, lambda r: r[2][1] == "3600" and r[3][1] == "3400")
+    expect(page.locator(".o2-asc-edit-hint")).to_contain_text("Day 4 picked")
+    page.locator(".o2-asc-up button").click()
+    wait_rows(page, lambda r: r[2][1] == "3400" and r[3][1] == "3600")
+    page.locator(".o2-asc-remove button").click()
+    table = wait_rows(page, lambda r: len(r) == 8 and r[2][1] == "3600")
+
+    # the row picked in the table is offered as a case
+    expect(page.locator(".o2-asc-case")).to_contain_text("Fast ascent to a 5300 m camp, night 3")
+
+    # compare two of them: the address and the summary follow
+    page.locator(".o2-asc-compare label", has_text="Expedition with oxygen").click()
+    expect(summary).not_to_contain_text("Expedition with oxygen")
+    expect(page).to_have_url(re.compile(r"schedules=fast-to-5300m%2Cslow-to-5300m$"))
+
+    # thresholds: the summary counts follow
+    box = page.locator(".o2-asc-th-high input")
+    box.fill("85")
+    box.press("Enter")
+    expect(summary).to_contain_text("Nights below 85 %")
+
+    # click night 10 of the slow schedule on the SaO2 plot -> a link to the case screen
+    page.locator(".o2-asc-plots").scroll_into_view_if_needed()
+    expect(page.locator(".o2-asc-summary")).to_contain_text("Slow ascent")
+    x, y = point_on_plot(page, "SaO2 at night", 10, _sao2_of(page, "slow-to-5300m", 10))
+    page.mouse.click(x, y)
+    case = page.locator(".o2-asc-case")
+    expect(case).to_contain_text("Slow ascent to a 5300 m camp, night 10: 5300 m")
+    link = page.locator(".o2-asc-case a.o2-asc-case-link")
+    href = link.get_attribute("href")
+    pairs = dict(parse_qsl(urlsplit(href).query))
+    assert urlsplit(href).path == "/"
+    assert pairs["altitude_m"] == "5300" and pairs["pressure_model"] == "mountain"
+    assert float(pairs["paco2_mmhg"]) < 35 and 7.40 < float(pairs["ph"]) < 7.55
+
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.screenshot(path=str(ARTIFACTS / "ascent-planner.png"))
+
+    # the link opens the case screen in a new tab with that night's case
+    with context.expect_page() as new_page:
+        link.click()
+    case_page = new_page.value
+    expect(case_page.locator(".o2-in-altitude_m input")).to_have_value(
+        re.compile(r"^5300(\.0)?$"), timeout=15000
+    )
+    expect(case_page.locator(".o2-in-paco2_mmhg input")).to_have_value(
+        re.compile("^" + re.escape(pairs["paco2_mmhg"][:4]))
+    )
+    case_page.close()
+
+    # exports
+    with page.expect_download() as dl:
+        page.locator(".o2-asc-export-csv button").click()
+    text = Path(dl.value.path()).read_text(encoding="utf-8")
+    records = list(csv.DictReader(io.StringIO(text)))
+    assert records[0]["record"] == "note" and "not a medical device" in records[0]["note"]
+    assert {r["schedule_key"] for r in records if r["record"] == "summary"} == {
+        "fast-to-5300m",
+        "slow-to-5300m",
+    }
+    fast = [r for r in records if r["schedule_key"] == "fast-to-5300m" and r["record"] == "day"]
+    assert fast[2]["sleep_altitude_m"] == "3600"  # the edit made on screen
+    assert "nights_below_0_85" in records[0]
+
+    with page.expect_download() as dl:
+        page.locator(".o2-asc-export-html button").click()
+    exported = tmp_path / "comparison.html"
+    dl.value.save_as(exported)
+    assert "Slow ascent to a 5300 m camp" in exported.read_text(encoding="utf-8")
+
+    page_requests = [u for u in context.requests if not u.startswith(("data:", "blob:"))]
+    hosts = {urlsplit(u).hostname for u in page_requests}
+    assert hosts <= LOCAL_HOSTS, hosts
+
+    # the exported page, opened with the network off: it draws and asks for nothing
+    context.set_offline(True)
+    before = len(context.requests)
+    offline = context.new_page()
+    offline.goto(exported.as_uri())
+    expect(offline.locator("h1")).to_have_text("Ascent comparison")
+    expect(offline.locator("table.o2s")).to_contain_text("Nights below 85 %")
+    expect(offline.locator(".bk-Canvas, .bk-Figure").first).to_be_attached(timeout=10000)
+    offline.wait_for_timeout(300)
+    later = [u for u in context.requests[before:] if not u.startswith(("data:", "blob:"))]
+    assert later == [exported.as_uri()], later
+    offline.screenshot(path=str(ARTIFACTS / "ascent-export.png"), full_page=True)
+    offline.close()
+    context.set_offline(False)
+
+
+def _sao2_of(page, key: str, day: int) -> float:
+    """Night SaO2 (%) of ``key`` on ``day`` as the summary's server computed it, read back
+    from the plot's own data source (so the click lands on the point)."""
+    return page.evaluate(
+        """([key, day]) => {
+            const seen = new Set();
+            let out = null;
+            const walk = (v) => {
+                if (!v || seen.has(v) || out !== null) return;
+                seen.add(v);
+                if (v.model.type === "Figure" && v.model.title?.text === "SaO2 at night") {
+                    for (const r of v.model.renderers) {
+                        const d = r.data_source?.data;
+                        if (!d || !d.key) continue;
+                        for (let i = 0; i < d.key.length; i++)
+                            if (d.key[i] === key && d.x[i] === day) out = d.y[i];
+                    }
+                }
+                for (const c of v.child_views ?? []) walk(c);
+            };
+            Object.values(Bokeh.index).forEach(walk);
+            return out;
+        }""",
+        [key, day],
+    )
+
+
+def test_address_restores_the_comparison(context, base_url):
+    page = context.new_page()
+    page.goto(f"{base_url}/ascent?schedules=slow-to-5300m,fast-to-5300m,nowhere")
+    summary = page.locator(".o2-asc-summary")
+    expect(summary).to_contain_text("Slow ascent to a 5300 m camp")
+    expect(summary).to_contain_text("Fast ascent to a 5300 m camp")
+    expect(summary).not_to_contain_text("Expedition")
+    expect(page.locator(".o2-url-msg")).to_contain_text("'nowhere' is not an example schedule")
+    order = page.locator(".o2-asc-summary th").evaluate_all(
+        "hs => hs.map(h => h.textContent.trim())"
+    )
+    assert order[1:] == ["Slow ascent to a 5300 m camp", "Fast ascent to a 5300 m camp"]
+    expect(page.locator(".o2-nav")).to_contain_text("Case")
