@@ -26,24 +26,23 @@ References
    distress syndrome. Am J Respir Crit Care Med 2024; 209:37-47.
 3. Fenn WO, Rahn H, Otis AB. Am J Physiol 1946; 146:637-653 (alveolar gas equation).
 4. Mellemgaard K. The alveolar-arterial oxygen difference: its size and components in
-   normal man. Acta Physiol Scand 1966; 67:10-20.
+   normal man. Acta Physiol Scand 1966; 67:10-20 (formula read in secondary sources).
 5. Berggren SM. The oxygen deficit of arterial blood caused by non-ventilating parts of
    the lung. Acta Physiol Scand 1942; 4 Suppl 11:1-92.
 6. Fick A. Sitzungsber Phys Med Ges Würzburg 1870 (the Fick principle).
 7. Doyle DJ. A simple method to calculate P50 from a single blood sample. 1997,
-   doi:10.1007/BF03356585 (single-point P50 from the Hill equation).
+   doi:10.1007/BF03356585 (single-point P50 from the Hill equation; read in the abstract).
 8. Lykkeboe G, Johansen K. Respir Physiol 1978; 35:119-127 (human Hill n = 2.7 over
    S 0.36-0.98).
 9. Kelman GR. J Appl Physiol 1966; 21:1375-1376 (pH, PCO2 and temperature factors).
 10. Severinghaus JW. Simple, accurate equations for human blood O2 dissociation
     computations. J Appl Physiol 1979; 46:599-602 (Eq 3, PO2 temperature coefficient).
-11. Bradley AF, Severinghaus JW, Stupfel M. Effect of temperature on PCO2 and PO2 of blood
-    in vitro. J Appl Physiol 1956; 9:201-204 (PCO2 coefficient, 0.019 per degC used here).
+11. Bradley AF, Severinghaus JW, Stupfel M. J Appl Physiol 1956; 9:201-204 (temperature
+    coefficients of PCO2 and PO2 in vitro; 0.019 log10 per degC is used here for PCO2).
 12. Rosenthal TB. The effect of temperature on the pH of blood and plasma in vitro.
     J Biol Chem 1948; 173:25-30 (-0.0147 pH per degC; coefficient from memory).
-13. Swan H. The importance of acid-base management for cardiac and cerebral preservation
-    during open heart operations. Surg Gynecol Obstet 1984; 158:391-414 (alpha-stat and
-    pH-stat; citation from memory).
+13. Swan H. Surg Gynecol Obstet 1982; 155:897-912 (blood cooled anaerobically: pH up,
+    PCO2 down, CO2 content unchanged; the basis of alpha-stat and pH-stat management).
 14. Mosteller RD. Simplified calculation of body-surface area. N Engl J Med 1987; 317:1098.
 15. Ospina-Tascón GA et al. Crit Care 2013; 17:R294 (PCO2 gap >= 6 mmHg "high").
 """
@@ -513,9 +512,11 @@ def derive(
       cut-offs for intubated patients (mild 200 < P/F <= 300, moderate 100-200, severe
       <= 100); the global definition also accepts SpO2/FiO2 (mild 235-315, moderate
       148-235, severe <= 148, only when SpO2 <= 97 %), drops the PEEP requirement outside
-      intubation (HFNO >= 30 L/min or NIV/CPAP >= 5 qualifies, without severity) and
-      keeps the altitude correction (from memory). Here S/F is formed from the
-      co-oximetry SaO2 as a stand-in for SpO2 (``sao2_fio2_ratio``, in %).
+      intubation (HFNO >= 30 L/min or NIV/CPAP >= 5 qualifies, without severity). The
+      Berlin altitude rule is applied to the global category too (whether the global
+      definition restates it was not confirmed). Here S/F is formed from the co-oximetry
+      SaO2 as a stand-in for SpO2 (``sao2_fio2_ratio``, in %); the two differ, most in
+      dark skin and at low saturation.
     * ``OI = FiO2 MAP 100 / PaO2`` (MAP in cmH2O).
     * ``CaO2 = 1.34 Hb (1 - COHb - MetHb) SaO2 + 0.003 PaO2``; CcO2 the same at PAO2 with
       the saturation of the standard curve at PAO2 (``capillary_saturation="curve"``,
