@@ -22,7 +22,9 @@ The levers and their rules:
   cooled patient PCO2 falls by 10^(0.019 dT) and pH rises by 0.0147 per degC) or the
   pH-stat rule (PaCO2 and pH held at the patient's temperature).
 * **pH correction** — arterial pH to ``ph_target`` with PaCO2 held (a metabolic
-  correction).
+  correction). The target and the label are pH as a blood gas analyser reads it at
+  37 degC (as entered at the bedside and as targets are set, alpha-stat); the chain gets
+  the pH at the patient's temperature (``model.bedside.temperature_corrected_ph``).
 * **Shunt change** — the shunt fraction changed by ``shunt_change`` (e.g. -0.1 after
   recruitment), entered by the user.
 
@@ -239,7 +241,8 @@ def rank_levers(
     cooling_rule : {"alpha_stat", "ph_stat"}
         How PaCO2 and pH follow the cooling (module docstring).
     ph_target : float
-        Arterial pH after correction [-], PaCO2 held; skipped within 0.005 of the case.
+        Arterial pH after correction, as read at 37 degC [-], PaCO2 held; skipped within
+        0.005 of the case's pH read at 37 degC.
     shunt_change : float or None
         Change in shunt fraction [-], e.g. -0.1; None leaves this lever out.
     rank_by : {"do2", "pao2", "svo2", "pvo2", "extraction"}
@@ -371,15 +374,14 @@ def rank_levers(
         ph_now = float(solve_transport(**base).arterial.ph)
     else:
         ph_now = 7.40  # solve_transport's pH when neither pH nor base excess is given
-    if abs(ph_now - ph_to) > 0.005:
-        levers.append(
-            (
-                "ph",
-                f"Correct pH: {ph_now:.2f} → {ph_to:.2f}",
-                {"ph": ph_to},
-                "Metabolic correction: PaCO2 held.",
-            )
-        )
+    t_case = now["temperature_c"]
+    ph_now_37 = float(temperature_corrected_ph(ph_now, 74.0 - t_case))  # as read at 37 degC
+    if abs(ph_now_37 - ph_to) > 0.005:
+        ph_chain = float(temperature_corrected_ph(ph_to, t_case))
+        note = "Metabolic correction: PaCO2 held."
+        if abs(t_case - 37.0) > 0.05:
+            note += f" pH read at 37 °C; {ph_chain:.2f} at the patient's {t_case:.1f} °C."
+        levers.append(("ph", f"Correct pH: {ph_now_37:.2f} → {ph_to:.2f}", {"ph": ph_chain}, note))
 
     if shunt_change is not None:
         change = _number("shunt_change", shunt_change, -0.8, 0.8, "", "change in shunt fraction")

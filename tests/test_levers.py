@@ -116,14 +116,18 @@ def test_cooling_with_model_temperature_scaling_leaves_vo2_to_the_model():
 
 def test_ph_correction_holds_paco2(table):
     o = by_key(table)["ph"]
-    assert o.changes == {"ph": 7.40}
+    # pH 7.40 as read at 37 degC is 7.40 - 0.0147 x 1.5 at 38.5 degC (Rosenthal 1948
+    # coefficient, from memory, as in model.bedside); the label shows 37 degC readings.
+    assert o.changes == {"ph": pytest.approx(7.40 - 0.0147 * 1.5)}
+    assert o.label == "Correct pH: 7.32 → 7.40"
     assert o.inputs["paco2_mmhg"] == 45.0
 
 
 def test_ph_correction_from_base_excess_case():
     case = {k: v for k, v in CASE.items() if k != "ph"} | {"base_excess_mmol_l": -8.0}
     o = by_key(rank_levers(case))["ph"]
-    assert "base_excess_mmol_l" not in o.inputs and o.inputs["ph"] == 7.40
+    assert "base_excess_mmol_l" not in o.inputs
+    assert o.inputs["ph"] == pytest.approx(7.40 - 0.0147 * 1.5)
     assert not o.error
 
 
@@ -134,12 +138,9 @@ def test_shunt_change(table):
 
 
 def test_levers_that_do_not_apply_are_left_out():
-    keys = set(
-        by_key(
-            rank_levers({**CASE, "fio2": 1.0, "hb_g_dl": 12.0, "temperature_c": 35.0, "ph": 7.40})
-        )
-    )
-    assert keys == {"cardiac_output"}
+    # pH 7.40 read at 37 degC is 7.40 + 0.0147 x 2 at 35 degC: already at the target.
+    case = {**CASE, "fio2": 1.0, "hb_g_dl": 12.0, "temperature_c": 35.0, "ph": 7.4294}
+    assert set(by_key(rank_levers(case))) == {"cardiac_output"}
 
 
 def test_fio2_steps_are_targets_above_the_present_fio2():
