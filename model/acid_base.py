@@ -160,9 +160,9 @@ def _ph_from_base_excess(be, pco2, hb, s, ph):
     for _ in range(40):
         hco3 = _bicarbonate(ph, pco2)
         f = z * ((hco3 - 24.26) + w * (ph - 7.4)) - 0.2 * hb * (1.0 - s) - be  # _base_excess
-        step = np.clip(f / (z * (_LN10 * hco3 + w)), -0.5, 0.5)
+        step = np.minimum(np.maximum(f / (z * (_LN10 * hco3 + w)), -0.5), 0.5)
         ph = ph - step
-        if np.all(~(np.abs(step) > 1e-12)):
+        if not (np.abs(step) > 1e-12).any():
             break
     return ph
 

@@ -94,7 +94,7 @@ _LIMITS = {
 def _check(name, value):
     lo, hi, unit = _LIMITS[name]
     bad = (value < lo) | (value > hi)
-    if np.any(bad):
+    if bad.any():
         v = np.asarray(value)[bad].ravel()[0]
         raise ValueError(f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip())
 
@@ -163,14 +163,14 @@ def _sa_a_b(c, m=np):
 def _clip(x, lo, hi):
     if isinstance(x, float):
         return min(max(x, lo), hi)
-    return np.clip(x, lo, hi)
+    return np.minimum(np.maximum(x, lo), hi)
 
 
 def _converged(step, tol):
     """True when no step is above tol (NaN counts as converged)."""
     if isinstance(step, float):
         return not abs(step) > tol
-    return bool(np.all(~(np.abs(step) > tol)))
+    return not (np.abs(step) > tol).any()
 
 
 def _constants(name, c, shift, m):

@@ -110,9 +110,9 @@ def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start, ph):
         h = 1e-4 * p
         ph2 = _ph_from_base_excess(be_ox, p + h, hb, svo2, ph)
         df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
-        step = np.clip(f / df, -0.5 * p, 40.0)
+        step = np.minimum(np.maximum(f / df, -0.5 * p), 40.0)
         p = p - step
-        if np.all(~(np.abs(step) > 1e-9)):
+        if not (np.abs(step) > 1e-9).any():
             break
     return p, _ph_from_base_excess(be_ox, p, hb, svo2, ph)
 
@@ -161,14 +161,15 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     if np.any(cvo2 <= 0.0):
         raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
                          "output (venous O2 content would be below zero)")
-    pa_o2 = _po2_from_content(cao2, f["carry_ml"], sol, art)
+    pa_o2 = _po2_from_content(cao2, f["carry_ml"], sol, art, st.get("pa_o2"))
     sao2 = art.saturation(pa_o2)
     be_ox = _base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
     caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
     cvco2 = caco2 + f["rq"] * f["d_av"]
     ven = prepare_curve(**_curve_kw(st["ph_v"], st["pv_co2"], t, f.get("dpg_mmol_l"), f["cohb"],
                                      f["methb"], f.get("p50_mmhg"), curve))
-    pv_o2 = _po2_from_content(cvo2, f["carry_ml"], sol, ven)
+    warm = "pa_o2" in st  # Newton starts: none on the first pass, then the last pass's values
+    pv_o2 = _po2_from_content(cvo2, f["carry_ml"], sol, ven, st["pv_o2"] if warm else None)
     svo2 = ven.saturation(pv_o2)
     pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(st["pv_co2"], 1.0),
                                st["ph_v"])
@@ -281,6 +282,7 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
     ph_v = ph_a - 0.03
     tol = x["tol"]
     prev_in = math.nan
+    pa_o2 = None  # Newton starts: none on the first pass, then the last pass's values
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         if be_given is not None:
@@ -293,13 +295,14 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
         cvo2 = cao2 - d_av
         if cvo2 <= 0.0:
             return None
-        pa_o2 = _po2_from_content_scalar(cao2, carrying_ml, sol, art)
+        pa_o2 = _po2_from_content_scalar(cao2, carrying_ml, sol, art, pa_o2)
         sao2 = art.saturation(pa_o2)
         be_ox = _base_excess(ph_a, paco2, hb, sao2)
         caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
         cvco2 = caco2 + rq * d_av
         ven = curve_at(ph_v, pv_co2)
-        new_pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
+        new_pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven,
+                                             None if iterations == 1 else pv_o2)
         svo2 = ven.saturation(new_pv_o2)
         pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0), ph_v)
         change = abs(new_pv_o2 - pv_o2)
