@@ -7,6 +7,7 @@ import ipaddress
 import panel as pn
 
 from dashboard.ascent_app import create_ascent_app
+from dashboard.lecture_app import create_lecture_app
 from dashboard.nav import screen_links
 from dashboard.state import CaseState
 from dashboard.urlstate import bind_url
@@ -55,6 +56,7 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
 SCREENS: dict[str, object] = {
     "/": create_app,
     "/ascent": create_ascent_app,
+    "/lecture": create_lecture_app,
 }
 """URL path -> session factory; the link text of each path is in ``dashboard.nav.SCREEN_TITLES``."""
 

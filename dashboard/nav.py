@@ -7,6 +7,7 @@ import panel as pn
 SCREEN_TITLES: dict[str, str] = {
     "/": "Case",
     "/ascent": "Ascent planner",
+    "/lecture": "Lecture",
 }
 """URL path -> link text, in the order shown in every page header."""
 

@@ -1,0 +1,77 @@
+"""Lecture mode at ``/lecture``: one presentation page per browser session.
+
+The page address carries what is shown (``?lesson=rest-to-altitude&step=3``, or
+``?factor=ph&ph=7.2``) and is restored on load; a value that cannot be used is named in a
+visible message and its default is shown instead. This module must not import
+``dashboard.app`` (which imports it to register the screen).
+"""
+
+from __future__ import annotations
+
+import html
+
+import panel as pn
+
+from dashboard.lecture_state import LESSON_DIR, LectureState
+from dashboard.lecture_views import INK, PAPER, LectureControls, LecturePlot
+from dashboard.nav import screen_links
+from dashboard.urlstate import read_query, show_url_messages, url_message_pane, write_query
+from dashboard.views import ACCENT
+
+TITLE = "o2transit · lecture"
+
+
+def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
+    """Restore ``state`` from the page address and keep the address in step with it."""
+    pairs = read_query()
+    show_url_messages(notice, state.restore_query(pairs))
+    owned = set(LectureState.QUERY_KEYS) | set(pairs)
+
+    def sync(*_events) -> None:
+        write_query(state.to_query(), owned)
+
+    state.param.watch(
+        sync,
+        ["mode", "lesson", "step", "factor", "factor_value", "tissue_po2_mmhg", "pressure_unit"],
+    )
+    if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
+        pn.state.onload(sync)  # after the browser has sent its own address
+    else:
+        sync()
+
+
+def create_lecture_app(lesson_dir=None) -> pn.Column:
+    """The lecture page: plot filling the window, caption, step and factor controls."""
+    pn.extension()
+    state = LectureState(lesson_dir=LESSON_DIR if lesson_dir is None else lesson_dir)
+    notice = url_message_pane()
+    bind_lecture_url(state, notice)
+    plot = LecturePlot(state)
+    controls = LectureControls(state, plot)
+    header = pn.Row(
+        pn.pane.HTML(
+            f"<b>{html.escape(TITLE)}</b>",
+            styles={"color": "#ffffff", "font-size": "18px"},
+            margin=(6, 16),
+        ),
+        screen_links("/lecture"),
+        pn.layout.HSpacer(),
+        controls.tools,
+        styles={"background": ACCENT},
+        sizing_mode="stretch_width",
+        height=46,
+        margin=0,
+        css_classes=["o2-lecture-header"],
+    )
+    return pn.Column(
+        header,
+        notice,
+        plot,
+        controls.caption,
+        controls,
+        controls.message,
+        sizing_mode="stretch_both",
+        styles={"background": PAPER, "color": INK},
+        margin=0,
+        css_classes=["o2-lecture"],
+    )
