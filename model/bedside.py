@@ -705,9 +705,16 @@ def derive(
     out["cao2_ml_dl"], out["cco2_ml_dl"], out["cvo2_ml_dl"] = cao2, cco2, cvo2
     with np.errstate(divide="ignore", invalid="ignore"):
         shunt = (cco2 - cao2) / (cco2 - cvo2)
-    no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2)
+    venous_high = np.isfinite(cvo2) & (cvo2 >= cao2)
+    _append(
+        reasons,
+        venous_high,
+        "CvO2 >= CaO2: the venous sample holds as much O2 as the arterial one (sample "
+        "mix-up or arterialised venous sample?); shunt, VO2 and extraction not computed",
+    )
+    no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2) & ~venous_high
     _append(reasons, no_gap, "shunt: CcO2 <= CvO2 (the venous sample cannot be right)")
-    shunt = np.where(no_gap, np.nan, shunt)
+    shunt = np.where(no_gap | venous_high, np.nan, shunt)
     _append(
         reasons,
         np.isfinite(shunt) & (shunt < 0),
@@ -740,9 +747,10 @@ def derive(
     out["cardiac_index_used_l_min_m2"] = ci
     out["do2_ml_min"] = oxygen_delivery(co, cao2)
     out["do2i_ml_min_m2"] = oxygen_delivery(ci, cao2)
-    out["vo2_ml_min"] = 10.0 * co * (cao2 - cvo2)
-    out["vo2i_ml_min_m2"] = 10.0 * ci * (cao2 - cvo2)
-    out["extraction_ratio"] = extraction_ratio(cao2, cvo2)
+    av_diff = np.where(venous_high, np.nan, cao2 - cvo2)
+    out["vo2_ml_min"] = 10.0 * co * av_diff
+    out["vo2i_ml_min_m2"] = 10.0 * ci * av_diff
+    out["extraction_ratio"] = extraction_ratio(cao2, cao2 - av_diff)
     out["pco2_gap_mmhg"] = m["pvco2_mmhg"] - paco2
 
     # P50
@@ -777,7 +785,11 @@ def derive(
     # Flags
     flags = _Messages(n)
     for key, (low, high, label, _source) in USUAL_RANGES.items():
-        v = m[key] if key in m else out[key]
+        v = (
+            out["cardiac_index_used_l_min_m2"]
+            if key == "cardiac_index_l_min_m2"
+            else (m[key] if key in m else out[key])
+        )
         if low is not None:
             _append(flags, v < low, f"{label} below {low:g}")
         if high is not None:

@@ -350,6 +350,22 @@ def test_negative_shunt_is_explained():
     assert "shunt < 0" in str(d["reasons"])
 
 
+def test_venous_content_above_arterial_is_refused():
+    # SvO2 above SaO2 cannot come from the same circulation: no shunt, VO2 or extraction.
+    d = derive(**_gas(svo2=0.98, pvo2_mmhg=60.0, cardiac_output_l_min=5.0))
+    for key in ("shunt_fraction", "vo2_ml_min", "extraction_ratio"):
+        assert math.isnan(float(d[key])), key
+    assert "CvO2 >= CaO2" in str(d["reasons"])
+    assert np.isfinite(float(d["do2_ml_min"]))
+
+
+def test_cardiac_index_flag_uses_the_derived_index():
+    # CO 3.0 L/min over BSA 1.8181 m2 (Mosteller) = 1.65 L/min/m2: below 2.2 (common practice).
+    d = derive(**_gas(cardiac_output_l_min=3.0, height_cm=170.0, weight_kg=70.0))
+    assert abs(float(d["cardiac_index_used_l_min_m2"]) - 1.650) <= 1e-3
+    assert "cardiac index [L/min/m2] below 2.2" in str(d["flags"])
+
+
 def test_category_labels_cover_every_code():
     for labels in PF_CATEGORY_LABELS.values():
         assert set(labels) == set(PF_CATEGORIES) | {""}
