@@ -53,7 +53,7 @@ from pathlib import Path
 import tomli_w
 
 from .bedside import check_measured
-from .limits import INPUT_LIMITS
+from .limits import INPUT_LIMITS, check_range
 
 FORMAT_VERSION = 1
 CASE_DIR_ENV = "O2TRANSIT_CASE_DIR"
@@ -421,12 +421,10 @@ def open_case(path) -> CaseRecord:
     )
     for key, value in fit_inputs.items():
         if key in INPUT_LIMITS:
-            lo, hi, unit, lab = INPUT_LIMITS[key]
-            if not lo <= value <= hi:
-                raise CaseFileError(
-                    f"{p}: [fit.inputs] {key} = {value:g} is outside the "
-                    f"allowed range {lo:g}-{hi:g} {unit} ({lab})".replace("  ", " ")
-                )
+            try:
+                check_range(key, value)
+            except ValueError as exc:
+                raise CaseFileError(f"{p}: [fit.inputs] {exc}") from None
     fitted = _numbers(_table(fit, "fitted", p, required=False), p, "fit.fitted")
     residuals = fit.get("residuals", [])
     if not isinstance(residuals, list) or not all(isinstance(r, dict) for r in residuals):

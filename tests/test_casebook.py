@@ -310,3 +310,13 @@ def test_default_dir_honours_the_environment(monkeypatch, tmp_path):
     monkeypatch.delenv("XDG_DATA_HOME")
     assert default_case_dir() == Path.home() / ".local" / "share" / "o2transit" / "cases"
     assert not os.environ.get(CASE_DIR_ENV)
+
+
+def test_fit_input_out_of_range_in_a_file_is_reported(tmp_path, fit):
+    path = save_case(tmp_path, "bed 4", GAS, fit)
+    text = path.read_text(encoding="utf-8")
+    start = text.index("shunt_fraction = ", text.index("[fit.inputs]"))
+    end = text.index("\n", start)
+    path.write_text(text[:start] + "shunt_fraction = 0.95" + text[end:], encoding="utf-8")
+    with pytest.raises(CaseFileError, match=r"\[fit.inputs\] shunt_fraction = 0.95 is outside"):
+        open_case(path)
