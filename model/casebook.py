@@ -39,6 +39,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import hashlib
 import math
 import os
 import re
@@ -165,7 +166,10 @@ def check_label(label) -> str:
 
 
 def label_slug(label: str) -> str:
-    """File stem for a label: ASCII lower case, words joined by '-' ('case' if empty).
+    """File stem for a label: ASCII lower case, words joined by '-'.
+
+    A label with no Latin letters or digits gets ``case-`` and 10 hex digits of its
+    SHA-256, so different labels in other scripts get different files.
 
     Examples
     --------
@@ -174,7 +178,9 @@ def label_slug(label: str) -> str:
     """
     ascii_text = unicodedata.normalize("NFKD", label).encode("ascii", "ignore").decode()
     slug = re.sub(r"[^a-z0-9]+", "-", ascii_text.lower()).strip("-")
-    return slug[:LABEL_MAX_CHARS] or "case"
+    if not slug:  # no Latin letters or digits: a stable name from the label itself
+        slug = "case-" + hashlib.sha256(label.encode("utf-8")).hexdigest()[:10]
+    return slug[:LABEL_MAX_CHARS]
 
 
 def case_path(directory, label: str) -> Path:
