@@ -356,7 +356,9 @@ def read_table(path) -> tuple[list[str], list[list[str]], str]:
     """
     path = Path(path)
     if not path.is_file():
-        raise BatchError(f"input file not found: {path}")
+        raise BatchError(
+            f"input file not found: {path}" + ("" if not path.exists() else " (not a regular file)")
+        )
     try:
         text = path.read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
@@ -376,11 +378,16 @@ def read_table(path) -> tuple[list[str], list[list[str]], str]:
     if "," not in head:
         delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
     reader = csv.reader(io.StringIO(text[offset:]), delimiter=delimiter)
-    header = [h.strip() for h in next(reader)]
+    try:
+        header = [h.strip() for h in next(reader)]
+        rows = [r for r in reader if any(r)]
+    except csv.Error as exc:
+        raise BatchError(
+            f"{path}: not a readable CSV file (line {reader.line_num}: {exc})"
+        ) from None
     dup = sorted({h for h in header if h and header.count(h) > 1})
     if dup:
         raise BatchError(f"{path}: column {dup[0]!r} appears more than once")
-    rows = [r for r in reader if any(r)]
     return header, rows, delimiter
 
 
@@ -407,6 +414,7 @@ def run_batch(
     ...                               "\\n80,40,7.4,0.95,12,0.4,37\\n80,40,7.4,0.95,12,4,37\\n")
     >>> run_batch(d / "in.csv", d / "out.csv").rows_with_errors
     1
+    >>> import shutil; shutil.rmtree(d)
     """
     stream = sys.stderr if stream is None else stream
     in_path = Path(in_path)

@@ -261,6 +261,16 @@ def test_empty_and_missing_files(tmp_path):
         run_batch(src, tmp_path / "no_such_dir" / "o.csv")
 
 
+def test_unreadable_csv_is_a_file_level_error(tmp_path):
+    # A cell longer than the csv module's field limit (131,072 characters).
+    src = tmp_path / "huge.csv"
+    src.write_text(
+        "pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c\n" + "8" * 200_000 + "\n"
+    )
+    with pytest.raises(BatchError, match="not a readable CSV file"):
+        run_batch(src, tmp_path / "o.csv")
+
+
 def test_excel_byte_order_mark_is_skipped(tmp_path):
     src = tmp_path / "bom.csv"
     src.write_bytes(
