@@ -683,7 +683,7 @@ def fit_case(
         assumptions.append(
             "VO2 not fitted: the venous values contradict the arterial ones; "
             if venous
-            else "No venous values: VO2 not fitted; "
+            else "No venous SvO2 or PvO2: VO2 not fitted; "
         )
         assumptions[-1] += f"{DEFAULT_VO2_ML_MIN:g} mL/min assumed."
         shunt = _fit_shunt(mt, m37, inputs, messages)

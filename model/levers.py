@@ -322,7 +322,9 @@ def rank_levers(
     if hb_target > now["hb_g_dl"] + 0.05:
         changes = {"hb_g_dl": hb_target}
         label = f"Transfuse: Hb {now['hb_g_dl']:.1f} → {hb_target:.1f} g/dL"
-        note = "Cardiac output and VO2 unchanged."
+        note = "Cardiac output and VO2 unchanged." + (
+            " The fitted P50 is kept for the mixed blood." if "p50_mmhg" in base else ""
+        )
         if stored_blood_dpg_depleted:
             dpg0 = float(base.get("dpg_mmol_l", NORMAL_DPG_MMOL_L))
             share = now["hb_g_dl"] / hb_target
