@@ -8,6 +8,7 @@ One module per stage, in the order oxygen travels: ``air`` -> ``lungs`` ->
 from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base_excess
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
 from .ascent import AscentDay, AscentError, AscentProfile, load_ascent, run_ascent
+from .batch import BatchError, run_batch
 from .bedside import MEASURED_LIMITS, check_measured, derive
 from .casebook import (
                           IDENTIFIER_WARNING,
@@ -52,7 +53,7 @@ from .units import (
 __all__ = [
     "CURVES", "HUFNER_ML_G", "IDENTIFIER_WARNING", "INPUT_LIMITS", "MEASURED_LIMITS", "NORMAL_DPG_MMOL_L",
     "O2_SOLUBILITY_ML_DL_MMHG", "PRESSURE_MODELS", "STANDARD_P50_MMHG", "AscentDay", "AscentError",
-    "AscentProfile",
+    "AscentProfile", "BatchError",
     "BloodState", "CaseFileError", "CaseRecord", "FitResult", "LeverOutcome", "Residual",
     "Scenario", "ScenarioError",
     "TransportResult", "aa_gradient", "alveolar_po2", "barometric_pressure", "base_excess",
@@ -62,7 +63,7 @@ __all__ = [
     "hb_mmol_l_to_g_dl", "inspired_po2", "kpa_to_mmhg", "list_cases", "load_ascent", "load_scenario",
     "mix_by_content",
     "mmhg_to_kpa", "open_case", "oxygen_content", "oxygen_delivery", "p50", "ph_from_base_excess",
-    "po2_from_content", "po2_from_saturation", "rank_levers", "run_ascent", "saturation",
+    "po2_from_content", "po2_from_saturation", "rank_levers", "run_ascent", "run_batch", "saturation",
     "save_case", "solve_transport",
     "venous_content_fick", "vo2_at_temperature", "water_vapour_pressure",
 ]

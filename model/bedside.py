@@ -272,6 +272,11 @@ def check_measured(mapping: Mapping[str, object]) -> dict[str, float | None]:
         raw = mapping.get(name)
         if raw is None or (isinstance(raw, str) and not raw.strip()):
             value = None
+        elif isinstance(raw, bool):
+            u = f" {unit}" if unit else ""
+            raise ValueError(
+                f"{name} = {raw!r} is not a number ({label}; allowed range {lo:g}-{hi:g}{u})"
+            )
         else:
             try:
                 value = float(raw)

@@ -442,6 +442,8 @@ def test_check_measured_rejects_bad_input():
             check_measured(missing)
         with pytest.raises(ValueError, match=f"{name} is required"):
             check_measured({**NORMAL, name: None})
+    with pytest.raises(ValueError, match="fio2 = True is not a number"):
+        check_measured(_gas(fio2=True))
     with pytest.raises(ValueError, match="ph = 'seven' is not a number"):
         check_measured(_gas(ph="seven"))
     with pytest.raises(ValueError, match="cohb_fraction \\+ methb_fraction"):
