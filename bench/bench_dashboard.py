@@ -19,6 +19,7 @@ import statistics
 import subprocess
 import sys
 import time
+import urllib.request
 from pathlib import Path
 
 from playwright.sync_api import expect, sync_playwright
@@ -41,6 +42,20 @@ def rss_mib(pid: int) -> float:
     return float("nan")
 
 
+def wait_for_http(url: str, t_start: float, limit_s: float) -> None:
+    """Poll until the server answers 200 (a loaded machine can take many seconds)."""
+    while True:
+        try:
+            with urllib.request.urlopen(url, timeout=5) as r:
+                if r.status == 200:
+                    return
+        except OSError:
+            pass
+        if time.perf_counter() - t_start > limit_s:
+            raise RuntimeError(f"no HTTP 200 from {url} after {limit_s:.0f} s")
+        time.sleep(0.05)
+
+
 def text_of(page, selector: str) -> str:
     return page.locator(selector).evaluate("e => e.textContent")
 
@@ -52,6 +67,20 @@ def wait_until_changed(page, selectors, old, timeout=10.0):
         if all(n != o for n, o in zip(now, old)):
             return now
     raise RuntimeError("the screen did not update")
+
+
+def server_side_ms() -> float:
+    """Median time of one altitude change in a CaseState (model work only) [ms]."""
+    sys.path.insert(0, str(ROOT))
+    from dashboard.state import CaseState
+
+    state = CaseState()
+    times = []
+    for i in range(30):
+        t0 = time.perf_counter()
+        state.altitude_m = 1500.0 if i % 2 == 0 else 0.0
+        times.append((time.perf_counter() - t0) * 1e3)
+    return statistics.median(times)
 
 
 def main() -> int:
@@ -66,14 +95,8 @@ def main() -> int:
             browser = pw.chromium.launch(
                 executable_path=os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium"), args=ARGS)
             page = browser.new_page(viewport={"width": 1500, "height": 1000})
-            while True:
-                try:
-                    page.goto(url, timeout=2000)
-                    break
-                except Exception:
-                    if time.perf_counter() - t_start > 60:
-                        raise
-                    time.sleep(0.05)
+            wait_for_http(url, t_start, limit_s=120.0)
+            page.goto(url, timeout=60000)
             expect(page.locator(".o2-numbers")).to_contain_text("PaO2", timeout=30000)
             t_ready = time.perf_counter() - t_start
 
@@ -112,10 +135,18 @@ def main() -> int:
     median = statistics.median(times_ms)
     p95 = times_ms[int(0.95 * len(times_ms)) - 1]
     reload_ms = statistics.median(reloads) * 1e3
+    def verdict(ok: bool) -> str:
+        return "MET" if ok else "MISSED"
+
+    server_ms = server_side_ms()
     print("dashboard in headless Chromium")
-    print(f"  server start -> interactive page   {t_ready:8.2f} s   (target < 5 s)")
+    print(f"  server start -> interactive page   {t_ready:8.2f} s   (target < 5 s: "
+          f"{verdict(t_ready < 5.0)})")
     print(f"  widget change -> screen updated    median {median:6.0f} ms, p95 {p95:6.0f} ms "
-          f"over {len(times)} changes (targets < 100 / < 200 ms)")
+          f"over {len(times)} changes (targets < 100 / < 200 ms: "
+          f"{verdict(median < 100.0)} / {verdict(p95 < 200.0)})")
+    print(f"  of which server-side derivation    median {server_ms:6.1f} ms "
+          "(CaseState: chain solve and three curves, in this process)")
     print(f"  naive baseline: full page reload   median {reload_ms:6.0f} ms   "
           f"ratio {reload_ms / median:5.1f}x")
     print(f"  server memory per open session     {(rss1 - rss0) / 5:6.2f} MiB "

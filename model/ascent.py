@@ -572,21 +572,29 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
     }
     state = baseline_state(paco2_0, hb_0, co_0)
     keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
+    carried = ("ventilation_offset_mmhg", "hco3_mmol_l", "dpg_mmol_l", "hb_g_dl",
+               "cardiac_output_l_min")
     night = {k: np.empty(sleep.shape) for k in keys}
-    day = {k: np.empty(sleep.shape) for k in keys}
+    morning = {k: np.empty(sleep.shape) for k in carried}
     for i in range(width):
-        # the high point is reached from the morning's state, before the night's step
-        paco2 = acute_paco2(x_h[:, i], paco2_0) + state.ventilation_offset_mmhg
-        hco3 = np.minimum(state.hco3_mmol_l, 24.0 + 0.2 * (paco2 - paco2_0))
-        day["paco2_mmhg"][:, i], day["hco3_mmol_l"][:, i] = paco2, hco3
-        day["ph"][:, i] = ph_henderson_hasselbalch(hco3, paco2)
-        day["dpg_mmol_l"][:, i], day["hb_g_dl"][:, i] = state.dpg_mmol_l, state.hb_g_dl
-        day["cardiac_output_l_min"][:, i] = np.maximum(
-            cardiac_output(co_0, h_h[:, i], 0.0), state.cardiac_output_l_min
-        )
+        for k in carried:
+            morning[k][:, i] = getattr(state, k)
         state = acclimatization_step(state, x_n[:, i], h_n[:, i], **base)
         for k in keys:
             night[k][:, i] = getattr(state, k)
+    # the high point of day i is reached from the morning's state, before night i's step
+    paco2 = acute_paco2(x_h, paco2_0[:, None]) + morning["ventilation_offset_mmhg"]
+    hco3 = np.minimum(morning["hco3_mmol_l"], 24.0 + 0.2 * (paco2 - paco2_0[:, None]))
+    day = {
+        "paco2_mmhg": paco2,
+        "hco3_mmol_l": hco3,
+        "ph": ph_henderson_hasselbalch(hco3, paco2),
+        "dpg_mmol_l": morning["dpg_mmol_l"],
+        "hb_g_dl": morning["hb_g_dl"],
+        "cardiac_output_l_min": np.maximum(
+            cardiac_output(co_0[:, None], h_h, 0.0), morning["cardiac_output_l_min"]
+        ),
+    }
     valid = np.arange(width)[None, :] < np.array(n_days)[:, None]
     vo2 = np.broadcast_to(baseline("vo2_ml_min")[:, None], sleep.shape)
     both = {k: np.concatenate([night[k][valid], day[k][valid]]) for k in keys[:-1]}
