@@ -312,7 +312,8 @@ def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmo
     Severinghaus Eq 1 fits the standard curve within 0.0055 S. The DPG effect for the
     Severinghaus and Hill curves uses the tanh model's DPG term (0.06 per mmol/L in a).
     For the Dash curve, DPG is scaled to its 4.65 mM standard. CO: Haldane's first
-    law, valid up to about 30 % COHb (Siggaard-Andersen 1993).
+    law, valid up to about 30 % COHb (Siggaard-Andersen 1993), solved for the total
+    saturation by Newton's method inside a bisection bracket (to 1e-13).
 
     Examples
     --------

@@ -367,7 +367,8 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     balance, ``CvCO2 = CaCO2 + RQ VO2 / (10 Q)`` (Douglas 1988 content), with the base
     excess at full oxygenation held constant (Zander), so venous PCO2 and pH, hence the
     venous right shift, follow from the physiology. The capillary start (mixed venous
-    PO2) couples the sides: they are iterated to ``tol`` [mmHg] in every PO2.
+    PO2) couples the sides: they are iterated until the mixed venous PO2 moves by less
+    than ``tol`` [mmHg] in a pass, its sequence extrapolated (Aitken) every second pass.
 
     Parameters
     ----------
@@ -417,6 +418,8 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     -----
     pH and PCO2 are taken as measured at body temperature. Resting check (Hb 15, Q 5,
     VO2 250, sea level): DO2 about 1000 mL/min, SvO2 about 0.75, PvO2 about 40 mmHg.
+    One case of plain numbers runs the same steps on floats (about 1 ms instead of tens
+    of ms through numpy); arrays, NaN and refusals take the vectorised path.
 
     Examples
     --------
