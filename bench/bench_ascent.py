@@ -39,23 +39,39 @@ def best(fn, repeats=5) -> float:
 
 
 def main() -> None:
-    profiles = [schedule(300.0, 3, "steady"), schedule(450.0, 4, "brisk"),
-                schedule(600.0, 5, "fast"), schedule(350.0, 2, "cautious")]
+    profiles = [
+        schedule(300.0, 3, "steady"),
+        schedule(450.0, 4, "brisk"),
+        schedule(600.0, 5, "fast"),
+        schedule(350.0, 2, "cautious"),
+    ]
     fast = best(lambda: run_ascents(profiles))
     results = run_ascents(profiles)
 
     def naive():
         # the same nights and high points, one scalar chain solve each
         for r in results:
-            for pb, pac, ph, hb, q in zip(r.night.barometric_pressure_mmhg, r.night.arterial.pco2_mmhg,
-                                          r.night.arterial.ph, r.night.hb_g_dl,
-                                          r.night.cardiac_output_l_min):
-                solve_transport(barometric_pressure_mmhg=float(pb), paco2_mmhg=float(pac),
-                                ph=float(ph), hb_g_dl=float(hb), cardiac_output_l_min=float(q))
+            for pb, pac, ph, hb, q in zip(
+                r.night.barometric_pressure_mmhg,
+                r.night.arterial.pco2_mmhg,
+                r.night.arterial.ph,
+                r.night.hb_g_dl,
+                r.night.cardiac_output_l_min,
+            ):
+                solve_transport(
+                    barometric_pressure_mmhg=float(pb),
+                    paco2_mmhg=float(pac),
+                    ph=float(ph),
+                    hb_g_dl=float(hb),
+                    cardiac_output_l_min=float(q),
+                )
+
     slow = best(naive, repeats=1) * 2.0  # nights only, doubled for the high points
     print("ascent planner: four 60-day schedules")
-    print(f"  run_ascents (vectorised)   {fast * 1e3:9.1f} ms   (target < 50 ms: "
-          f"{'MET' if fast < 0.05 else 'MISSED'})")
+    print(
+        f"  run_ascents (vectorised)   {fast * 1e3:9.1f} ms   (target < 50 ms: "
+        f"{'MET' if fast < 0.05 else 'MISSED'})"
+    )
     print(f"  naive scalar solves        {slow * 1e3:9.1f} ms   ratio {slow / fast:6.1f}x")
 
 

@@ -24,8 +24,16 @@ from pathlib import Path
 
 from playwright.sync_api import expect, sync_playwright
 
-ARGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+ARGS = [
+    "--headless=new",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
 ROOT = Path(__file__).resolve().parents[1]
 
 
@@ -88,19 +96,27 @@ def main() -> int:
     url = f"http://127.0.0.1:{port}/"
     exe = Path(sys.executable).with_name("o2transit")
     t_start = time.perf_counter()
-    server = subprocess.Popen([str(exe), "serve", "--port", str(port), "--no-show"],
-                              cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    server = subprocess.Popen(
+        [str(exe), "serve", "--port", str(port), "--no-show"],
+        cwd=ROOT,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+    )
     try:
         with sync_playwright() as pw:
             browser = pw.chromium.launch(
-                executable_path=os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium"), args=ARGS)
+                executable_path=os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium"), args=ARGS
+            )
             page = browser.new_page(viewport={"width": 1500, "height": 1000})
             wait_for_http(url, t_start, limit_s=120.0)
             page.goto(url, timeout=60000)
             expect(page.locator(".o2-numbers")).to_contain_text("PaO2", timeout=30000)
             t_ready = time.perf_counter() - t_start
 
-            watched = [".o2-numbers tr[data-key=do2] td.val", ".o2-numbers tr[data-key=arterial_po2] td.val"]
+            watched = [
+                ".o2-numbers tr[data-key=do2] td.val",
+                ".o2-numbers tr[data-key=arterial_po2] td.val",
+            ]
             box = page.locator(".o2-in-altitude_m input")
             times = []
             for i in range(50):
@@ -135,22 +151,33 @@ def main() -> int:
     median = statistics.median(times_ms)
     p95 = times_ms[int(0.95 * len(times_ms)) - 1]
     reload_ms = statistics.median(reloads) * 1e3
+
     def verdict(ok: bool) -> str:
         return "MET" if ok else "MISSED"
 
     server_ms = server_side_ms()
     print("dashboard in headless Chromium")
-    print(f"  server start -> interactive page   {t_ready:8.2f} s   (target < 5 s: "
-          f"{verdict(t_ready < 5.0)})")
-    print(f"  widget change -> screen updated    median {median:6.0f} ms, p95 {p95:6.0f} ms "
-          f"over {len(times)} changes (targets < 100 / < 200 ms: "
-          f"{verdict(median < 100.0)} / {verdict(p95 < 200.0)})")
-    print(f"  of which server-side derivation    median {server_ms:6.1f} ms "
-          "(CaseState: chain solve and three curves, in this process)")
-    print(f"  naive baseline: full page reload   median {reload_ms:6.0f} ms   "
-          f"ratio {reload_ms / median:5.1f}x")
-    print(f"  server memory per open session     {(rss1 - rss0) / 5:6.2f} MiB "
-          f"(RSS {rss0:.0f} -> {rss1:.0f} MiB over 5 sessions)")
+    print(
+        f"  server start -> interactive page   {t_ready:8.2f} s   (target < 5 s: "
+        f"{verdict(t_ready < 5.0)})"
+    )
+    print(
+        f"  widget change -> screen updated    median {median:6.0f} ms, p95 {p95:6.0f} ms "
+        f"over {len(times)} changes (targets < 100 / < 200 ms: "
+        f"{verdict(median < 100.0)} / {verdict(p95 < 200.0)})"
+    )
+    print(
+        f"  of which server-side derivation    median {server_ms:6.1f} ms "
+        "(CaseState: chain solve and three curves, in this process)"
+    )
+    print(
+        f"  naive baseline: full page reload   median {reload_ms:6.0f} ms   "
+        f"ratio {reload_ms / median:5.1f}x"
+    )
+    print(
+        f"  server memory per open session     {(rss1 - rss0) / 5:6.2f} MiB "
+        f"(RSS {rss0:.0f} -> {rss1:.0f} MiB over 5 sessions)"
+    )
     return 0
 
 

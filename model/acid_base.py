@@ -90,8 +90,9 @@ def blood_co2_content(pco2_mmhg, ph, so2, hb_g_dl, temperature_c=37.0):
     >>> round(float(blood_co2_content(40.0, 7.40, 0.97, 15.0)), 2)
     46.72
     """
-    return _blood_co2_content(*(np.asarray(v, dtype=float) for v in
-                                (pco2_mmhg, ph, so2, hb_g_dl, temperature_c)))
+    return _blood_co2_content(
+        *(np.asarray(v, dtype=float) for v in (pco2_mmhg, ph, so2, hb_g_dl, temperature_c))
+    )
 
 
 def _blood_co2_content(pco2, ph, so2, hb, t):
@@ -132,8 +133,9 @@ def base_excess(ph, pco2_mmhg, hb_g_dl, so2=1.0):
 
 
 def _base_excess(ph, pco2, hb, so2):
-    van_slyke = (1.0 - 0.0143 * hb) * ((_bicarbonate(ph, pco2) - 24.26)
-                                        + (1.63 * hb + 9.5) * (ph - 7.4))
+    van_slyke = (1.0 - 0.0143 * hb) * (
+        (_bicarbonate(ph, pco2) - 24.26) + (1.63 * hb + 9.5) * (ph - 7.4)
+    )
     return van_slyke - 0.2 * hb * (1.0 - so2)
 
 
@@ -147,8 +149,9 @@ def ph_from_base_excess(base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2=1.0):
     >>> round(float(ph_from_base_excess(-10.0, 40.0, 15.0)), 4)
     7.2424
     """
-    be, pco2, hb, s = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
-                                            (base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2)))
+    be, pco2, hb, s = np.broadcast_arrays(
+        *(np.asarray(v, dtype=float) for v in (base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2))
+    )
     return _ph_from_base_excess(be, pco2, hb, s, np.full(be.shape, 7.4))
 
 

@@ -572,8 +572,13 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
     }
     state = baseline_state(paco2_0, hb_0, co_0)
     keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
-    carried = ("ventilation_offset_mmhg", "hco3_mmol_l", "dpg_mmol_l", "hb_g_dl",
-               "cardiac_output_l_min")
+    carried = (
+        "ventilation_offset_mmhg",
+        "hco3_mmol_l",
+        "dpg_mmol_l",
+        "hb_g_dl",
+        "cardiac_output_l_min",
+    )
     night = {k: np.empty(sleep.shape) for k in keys}
     morning = {k: np.empty(sleep.shape) for k in carried}
     for i in range(width):

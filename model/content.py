@@ -12,8 +12,16 @@ O2_SOLUBILITY_ML_DL_MMHG = 0.003
 """O2 dissolved in blood [mL O2/dL/mmHg] (common practice; 0.0031 also appears)."""
 
 
-def oxygen_content(hb_g_dl, so2, po2_mmhg, *, cohb_fraction=0.0, methb_fraction=0.0,
-                   hufner_ml_g=HUFNER_ML_G, o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG):
+def oxygen_content(
+    hb_g_dl,
+    so2,
+    po2_mmhg,
+    *,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    hufner_ml_g=HUFNER_ML_G,
+    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG,
+):
     """Blood O2 content, bound plus dissolved [mL O2/dL].
 
     ``C = k Hb (1 - FCOHb - FMetHb) SO2 + alpha PO2``
@@ -48,9 +56,14 @@ def oxygen_content(hb_g_dl, so2, po2_mmhg, *, cohb_fraction=0.0, methb_fraction=
     >>> round(float(oxygen_content(15.0, 0.98, 100.0)), 3)
     19.998
     """
-    return _oxygen_content(*(np.asarray(v, dtype=float) for v in
-                             (hb_g_dl, so2, po2_mmhg, cohb_fraction, methb_fraction)),
-                           hufner_ml_g, o2_solubility_ml_dl_mmhg)
+    return _oxygen_content(
+        *(
+            np.asarray(v, dtype=float)
+            for v in (hb_g_dl, so2, po2_mmhg, cohb_fraction, methb_fraction)
+        ),
+        hufner_ml_g,
+        o2_solubility_ml_dl_mmhg,
+    )
 
 
 def _oxygen_content(hb, so2, po2, cohb, methb, hufner, solubility):

@@ -47,24 +47,38 @@ import math
 
 import numpy as np
 
-CURVES = ("severinghaus", "severinghaus1979", "dash", "dash2016", "siggaard_andersen1990",
-          "hill", "hill1910")
+CURVES = (
+    "severinghaus",
+    "severinghaus1979",
+    "dash",
+    "dash2016",
+    "siggaard_andersen1990",
+    "hill",
+    "hill1910",
+)
 _ALIASES = {"severinghaus": "severinghaus1979", "dash": "dash2016", "hill": "hill1910"}
 
 NORMAL_DPG_MMOL_L = 5.0
 """Normal red-cell 2,3-DPG [mmol/L] (Siggaard-Andersen 1990 reference value)."""
 
 STANDARD_P50_MMHG = {
-    "severinghaus1979": float(np.cbrt(11700.0 + np.sqrt(11700.0**2 + 50.0**3))
-                              - np.cbrt(np.sqrt(11700.0**2 + 50.0**3) - 11700.0)),  # Eq 1 of [1]: 26.856
+    "severinghaus1979": float(
+        np.cbrt(11700.0 + np.sqrt(11700.0**2 + 50.0**3))
+        - np.cbrt(np.sqrt(11700.0**2 + 50.0**3) - 11700.0)
+    ),  # Eq 1 of [1]: 26.856
     "dash2016": 26.8,  # P50,S of [4]
     "siggaard_andersen1990": 26.840,  # tanh model at a = b = 0, [5]; made exact below
     "hill1910": 26.8,
 }
 """Each curve's own P50 at pH 7.40, PCO2 40 mmHg, 37 degC, normal DPG [mmHg]."""
 
-DASH2016 = {"alpha": 2.82, "beta": 1.20, "gamma_mmhg": 29.25, "p50_mmhg": 26.8,
-            "dpg_rbc_m": 4.65e-3}
+DASH2016 = {
+    "alpha": 2.82,
+    "beta": 1.20,
+    "gamma_mmhg": 29.25,
+    "p50_mmhg": 26.8,
+    "dpg_rbc_m": 4.65e-3,
+}
 """Dash et al. 2016 [4], Table 1: Hill coefficient nH = alpha - beta 10^(-PO2/gamma)."""
 
 HILL_N = 2.7
@@ -96,7 +110,9 @@ def _check(name, value):
     bad = (value < lo) | (value > hi)
     if bad.any():
         v = np.asarray(value)[bad].ravel()[0]
-        raise ValueError(f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip())
+        raise ValueError(
+            f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip()
+        )
 
 
 def _canonical(curve: str) -> str:
@@ -106,15 +122,28 @@ def _canonical(curve: str) -> str:
     return name
 
 
-def _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction,
-                p50_mmhg, curve):
+def _conditions(
+    ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+):
     name = _canonical(curve)
     dpg = NORMAL_DPG_MMOL_L if dpg_mmol_l is None else dpg_mmol_l
     p50_std = STANDARD_P50_MMHG[name] if p50_mmhg is None else p50_mmhg
-    vals = [np.asarray(v, dtype=float) for v in
-            (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)]
-    for key, v in zip(("ph", "pco2_mmhg", "temperature_c", "dpg_mmol_l", "cohb_fraction",
-                       "methb_fraction", "p50_mmhg"), vals):
+    vals = [
+        np.asarray(v, dtype=float)
+        for v in (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)
+    ]
+    for key, v in zip(
+        (
+            "ph",
+            "pco2_mmhg",
+            "temperature_c",
+            "dpg_mmol_l",
+            "cohb_fraction",
+            "methb_fraction",
+            "p50_mmhg",
+        ),
+        vals,
+    ):
         _check(key, v)
     if np.any(vals[4] + vals[5] >= 1.0):
         raise ValueError("cohb_fraction + methb_fraction must stay below 1")
@@ -131,7 +160,9 @@ def _ln_shift(name, c, m=np):
     override = m.log(c["p50std"] / STANDARD_P50_MMHG[name])
     if name in ("severinghaus1979", "hill1910"):
         # Kelman's virtual-PO2 factors, [2]; DPG and MetHb terms of the tanh model, [5, 6]
-        log10 = -0.024 * (37.0 - c["t"]) - 0.40 * (c["ph"] - 7.40) - 0.06 * m.log10(40.0 / c["pco2"])
+        log10 = (
+            -0.024 * (37.0 - c["t"]) - 0.40 * (c["ph"] - 7.40) - 0.06 * m.log10(40.0 / c["pco2"])
+        )
         return _LN10 * log10 + _DPG_LN_PER_MMOL * (c["dpg"] - NORMAL_DPG_MMOL_L) + fmet + override
     if name == "dash2016":
         return m.log(_dash_p50(c) / DASH2016["p50_mmhg"]) + fmet + override
@@ -154,8 +185,12 @@ def _dash_p50(c):
 
 
 def _sa_a_b(c, m=np):
-    a = (-0.88 * (c["ph"] - 7.40) + 0.048 * m.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
-         - 0.7 * c["fmet"] + 0.06 * (c["dpg"] - NORMAL_DPG_MMOL_L))
+    a = (
+        -0.88 * (c["ph"] - 7.40)
+        + 0.048 * m.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
+        - 0.7 * c["fmet"]
+        + 0.06 * (c["dpg"] - NORMAL_DPG_MMOL_L)
+    )
     b = 0.055 * (c["t"] - 37.0)
     return a, b
 
@@ -275,8 +310,18 @@ def _broadcast(first, c):
     return (first if first.shape == shape else np.broadcast_to(first, shape)), c
 
 
-def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
-               cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+def saturation(
+    po2_mmhg,
+    *,
+    ph=7.40,
+    pco2_mmhg=40.0,
+    temperature_c=37.0,
+    dpg_mmol_l=None,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    p50_mmhg=None,
+    curve="severinghaus",
+):
     """Functional O2 saturation of haemoglobin at a PO2 [-].
 
     Severinghaus 1979 Eq 1, ``S = 1 / (23400 / (x^3 + 150 x) + 1)`` with Kelman's
@@ -322,11 +367,14 @@ def saturation(po2_mmhg, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmo
     >>> float(saturation(40.0, ph=7.2)) < float(saturation(40.0))
     True
     """
-    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
-                          methb_fraction, p50_mmhg, curve)
+    name, c = _conditions(
+        ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+    )
     p, c = _broadcast(po2_mmhg, c)
     if np.any(p < 0):
-        raise ValueError(f"po2_mmhg = {p[p < 0].ravel()[0]:g} is outside the allowed range 0-inf mmHg")
+        raise ValueError(
+            f"po2_mmhg = {p[p < 0].ravel()[0]:g} is outside the allowed range 0-inf mmHg"
+        )
     return PreparedCurve(name, c).saturation(p)
 
 
@@ -476,16 +524,26 @@ class ScalarCurve:
         if self.has_co:
             sco = self.sco
             total = s * (1.0 - sco) + sco
-            return _inverse_formula(self.name, total, self.c, self.shift, math) * (total - sco) / total
+            return (
+                _inverse_formula(self.name, total, self.c, self.shift, math) * (total - sco) / total
+            )
         return _inverse_formula(self.name, s, self.c, self.shift, math)
 
 
-_LIMIT_KEYS = ("ph", "pco2_mmhg", "temperature_c", "dpg_mmol_l", "cohb_fraction",
-               "methb_fraction", "p50_mmhg")
+_LIMIT_KEYS = (
+    "ph",
+    "pco2_mmhg",
+    "temperature_c",
+    "dpg_mmol_l",
+    "cohb_fraction",
+    "methb_fraction",
+    "p50_mmhg",
+)
 
 
-def prepare_scalar_curve(name, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
-                         methb_fraction, p50_mmhg):
+def prepare_scalar_curve(
+    name, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg
+):
     """Validate float conditions as :func:`prepare_curve` does and return a :class:`ScalarCurve`.
 
     ``name`` is a canonical curve name; ``dpg_mmol_l`` and ``p50_mmhg`` may be None.
@@ -508,8 +566,17 @@ def prepare_scalar_curve(name, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fr
     return ScalarCurve(name, dict(zip(("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std"), vals)))
 
 
-def prepare_curve(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
-                  cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+def prepare_curve(
+    *,
+    ph=7.40,
+    pco2_mmhg=40.0,
+    temperature_c=37.0,
+    dpg_mmol_l=None,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    p50_mmhg=None,
+    curve="severinghaus",
+):
     """Validate curve conditions once and return a :class:`PreparedCurve`.
 
     Examples
@@ -517,14 +584,24 @@ def prepare_curve(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=Non
     >>> round(float(prepare_curve(ph=7.2).saturation(40.0)), 4) == round(float(saturation(40.0, ph=7.2)), 4)
     True
     """
-    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
-                          methb_fraction, p50_mmhg, curve)
+    name, c = _conditions(
+        ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+    )
     return PreparedCurve(name, c)
 
 
-def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None,
-                        cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None,
-                        curve="severinghaus"):
+def po2_from_saturation(
+    so2,
+    *,
+    ph=7.40,
+    pco2_mmhg=40.0,
+    temperature_c=37.0,
+    dpg_mmol_l=None,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    p50_mmhg=None,
+    curve="severinghaus",
+):
     """PO2 at which the functional saturation equals ``so2`` [mmHg].
 
     The exact inverse of :func:`saturation`: Ellis' closed form for Severinghaus Eq 1,
@@ -550,8 +627,9 @@ def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg
     >>> round(float(po2_from_saturation(0.75, curve="dash")), 2)
     39.86
     """
-    name, c = _conditions(ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction,
-                          methb_fraction, p50_mmhg, curve)
+    name, c = _conditions(
+        ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+    )
     s, c = _broadcast(so2, c)
     if np.any((s < 0) | (s > 1)):
         bad = s[(s < 0) | (s > 1)].ravel()[0]
@@ -559,8 +637,17 @@ def po2_from_saturation(so2, *, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg
     return PreparedCurve(name, c).inverse(s)
 
 
-def p50(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None, cohb_fraction=0.0,
-        methb_fraction=0.0, p50_mmhg=None, curve="severinghaus"):
+def p50(
+    *,
+    ph=7.40,
+    pco2_mmhg=40.0,
+    temperature_c=37.0,
+    dpg_mmol_l=None,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    p50_mmhg=None,
+    curve="severinghaus",
+):
     """P50, the PO2 at half functional saturation, under the given conditions [mmHg].
 
     Examples
@@ -568,9 +655,17 @@ def p50(*, ph=7.40, pco2_mmhg=40.0, temperature_c=37.0, dpg_mmol_l=None, cohb_fr
     >>> round(float(p50(temperature_c=39.0, curve="siggaard_andersen1990")), 2)
     29.96
     """
-    return po2_from_saturation(0.5, ph=ph, pco2_mmhg=pco2_mmhg, temperature_c=temperature_c,
-                               dpg_mmol_l=dpg_mmol_l, cohb_fraction=cohb_fraction,
-                               methb_fraction=methb_fraction, p50_mmhg=p50_mmhg, curve=curve)
+    return po2_from_saturation(
+        0.5,
+        ph=ph,
+        pco2_mmhg=pco2_mmhg,
+        temperature_c=temperature_c,
+        dpg_mmol_l=dpg_mmol_l,
+        cohb_fraction=cohb_fraction,
+        methb_fraction=methb_fraction,
+        p50_mmhg=p50_mmhg,
+        curve=curve,
+    )
 
 
 def saturation_slope(po2_mmhg, **conditions):
@@ -585,8 +680,14 @@ def saturation_slope(po2_mmhg, **conditions):
 
 
 def _tanh_standard_p50() -> float:
-    c = {"ph": np.array(7.40), "pco2": np.array(40.0), "t": np.array(37.0),
-         "dpg": np.array(NORMAL_DPG_MMOL_L), "fco": np.array(0.0), "fmet": np.array(0.0)}
+    c = {
+        "ph": np.array(7.40),
+        "pco2": np.array(40.0),
+        "t": np.array(37.0),
+        "dpg": np.array(NORMAL_DPG_MMOL_L),
+        "fco": np.array(0.0),
+        "fmet": np.array(0.0),
+    }
     return float(_total_inverse("siggaard_andersen1990", np.array(0.5), c, np.array(0.0)))
 
 

@@ -50,11 +50,19 @@ def alveolar_po2(*, fio2, pb_mmhg, paco2_mmhg, rq=0.8, temperature_c=37.0):
     return pio2 - np.asarray(paco2_mmhg, dtype=float) * (fio2 + (1.0 - fio2) / rq)
 
 
-def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
-                      diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
-                      transit_time_s=0.75, hufner_ml_g=HUFNER_ML_G,
-                      o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, steps=24,
-                      **curve_conditions):
+def end_capillary_po2(
+    alveolar_po2_mmhg,
+    mixed_venous_po2_mmhg,
+    hb_g_dl,
+    *,
+    diffusing_capacity_ml_min_mmhg=30.0,
+    capillary_volume_ml=75.0,
+    transit_time_s=0.75,
+    hufner_ml_g=HUFNER_ML_G,
+    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG,
+    steps=24,
+    **curve_conditions,
+):
     """PO2 at the end of the lung capillary by Bohr integration [mmHg].
 
     ``dPc/dt = DLO2 (PA - Pc) / (beta(Pc) Vc)``, ``beta = (k Hb' dS/dP + alpha) / 100``
@@ -97,14 +105,21 @@ def end_capillary_po2(alveolar_po2_mmhg, mixed_venous_po2_mmhg, hb_g_dl, *,
     pa = np.asarray(alveolar_po2_mmhg, dtype=float)
     pv = np.asarray(mixed_venous_po2_mmhg, dtype=float)
     hb = np.asarray(hb_g_dl, dtype=float)
-    carrying = 1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0)) - np.asarray(
-        curve_conditions.get("methb_fraction", 0.0))
-    k = np.asarray(diffusing_capacity_ml_min_mmhg, dtype=float) / 60.0 / np.asarray(
-        capillary_volume_ml, dtype=float)
+    carrying = (
+        1.0
+        - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
+        - np.asarray(curve_conditions.get("methb_fraction", 0.0))
+    )
+    k = (
+        np.asarray(diffusing_capacity_ml_min_mmhg, dtype=float)
+        / 60.0
+        / np.asarray(capillary_volume_ml, dtype=float)
+    )
     dt = np.asarray(transit_time_s, dtype=float) / steps
     curve = prepare_curve(**curve_conditions)
-    return _end_capillary_po2(pa, pv, hb, carrying, k, dt, curve, hufner_ml_g,
-                              o2_solubility_ml_dl_mmhg, steps)
+    return _end_capillary_po2(
+        pa, pv, hb, carrying, k, dt, curve, hufner_ml_g, o2_solubility_ml_dl_mmhg, steps
+    )
 
 
 def _end_capillary_po2(pa, pv, hb, carrying, k, dt, curve, hufner, solubility, steps=24):
@@ -151,7 +166,8 @@ def mix_by_content(end_capillary_content_ml_dl, venous_content_ml_dl, shunt_frac
     """
     qs = np.asarray(shunt_fraction, dtype=float)
     return (1.0 - qs) * np.asarray(end_capillary_content_ml_dl, dtype=float) + qs * np.asarray(
-        venous_content_ml_dl, dtype=float)
+        venous_content_ml_dl, dtype=float
+    )
 
 
 def aa_gradient(alveolar_po2_mmhg, arterial_po2_mmhg):
@@ -165,8 +181,14 @@ def aa_gradient(alveolar_po2_mmhg, arterial_po2_mmhg):
     return np.asarray(alveolar_po2_mmhg, dtype=float) - np.asarray(arterial_po2_mmhg, dtype=float)
 
 
-def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
-                     o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, **curve_conditions):
+def po2_from_content(
+    content_ml_dl,
+    hb_g_dl,
+    *,
+    hufner_ml_g=HUFNER_ML_G,
+    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG,
+    **curve_conditions,
+):
     """PO2 at which blood of given Hb holds a given O2 content [mmHg].
 
     Solves ``k Hb' S(P) + alpha P = C`` by Newton's method safeguarded by bisection
@@ -179,8 +201,15 @@ def po2_from_content(content_ml_dl, hb_g_dl, *, hufner_ml_g=HUFNER_ML_G,
     """
     c = np.asarray(content_ml_dl, dtype=float)
     c, hb = np.broadcast_arrays(c, np.asarray(hb_g_dl, dtype=float))
-    carrying = hufner_ml_g * hb * (1.0 - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
-                                   - np.asarray(curve_conditions.get("methb_fraction", 0.0)))
+    carrying = (
+        hufner_ml_g
+        * hb
+        * (
+            1.0
+            - np.asarray(curve_conditions.get("cohb_fraction", 0.0))
+            - np.asarray(curve_conditions.get("methb_fraction", 0.0))
+        )
+    )
     curve = prepare_curve(**curve_conditions)
     return _po2_from_content(c, carrying, o2_solubility_ml_dl_mmhg, curve)
 

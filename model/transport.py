@@ -95,9 +95,16 @@ class TransportResult:
 
 
 def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve):
-    return {"ph": ph, "pco2_mmhg": pco2, "temperature_c": t, "dpg_mmol_l": dpg,
-            "cohb_fraction": cohb, "methb_fraction": methb, "p50_mmhg": p50_override,
-            "curve": curve}
+    return {
+        "ph": ph,
+        "pco2_mmhg": pco2,
+        "temperature_c": t,
+        "dpg_mmol_l": dpg,
+        "cohb_fraction": cohb,
+        "methb_fraction": methb,
+        "p50_mmhg": p50_override,
+        "curve": curve,
+    }
 
 
 def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start, ph):
@@ -150,32 +157,59 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     ph_a = st["ph_a"]
     if "base_excess_mmol_l" in f:
         ph_a = _ph_from_base_excess(f["base_excess_mmol_l"], paco2, hb, st["sao2"], ph_a)
-    art = prepare_curve(**_curve_kw(ph_a, paco2, t, f.get("dpg_mmol_l"), f["cohb"], f["methb"],
-                                     f.get("p50_mmhg"), curve))
-    pc = _end_capillary_po2(f["pao2_alv"], st["pv_o2"], hb, f["carry"], f["k"], f["dt"], art,
-                            hufner, sol)
+    art = prepare_curve(
+        **_curve_kw(
+            ph_a, paco2, t, f.get("dpg_mmol_l"), f["cohb"], f["methb"], f.get("p50_mmhg"), curve
+        )
+    )
+    pc = _end_capillary_po2(
+        f["pao2_alv"], st["pv_o2"], hb, f["carry"], f["k"], f["dt"], art, hufner, sol
+    )
     sc = art.saturation(pc)
     cc = _oxygen_content(hb, sc, pc, f["cohb"], f["methb"], hufner, sol)
     cao2 = cc - f["admix"]
     cvo2 = cao2 - f["d_av"]
     if np.any(cvo2 <= 0.0):
-        raise ValueError("vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
-                         "output (venous O2 content would be below zero)")
+        raise ValueError(
+            "vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
+            "output (venous O2 content would be below zero)"
+        )
     pa_o2 = _po2_from_content(cao2, f["carry_ml"], sol, art, st.get("pa_o2"))
     sao2 = art.saturation(pa_o2)
     be_ox = _base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
     caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
     cvco2 = caco2 + f["rq"] * f["d_av"]
-    ven = prepare_curve(**_curve_kw(st["ph_v"], st["pv_co2"], t, f.get("dpg_mmol_l"), f["cohb"],
-                                     f["methb"], f.get("p50_mmhg"), curve))
+    ven = prepare_curve(
+        **_curve_kw(
+            st["ph_v"],
+            st["pv_co2"],
+            t,
+            f.get("dpg_mmol_l"),
+            f["cohb"],
+            f["methb"],
+            f.get("p50_mmhg"),
+            curve,
+        )
+    )
     warm = "pa_o2" in st  # Newton starts: none on the first pass, then the last pass's values
     pv_o2 = _po2_from_content(cvo2, f["carry_ml"], sol, ven, st["pv_o2"] if warm else None)
     svo2 = ven.saturation(pv_o2)
-    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(st["pv_co2"], 1.0),
-                               st["ph_v"])
-    return {"ph_a": ph_a, "pv_o2": pv_o2, "pv_co2": pv_co2, "ph_v": ph_v, "sao2": sao2,
-            "pc": pc, "sc": sc, "cc": cc, "cao2": cao2, "cvo2": cvo2, "pa_o2": pa_o2,
-            "caco2": caco2, "cvco2": cvco2}
+    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(st["pv_co2"], 1.0), st["ph_v"])
+    return {
+        "ph_a": ph_a,
+        "pv_o2": pv_o2,
+        "pv_co2": pv_co2,
+        "ph_v": ph_v,
+        "sao2": sao2,
+        "pc": pc,
+        "sc": sc,
+        "cc": cc,
+        "cao2": cao2,
+        "cvo2": cvo2,
+        "pa_o2": pa_o2,
+        "caco2": caco2,
+        "cvco2": cvco2,
+    }
 
 
 # --- the 0-d path: the same chain on floats -------------------------------------------------
@@ -183,14 +217,34 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
 # equations, same Newton steps, same stopping rules) with math on floats, because a single
 # case through numpy costs far more in per-call overhead than in arithmetic.
 
-_SCALAR_NAMES = ("fio2", "paco2_mmhg", "rq", "shunt_fraction", "diffusing_capacity_ml_min_mmhg",
-                 "capillary_volume_ml", "hb_g_dl", "temperature_c", "cohb_fraction",
-                 "methb_fraction", "cardiac_output_l_min", "vo2_ml_min")
+_SCALAR_NAMES = (
+    "fio2",
+    "paco2_mmhg",
+    "rq",
+    "shunt_fraction",
+    "diffusing_capacity_ml_min_mmhg",
+    "capillary_volume_ml",
+    "hb_g_dl",
+    "temperature_c",
+    "cohb_fraction",
+    "methb_fraction",
+    "cardiac_output_l_min",
+    "vo2_ml_min",
+)
 _OPTIONAL_NAMES = ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg")
-_FLOAT64_FIELDS = frozenset((
-    "water_vapour_pressure_mmhg", "inspired_po2_mmhg", "alveolar_po2_mmhg",
-    "capillary_transit_time_s", "aa_gradient_mmhg", "do2_ml_min", "extraction_ratio",
-    "o2_extracted_ml_per_l", "venous_shift_gain_ml_per_l"))
+_FLOAT64_FIELDS = frozenset(
+    (
+        "water_vapour_pressure_mmhg",
+        "inspired_po2_mmhg",
+        "alveolar_po2_mmhg",
+        "capillary_transit_time_s",
+        "aa_gradient_mmhg",
+        "do2_ml_min",
+        "extraction_ratio",
+        "o2_extracted_ml_per_l",
+        "venous_shift_gain_ml_per_l",
+    )
+)
 
 
 def _plain_float(v):
@@ -209,8 +263,15 @@ def _scalar_inputs(kw: dict):
     """The chain inputs as floats, or None when any is an array, non-finite or out of range
     (the vectorised path then handles the case and words any refusal)."""
     out = {}
-    for name in ("barometric_pressure_mmhg" if kw["barometric_pressure_mmhg"] is not None
-                 else "altitude_m",) + _SCALAR_NAMES + _OPTIONAL_NAMES:
+    for name in (
+        (
+            "barometric_pressure_mmhg"
+            if kw["barometric_pressure_mmhg"] is not None
+            else "altitude_m",
+        )
+        + _SCALAR_NAMES
+        + _OPTIONAL_NAMES
+    ):
         raw = kw[name]
         if raw is None:
             out[name] = None
@@ -259,7 +320,11 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
         pb = float(barometric_pressure(x["altitude_m"], model=pressure_model))
     else:
         pb = x["barometric_pressure_mmhg"]
-    vo2 = x["vo2_ml_min"] * VO2_Q10_PER_C ** (t - 37.0) if vo2_temperature_scaling else x["vo2_ml_min"]
+    vo2 = (
+        x["vo2_ml_min"] * VO2_Q10_PER_C ** (t - 37.0)
+        if vo2_temperature_scaling
+        else x["vo2_ml_min"]
+    )
     ph2o = float(water_vapour_pressure(t))
     pio2 = float(inspired_po2(fio2, pb, t))
     pao2_alv = float(alveolar_po2(fio2=fio2, pb_mmhg=pb, paco2_mmhg=paco2, rq=rq, temperature_c=t))
@@ -301,8 +366,9 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
         caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
         cvco2 = caco2 + rq * d_av
         ven = curve_at(ph_v, pv_co2)
-        new_pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven,
-                                             None if iterations == 1 else pv_o2)
+        new_pv_o2 = _po2_from_content_scalar(
+            cvo2, carrying_ml, sol, ven, None if iterations == 1 else pv_o2
+        )
         svo2 = ven.saturation(new_pv_o2)
         pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0), ph_v)
         change = abs(new_pv_o2 - pv_o2)
@@ -323,40 +389,97 @@ def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, ma
         return np.array(v, dtype=float)
 
     def cond(ph_, pco2_):
-        return _curve_kw(arr(ph_), arr(pco2_), arr(t), None if dpg is None else arr(dpg),
-                         arr(cohb), arr(methb), None if p50o is None else arr(p50o), curve)
+        return _curve_kw(
+            arr(ph_),
+            arr(pco2_),
+            arr(t),
+            None if dpg is None else arr(dpg),
+            arr(cohb),
+            arr(methb),
+            None if p50o is None else arr(p50o),
+            curve,
+        )
 
-    arterial = BloodState(arr(pa_o2), arr(sao2), arr(cao2), np.float64(art.inverse(0.5)),
-                          arr(ph_a), arr(paco2), arr(caco2),
-                          np.float64(_base_excess(ph_a, paco2, hb, sao2)))
-    venous = BloodState(arr(pv_o2), np.float64(svo2), arr(cvo2), np.float64(ven.inverse(0.5)),
-                        arr(ph_v), arr(pv_co2), arr(cvco2),
-                        np.float64(_base_excess(ph_v, pv_co2, hb, svo2)))
+    arterial = BloodState(
+        arr(pa_o2),
+        arr(sao2),
+        arr(cao2),
+        np.float64(art.inverse(0.5)),
+        arr(ph_a),
+        arr(paco2),
+        arr(caco2),
+        np.float64(_base_excess(ph_a, paco2, hb, sao2)),
+    )
+    venous = BloodState(
+        arr(pv_o2),
+        np.float64(svo2),
+        arr(cvo2),
+        np.float64(ven.inverse(0.5)),
+        arr(ph_v),
+        arr(pv_co2),
+        arr(cvco2),
+        np.float64(_base_excess(ph_v, pv_co2, hb, svo2)),
+    )
     fields = {
-        "barometric_pressure_mmhg": pb, "water_vapour_pressure_mmhg": ph2o,
-        "inspired_po2_mmhg": pio2, "alveolar_po2_mmhg": pao2_alv, "end_capillary_po2_mmhg": pc,
-        "end_capillary_so2": sc, "end_capillary_o2_content_ml_dl": cc,
-        "capillary_transit_time_s": transit, "aa_gradient_mmhg": pao2_alv - pa_o2,
-        "shunt_fraction": qs, "fio2": fio2, "cardiac_output_l_min": q, "hb_g_dl": hb,
-        "temperature_c": t, "do2_ml_min": 10.0 * q * cao2, "vo2_ml_min": vo2,
-        "extraction_ratio": (cao2 - cvo2) / cao2, "o2_extracted_ml_per_l": 10.0 * (cao2 - cvo2),
+        "barometric_pressure_mmhg": pb,
+        "water_vapour_pressure_mmhg": ph2o,
+        "inspired_po2_mmhg": pio2,
+        "alveolar_po2_mmhg": pao2_alv,
+        "end_capillary_po2_mmhg": pc,
+        "end_capillary_so2": sc,
+        "end_capillary_o2_content_ml_dl": cc,
+        "capillary_transit_time_s": transit,
+        "aa_gradient_mmhg": pao2_alv - pa_o2,
+        "shunt_fraction": qs,
+        "fio2": fio2,
+        "cardiac_output_l_min": q,
+        "hb_g_dl": hb,
+        "temperature_c": t,
+        "do2_ml_min": 10.0 * q * cao2,
+        "vo2_ml_min": vo2,
+        "extraction_ratio": (cao2 - cvo2) / cao2,
+        "o2_extracted_ml_per_l": 10.0 * (cao2 - cvo2),
         "venous_shift_gain_ml_per_l": 10.0 * (c_art_curve - cvo2),
     }
     fields = {f: (np.float64(v) if f in _FLOAT64_FIELDS else arr(v)) for f, v in fields.items()}
-    return TransportResult(**fields, arterial=arterial, venous=venous, iterations=iterations,
-                           arterial_conditions=cond(ph_a, paco2),
-                           venous_conditions=cond(ph_v, pv_co2))
+    return TransportResult(
+        **fields,
+        arterial=arterial,
+        venous=venous,
+        iterations=iterations,
+        arterial_conditions=cond(ph_a, paco2),
+        venous_conditions=cond(ph_v, pv_co2),
+    )
 
 
-def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_model="standard",
-                    fio2=0.21, paco2_mmhg=40.0, rq=0.8, shunt_fraction=0.02,
-                    diffusing_capacity_ml_min_mmhg=30.0, capillary_volume_ml=75.0,
-                    hb_g_dl=15.0, temperature_c=37.0, ph=None, base_excess_mmol_l=None,
-                    dpg_mmol_l=None, cohb_fraction=0.0, methb_fraction=0.0, p50_mmhg=None,
-                    curve="severinghaus", cardiac_output_l_min=5.0, vo2_ml_min=250.0,
-                    vo2_temperature_scaling=False, hufner_ml_g=HUFNER_ML_G,
-                    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG, tol=1e-6,
-                    max_iterations=60) -> TransportResult:
+def solve_transport(
+    *,
+    altitude_m=0.0,
+    barometric_pressure_mmhg=None,
+    pressure_model="standard",
+    fio2=0.21,
+    paco2_mmhg=40.0,
+    rq=0.8,
+    shunt_fraction=0.02,
+    diffusing_capacity_ml_min_mmhg=30.0,
+    capillary_volume_ml=75.0,
+    hb_g_dl=15.0,
+    temperature_c=37.0,
+    ph=None,
+    base_excess_mmol_l=None,
+    dpg_mmol_l=None,
+    cohb_fraction=0.0,
+    methb_fraction=0.0,
+    p50_mmhg=None,
+    curve="severinghaus",
+    cardiac_output_l_min=5.0,
+    vo2_ml_min=250.0,
+    vo2_temperature_scaling=False,
+    hufner_ml_g=HUFNER_ML_G,
+    o2_solubility_ml_dl_mmhg=O2_SOLUBILITY_ML_DL_MMHG,
+    tol=1e-6,
+    max_iterations=60,
+) -> TransportResult:
     """Solve the O2 chain from inspired air to mixed venous blood.
 
     Air: PB (ICAO standard atmosphere or West's mountain model), PH2O(T), PIO2.
@@ -428,7 +551,9 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     True
     """
     if pressure_model not in PRESSURE_MODELS:
-        raise ValueError(f"pressure_model {pressure_model!r} is unknown; choose one of {PRESSURE_MODELS}")
+        raise ValueError(
+            f"pressure_model {pressure_model!r} is unknown; choose one of {PRESSURE_MODELS}"
+        )
     _canonical(curve)
     if ph is not None and base_excess_mmol_l is not None:
         raise ValueError("give either ph or base_excess_mmol_l, not both")
@@ -436,9 +561,13 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     x = _scalar_inputs(given)
     if x is not None:
         try:
-            r = _solve_scalar(x, pressure_model=pressure_model, curve=curve,
-                              vo2_temperature_scaling=vo2_temperature_scaling,
-                              max_iterations=max_iterations)
+            r = _solve_scalar(
+                x,
+                pressure_model=pressure_model,
+                curve=curve,
+                vo2_temperature_scaling=vo2_temperature_scaling,
+                max_iterations=max_iterations,
+            )
         except (ValueError, OverflowError, ZeroDivisionError):
             r = None  # refused or degenerate: the vectorised path words the message
         if r is not None:
@@ -447,15 +576,41 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
         pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
     else:
         pb = check_range("barometric_pressure_mmhg", barometric_pressure_mmhg)
-    names = ("fio2", "paco2_mmhg", "rq", "shunt_fraction", "diffusing_capacity_ml_min_mmhg",
-             "capillary_volume_ml", "hb_g_dl", "temperature_c", "cohb_fraction",
-             "methb_fraction", "cardiac_output_l_min", "vo2_ml_min")
-    values = (fio2, paco2_mmhg, rq, shunt_fraction, diffusing_capacity_ml_min_mmhg,
-              capillary_volume_ml, hb_g_dl, temperature_c, cohb_fraction, methb_fraction,
-              cardiac_output_l_min, vo2_ml_min)
+    names = (
+        "fio2",
+        "paco2_mmhg",
+        "rq",
+        "shunt_fraction",
+        "diffusing_capacity_ml_min_mmhg",
+        "capillary_volume_ml",
+        "hb_g_dl",
+        "temperature_c",
+        "cohb_fraction",
+        "methb_fraction",
+        "cardiac_output_l_min",
+        "vo2_ml_min",
+    )
+    values = (
+        fio2,
+        paco2_mmhg,
+        rq,
+        shunt_fraction,
+        diffusing_capacity_ml_min_mmhg,
+        capillary_volume_ml,
+        hb_g_dl,
+        temperature_c,
+        cohb_fraction,
+        methb_fraction,
+        cardiac_output_l_min,
+        vo2_ml_min,
+    )
     arrs = {n: check_range(n, v) for n, v in zip(names, values)}
-    optional = {"ph": ph, "base_excess_mmol_l": base_excess_mmol_l, "dpg_mmol_l": dpg_mmol_l,
-                "p50_mmhg": p50_mmhg}
+    optional = {
+        "ph": ph,
+        "base_excess_mmol_l": base_excess_mmol_l,
+        "dpg_mmol_l": dpg_mmol_l,
+        "p50_mmhg": p50_mmhg,
+    }
     for n, v in optional.items():
         if v is not None:
             arrs[n] = check_range(n, v)
@@ -474,27 +629,47 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
 
     ph2o = water_vapour_pressure(t)
     pio2 = inspired_po2(a["fio2"], pb, t)
-    pao2_alv = alveolar_po2(fio2=a["fio2"], pb_mmhg=pb, paco2_mmhg=paco2, rq=a["rq"], temperature_c=t)
+    pao2_alv = alveolar_po2(
+        fio2=a["fio2"], pb_mmhg=pb, paco2_mmhg=paco2, rq=a["rq"], temperature_c=t
+    )
     if np.any(pao2_alv <= 1.0):
         v = pao2_alv[pao2_alv <= 1.0].ravel()[0]
-        raise ValueError(f"alveolar PO2 = {v:.1f} mmHg: the inspired PO2 leaves no alveolar O2 "
-                         "at this PaCO2 (raise FiO2 or pressure, or lower PaCO2)")
+        raise ValueError(
+            f"alveolar PO2 = {v:.1f} mmHg: the inspired PO2 leaves no alveolar O2 "
+            "at this PaCO2 (raise FiO2 or pressure, or lower PaCO2)"
+        )
     transit = a["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
     d_av = vo2 / (10.0 * q)  # arteriovenous O2 content difference [mL/dL]
 
     shape = pb.shape
-    flat = {k: np.array(v, dtype=float).ravel() for k, v in {
-        "pao2_alv": pao2_alv, "hb": hb, "t": t, "paco2": paco2, "cohb": cohb, "methb": methb,
-        "qs": qs, "d_av": d_av, "transit": transit, "rq": a["rq"],
-        "k": a["diffusing_capacity_ml_min_mmhg"] / 60.0 / a["capillary_volume_ml"],
-        "dt": transit / 24, "carry": 1.0 - cohb - methb,
-        "carry_ml": hufner_ml_g * hb * (1.0 - cohb - methb), "admix": qs / (1.0 - qs) * d_av,
-        **{k: a[k] for k in ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg") if k in a},
-    }.items()}
+    flat = {
+        k: np.array(v, dtype=float).ravel()
+        for k, v in {
+            "pao2_alv": pao2_alv,
+            "hb": hb,
+            "t": t,
+            "paco2": paco2,
+            "cohb": cohb,
+            "methb": methb,
+            "qs": qs,
+            "d_av": d_av,
+            "transit": transit,
+            "rq": a["rq"],
+            "k": a["diffusing_capacity_ml_min_mmhg"] / 60.0 / a["capillary_volume_ml"],
+            "dt": transit / 24,
+            "carry": 1.0 - cohb - methb,
+            "carry_ml": hufner_ml_g * hb * (1.0 - cohb - methb),
+            "admix": qs / (1.0 - qs) * d_av,
+            **{k: a[k] for k in ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg") if k in a},
+        }.items()
+    }
     fixed = {"curve": curve, "content_kw": content_kw}
-    st = {"ph_a": flat["ph"].copy() if "ph" in flat else np.full(flat["hb"].shape, 7.40),
-          "pv_o2": np.minimum(0.4 * flat["pao2_alv"], 40.0), "pv_co2": flat["paco2"] + 5.0,
-          "sao2": np.full(flat["hb"].shape, 0.97)}
+    st = {
+        "ph_a": flat["ph"].copy() if "ph" in flat else np.full(flat["hb"].shape, 7.40),
+        "pv_o2": np.minimum(0.4 * flat["pao2_alv"], 40.0),
+        "pv_co2": flat["paco2"] + 5.0,
+        "sao2": np.full(flat["hb"].shape, 0.97),
+    }
     st["ph_v"] = st["ph_a"] - 0.03
     active = np.arange(flat["hb"].size)
     prev_in = np.full(flat["hb"].shape, np.nan)
@@ -521,20 +696,39 @@ def solve_transport(*, altitude_m=0.0, barometric_pressure_mmhg=None, pressure_m
     pv_o2 = po2_from_content(cvo2, hb, **content_kw, **ven)
     svo2 = saturation(pv_o2, **ven)
     art = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
-    c_art_curve = oxygen_content(hb, saturation(pv_o2, **art), pv_o2, cohb_fraction=cohb,
-                                 methb_fraction=methb, **content_kw)
+    c_art_curve = oxygen_content(
+        hb, saturation(pv_o2, **art), pv_o2, cohb_fraction=cohb, methb_fraction=methb, **content_kw
+    )
 
-    arterial = BloodState(pa_o2, sao2, cao2, p50(**art), ph_a, paco2, caco2,
-                          base_excess(ph_a, paco2, hb, sao2))
-    venous = BloodState(pv_o2, svo2, cvo2, p50(**ven), ph_v, pv_co2, cvco2,
-                        base_excess(ph_v, pv_co2, hb, svo2))
+    arterial = BloodState(
+        pa_o2, sao2, cao2, p50(**art), ph_a, paco2, caco2, base_excess(ph_a, paco2, hb, sao2)
+    )
+    venous = BloodState(
+        pv_o2, svo2, cvo2, p50(**ven), ph_v, pv_co2, cvco2, base_excess(ph_v, pv_co2, hb, svo2)
+    )
     return TransportResult(
-        barometric_pressure_mmhg=pb, water_vapour_pressure_mmhg=ph2o, inspired_po2_mmhg=pio2,
-        alveolar_po2_mmhg=pao2_alv, end_capillary_po2_mmhg=pc, end_capillary_so2=sc,
-        end_capillary_o2_content_ml_dl=cc, capillary_transit_time_s=transit, arterial=arterial,
-        venous=venous, aa_gradient_mmhg=aa_gradient(pao2_alv, pa_o2), shunt_fraction=qs,
-        fio2=a["fio2"], cardiac_output_l_min=q, hb_g_dl=hb, temperature_c=t,
-        do2_ml_min=oxygen_delivery(q, cao2), vo2_ml_min=vo2,
-        extraction_ratio=(cao2 - cvo2) / cao2, o2_extracted_ml_per_l=10.0 * (cao2 - cvo2),
-        venous_shift_gain_ml_per_l=10.0 * (c_art_curve - cvo2), iterations=iterations,
-        arterial_conditions=art, venous_conditions=ven)
+        barometric_pressure_mmhg=pb,
+        water_vapour_pressure_mmhg=ph2o,
+        inspired_po2_mmhg=pio2,
+        alveolar_po2_mmhg=pao2_alv,
+        end_capillary_po2_mmhg=pc,
+        end_capillary_so2=sc,
+        end_capillary_o2_content_ml_dl=cc,
+        capillary_transit_time_s=transit,
+        arterial=arterial,
+        venous=venous,
+        aa_gradient_mmhg=aa_gradient(pao2_alv, pa_o2),
+        shunt_fraction=qs,
+        fio2=a["fio2"],
+        cardiac_output_l_min=q,
+        hb_g_dl=hb,
+        temperature_c=t,
+        do2_ml_min=oxygen_delivery(q, cao2),
+        vo2_ml_min=vo2,
+        extraction_ratio=(cao2 - cvo2) / cao2,
+        o2_extracted_ml_per_l=10.0 * (cao2 - cvo2),
+        venous_shift_gain_ml_per_l=10.0 * (c_art_curve - cvo2),
+        iterations=iterations,
+        arterial_conditions=art,
+        venous_conditions=ven,
+    )
