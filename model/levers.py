@@ -49,6 +49,7 @@ References
 
 from __future__ import annotations
 
+import inspect
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -79,6 +80,17 @@ RANK_QUANTITIES: dict[str, tuple[str, int, str]] = {
 """rank_by -> (outcome field, +1 if a rise is better / -1 if a fall is, label)."""
 
 COOLING_RULES = ("alpha_stat", "ph_stat")
+
+_SOLVER_DEFAULTS = {k: p.default for k, p in inspect.signature(solve_transport).parameters.items()}
+_PRESENT = (
+    "fio2",
+    "hb_g_dl",
+    "cardiac_output_l_min",
+    "temperature_c",
+    "shunt_fraction",
+    "vo2_ml_min",
+    "paco2_mmhg",
+)  # read from the case, else solve_transport's default
 
 _OUTCOMES = (
     "do2_ml_min",
@@ -301,16 +313,7 @@ def rank_levers(
     cool_to = _limit("temperature_c", "cooling_to_c", cooling_to_c)
     ph_to = _limit("ph", "ph_target", ph_target)
     base = _check_base(inputs)
-    defaults = {
-        "fio2": 0.21,
-        "hb_g_dl": 15.0,
-        "cardiac_output_l_min": 5.0,
-        "temperature_c": 37.0,
-        "shunt_fraction": 0.02,
-        "vo2_ml_min": 250.0,
-        "paco2_mmhg": 40.0,
-    }
-    now = {k: float(base.get(k, v)) for k, v in defaults.items()}
+    now = {k: float(base.get(k, _SOLVER_DEFAULTS[k])) for k in _PRESENT}
     levers: list[tuple[str, str, dict, str]] = []
 
     for step in sorted(set(steps)):
