@@ -7,6 +7,8 @@ import ipaddress
 import panel as pn
 
 from dashboard.ascent_app import create_ascent_app
+from dashboard.bedside_state import BedsideState
+from dashboard.bedside_views import BedsideScreen
 from dashboard.lecture_app import create_lecture_app
 from dashboard.nav import screen_links
 from dashboard.state import CaseState
@@ -37,16 +39,28 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
     template.header.append(screen_links("/"))
     bind_url(state, template)  # case from ?key=value on load; address follows every change
     template.sidebar.append(InputPanel(state))
+    model_tab = pn.Column(
+        pn.Row(
+            pn.Column(CurvePlot(state), sizing_mode="stretch_width", min_width=420),
+            pn.Column(NumbersTable(state), sizing_mode="stretch_width", min_width=420),
+            sizing_mode="stretch_width",
+        ),
+        CascadePlot(state),
+        sizing_mode="stretch_width",
+    )
+    # Both tabs share the one CaseState; the measured-gas tab's case folder follows
+    # $O2TRANSIT_CASE_DIR, else the user's data folder (model.casebook.default_case_dir).
+    measured_tab = BedsideScreen(BedsideState(state))
     template.main.append(
         pn.Column(
             caution_pane(),
             CaseControls(state, scenario_dir=scenario_dir),
-            pn.Row(
-                pn.Column(CurvePlot(state), sizing_mode="stretch_width", min_width=420),
-                pn.Column(NumbersTable(state), sizing_mode="stretch_width", min_width=420),
+            pn.Tabs(
+                ("Model inputs", model_tab),
+                ("Measured gas", measured_tab),
+                css_classes=["o2-case-tabs"],
                 sizing_mode="stretch_width",
             ),
-            CascadePlot(state),
             sizing_mode="stretch_width",
         )
     )

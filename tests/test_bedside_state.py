@@ -1,0 +1,180 @@
+"""Bedside state: measured entry (all or nothing), derived rows, fit, what-ifs, cases, summary.
+
+Model numbers are tested in the model's own tests; here we test what the screen does with
+them: units, refusals, wording, what becomes the live case and the baseline, and files.
+"""
+
+import datetime as dt
+
+import pytest
+
+import model
+from dashboard.bedside_state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
+from dashboard.state import CaseState
+from dashboard.summary import BOKEH_JS, summary_html
+from model import bedside
+
+
+@pytest.fixture
+def st(tmp_path):
+    return BedsideState(CaseState(), case_dir=tmp_path / "cases")
+
+
+def entered(st, values=EXAMPLE_GAS):
+    st.set_draft_model_units(values)
+    assert st.calculate(), st.entry_message
+    return st
+
+
+def test_every_model_field_is_on_the_form():
+    assert set(MEASURED_KEYS) == set(bedside.MEASURED_LIMITS)
+
+
+def test_draft_follows_display_units(st):
+    st.case.pressure_unit = "kPa"
+    st.case.hb_unit = "g/L"
+    st.set_draft("pao2_mmhg", 9.0)
+    st.set_draft("hb_g_dl", 94.0)
+    st.set_draft("sao2", 91.5)
+    assert st.draft["pao2_mmhg"] == pytest.approx(float(model.kpa_to_mmhg(9.0)))
+    assert st.draft["hb_g_dl"] == pytest.approx(9.4)
+    assert st.draft["sao2"] == pytest.approx(0.915)
+    assert st.display_label("pao2_mmhg").endswith("(kPa)")
+    assert st.display_label("hb_g_dl").endswith("(g/L)")
+    st.case.pressure_unit = "mmHg"
+    assert st.draft_display("pao2_mmhg") == pytest.approx(67.5, abs=0.05)
+    st.set_draft("pao2_mmhg", None)
+    assert "pao2_mmhg" not in st.draft
+
+
+def test_calculate_accepts_all_and_fills_derived_rows(st):
+    entered(st)
+    assert st.measured["pao2_mmhg"] == 68.0
+    rows = {r.key: r for r in st.derived_rows()}
+    # P/F = 68 / 0.6 = 113 mmHg: arithmetic of the definition, exact.
+    assert rows["pao2_fio2_ratio"].value == "113"
+    assert "moderate" in rows["pf_category_berlin"].value
+    assert rows["pao2_fio2_ratio"].flag == "▼ ARDS range"
+    assert rows["shunt_fraction"].unit == "%" and rows["shunt_fraction"].flag == "▲ high"
+    assert rows["shunt_fraction"].source.startswith("Berggren")
+    assert all(r.source for r in rows.values())
+    assert "lactate [mmol/L] above 2" in st.derived_text("flags")
+
+
+def test_derived_rows_in_kpa(st):
+    entered(st)
+    mmhg = {r.key: float(r.value) for r in st.derived_rows() if r.unit == "mmHg"}
+    st.case.pressure_unit = "kPa"
+    rows = {r.key: r for r in st.derived_rows()}
+    assert rows["alveolar_po2_mmhg"].unit == "kPa"
+    assert float(rows["alveolar_po2_mmhg"].value) == pytest.approx(
+        float(model.mmhg_to_kpa(mmhg["alveolar_po2_mmhg"])), abs=0.01
+    )
+
+
+def test_out_of_range_refused_with_field_value_range_unit_nothing_changed(st):
+    entered(st)
+    measured, derived = st.measured, st.derived
+    st.case.pressure_unit = "kPa"
+    st.set_draft("pao2_mmhg", 900.0)  # mmHg habit typed into a kPa field
+    st.set_draft("fio2", 60.0)  # percent typed into a fraction field
+    assert not st.calculate()
+    assert st.measured is measured and st.derived is derived
+    msg = st.field_errors["pao2_mmhg"]
+    assert "PaO2" in msg and "900 kPa" in msg and "1.33–100 kPa" in msg
+    assert "FiO2 = 60 is outside the allowed range 0.05–1" in st.field_errors["fio2"]
+    assert st.entry_message.startswith("Not calculated") and "Nothing was changed" in (
+        st.entry_message
+    )
+
+
+def test_required_fields_named(st):
+    values = dict(EXAMPLE_GAS)
+    del values["ph"]
+    st.set_draft_model_units(values)
+    assert not st.calculate()
+    assert st.field_errors["ph"].startswith("Arterial pH: a value is required")
+    assert st.measured is None
+
+
+def test_cross_field_refusal_from_model(st):
+    st.set_draft_model_units({**EXAMPLE_GAS, "cohb_fraction": 0.6, "methb_fraction": 0.5})
+    assert not st.calculate()
+    assert "cohb_fraction + methb_fraction" in st.entry_message
+
+
+def test_hidden_alternative_is_not_used(st):
+    st.set_draft_model_units({**EXAMPLE_GAS, "barometric_pressure_mmhg": 500.0})
+    assert st.pressure_source == "altitude"
+    entered(st, st.draft)
+    assert "barometric_pressure_mmhg" not in st.measured
+    st.pressure_source = "barometric pressure"
+    assert st.calculate()
+    assert st.measured["barometric_pressure_mmhg"] == 500.0 and "altitude_m" not in st.measured
+
+
+def test_single_point_p50_refusal_shown(st):
+    entered(st, {**EXAMPLE_GAS, "pao2_mmhg": 300.0, "sao2": 0.995})
+    rows = {r.key: r for r in st.derived_rows()}
+    assert rows["p50_insitu_mmhg"].value == "refused"
+    assert "single-point method" in rows["p50_insitu_mmhg"].note
+
+
+def test_fit_and_use_fitted_sets_live_case_and_baseline(st):
+    entered(st)
+    assert st.fit_measured(), st.fit_message
+    assert st.fit.consistent and "consistent" in st.fit_summary()
+    rows = st.fit_rows()
+    assert rows[0][0] == "PaO2" and rows[0][5] == "fitted" and rows[0][6] == "match"
+    assert st.use_fitted()
+    assert st.case.baseline is st.case.result
+    assert st.case.shunt_fraction == pytest.approx(st.fit.fitted["shunt_fraction"])
+    assert st.case.height_cm == 172.0  # DO2I on the other tab needs the body size too
+    assert st.case.scenario_name.startswith("Fitted to measured gas")
+
+
+def test_inconsistent_measurements_said_plainly(st):
+    entered(st, {**EXAMPLE_GAS, "svo2": 0.95})  # venous above arterial
+    assert st.fit_measured()
+    assert not st.fit.consistent
+    assert st.fit_summary().startswith("The measurements do not fit together")
+    assert "SvO2" in st.fit_summary()
+
+
+def test_new_calculation_drops_the_old_fit(st):
+    entered(st)
+    st.fit_measured()
+    entered(st, {**EXAMPLE_GAS, "pao2_mmhg": 80.0})
+    assert st.fit is None and st.fit_rows() == []
+
+
+def test_patient_curve_has_measured_points_at_patient_temperature(st):
+    entered(st)
+    view = st.patient_curve()
+    x, y = view["measured_arterial"]
+    assert y == pytest.approx(91.5)
+    assert x > 68.0  # 38.4 degC: the in-vivo PO2 is above the 37 degC analyser value
+    assert view["measured_venous"][1] == pytest.approx(64.0)
+    assert "not fitted" in view["title"]
+    st.fit_measured()
+    assert view["title"] != st.patient_curve()["title"]
+
+
+def test_summary_page_standalone(st):
+    entered(st)
+    st.fit_measured()
+    st.case_label = "Bed 4 night"
+    st.notes = "Prone at 02:00."
+    page = summary_html(st, when=dt.datetime(2026, 12, 2, 3, 10))
+    assert "2026-12-02 03:10" in page and "Bed 4 night" in page and "Prone at 02:00." in page
+    assert "not a medical device" in page
+    assert "113" in page  # P/F
+    assert "@media print" in page
+    # Offline: the only http(s) text in the file is inside the bundled BokehJS library
+    # (licence and documentation links, and addresses of optional parts this page does
+    # not use: MathJax, icon fonts, map tiles); the page itself names no address.
+    library = BOKEH_JS.render_js()
+    assert library in page
+    outside_library = page.replace(library, "")
+    assert "http://" not in outside_library and "https://" not in outside_library
+    assert "Bokeh.embed.embed_items" in outside_library
