@@ -9,7 +9,7 @@ model's free parameters so that the chain reproduces what was measured:
    MetHb by more than ``sao2_tolerance``: a one-dimensional root (Brent's method) of
    ``S(PaO2; P50std) = SaO2``. Not above SaO2 0.97, where the curve is too flat.
 2. **Shunt fraction** (venous admixture Qs/Qt) to the measured PaO2 (PaO2 falls
-   monotonically with shunt: a bracketing root on vectorised chain calls); and, when a venous
+   monotonically with shunt: Brent's method on the whole range); and, when a venous
    SvO2 and/or PvO2 is given,
 3. **VO2** together with the shunt: bounded least squares on
    ``[(PaO2_model - PaO2) / 2 mmHg, (SvO2_model - SvO2) / 0.01, (PvO2_model - PvO2) / 1 mmHg]``
@@ -413,59 +413,55 @@ def _start_values(mt: dict, inputs: dict) -> tuple[float, float]:
     return shunt, vo2
 
 
-def _solve_many(inputs: dict, shunt, vo2=None) -> TransportResult:
-    kw = dict(inputs, shunt_fraction=np.asarray(shunt, dtype=float))
+def _chain(inputs: dict, shunt: float, vo2: float | None = None) -> TransportResult | None:
+    """The chain at one (shunt, VO2) in floats (its fast one-case path); None if refused.
+
+    Refused means the shunted delivery cannot supply the VO2 at all (venous content
+    below zero): past that shunt the measured PaO2 cannot be reached either.
+    """
+    kw = dict(inputs, shunt_fraction=float(shunt))
     if vo2 is not None:
-        kw["vo2_ml_min"] = np.asarray(vo2, dtype=float)
-    return solve_transport(**kw)
-
-
-def _pao2_at_shunts(inputs: dict, shunts: np.ndarray) -> np.ndarray:
-    """Model PaO2 at each shunt; 0 where the shunted delivery cannot meet VO2 at all."""
+        kw["vo2_ml_min"] = float(vo2)
     try:
-        return np.asarray(_solve_many(inputs, shunts).arterial.po2_mmhg, dtype=float)
+        return solve_transport(**kw)
     except ValueError:
-        if shunts.size == 1:
-            return np.zeros(1)
-    return np.concatenate([_pao2_at_shunts(inputs, shunts[i : i + 1]) for i in range(shunts.size)])
+        return None
+
+
+def _pao2_at(inputs: dict, shunt: float) -> float:
+    """Model PaO2 at one shunt [mmHg]; 0 where the chain refuses the case."""
+    r = _chain(inputs, shunt)
+    return 0.0 if r is None else float(r.arterial.po2_mmhg)
 
 
 def _fit_shunt(mt: dict, m37: dict, inputs: dict, messages: list[str]) -> float:
-    """Shunt fraction reproducing the measured PaO2, VO2 held.
+    """Shunt fraction reproducing the measured PaO2, VO2 held (Brent's method).
 
-    PaO2 falls monotonically with shunt, and the chain is vectorised, so the root is
-    bracketed on a grid of 17 shunts per call, three times narrower each round, then
-    placed by linear interpolation (about 1e-7 in shunt after three rounds).
+    PaO2 falls monotonically with shunt, so the root is bracketed by the ends of the range
+    (the upper end lowered to where the venous content would reach zero).
     """
     lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
     # Highest shunt at which the venous content stays positive: Qs < 1 - (VO2/10Q)/CcO2.
     d_av = inputs["vo2_ml_min"] / (10.0 * inputs["cardiac_output_l_min"])
     hi = min(hi, max(lo + 0.05, 0.99 * (1.0 - d_av / _ideal_capillary_content(inputs))))
     pao2 = mt["pao2_mmhg"]
-    a, b = lo, hi
-    for round_ in range(3):
-        grid = np.linspace(a, b, 17)
-        gaps = _pao2_at_shunts(inputs, grid) - pao2  # falls as shunt rises
-        if round_ == 0 and gaps[0] == -pao2:  # the chain refused even an unshunted lung
-            raise ValueError(
-                f"the case cannot be fitted: Hb {inputs['hb_g_dl']:g} g/dL at a cardiac output "
-                f"of {inputs['cardiac_output_l_min']:g} L/min cannot deliver a VO2 of "
-                f"{inputs['vo2_ml_min']:g} mL/min even with no shunt"
-            )
-        if round_ == 0 and gaps[0] < 0.0:
-            messages.append(_too_high_message(m37, inputs, gaps[0] + pao2, mt))
-            return lo
-        if round_ == 0 and gaps[-1] > 0.0:
-            messages.append(
-                f"Measured PaO2 {m37['pao2_mmhg']:.0f} mmHg would need a shunt above {b:.2f} "
-                "of the cardiac output at this FiO2, Hb and VO2 — check FiO2 and the sample."
-            )
-            return b
-        i = int(np.nonzero(gaps <= 0.0)[0][0])
-        if gaps[i] == 0.0:
-            return float(grid[i])
-        a, b, g_a, g_b = grid[i - 1], grid[i], gaps[i - 1], gaps[i]
-    return float(a + (b - a) * g_a / (g_a - g_b))
+    at_lo = _pao2_at(inputs, lo)
+    if at_lo == 0.0:  # the chain refused even an unshunted lung
+        raise ValueError(
+            f"the case cannot be fitted: Hb {inputs['hb_g_dl']:g} g/dL at a cardiac output "
+            f"of {inputs['cardiac_output_l_min']:g} L/min cannot deliver a VO2 of "
+            f"{inputs['vo2_ml_min']:g} mL/min even with no shunt"
+        )
+    if at_lo < pao2:
+        messages.append(_too_high_message(m37, inputs, at_lo, mt))
+        return lo
+    if _pao2_at(inputs, hi) > pao2:
+        messages.append(
+            f"Measured PaO2 {m37['pao2_mmhg']:.0f} mmHg would need a shunt above {hi:.2f} "
+            "of the cardiac output at this FiO2, Hb and VO2 — check FiO2 and the sample."
+        )
+        return hi
+    return float(brentq(lambda s: _pao2_at(inputs, s) - pao2, lo, hi, xtol=1e-7))
 
 
 def _too_high_message(m37: dict, inputs: dict, pao2_no_shunt_t: float, mt: dict) -> str:
@@ -481,41 +477,40 @@ def _too_high_message(m37: dict, inputs: dict, pao2_no_shunt_t: float, mt: dict)
 def _fit_shunt_vo2(mt: dict, inputs: dict, start: tuple[float, float]) -> tuple[float, float]:
     """Bounded least squares in (shunt, VO2) on PaO2 and the venous values given.
 
-    The Jacobian comes from the same vectorised chain call as the residuals (the point
-    and one forward step in each parameter), so each iteration costs one call.
+    The Jacobian is a forward difference (0.001 in shunt, 1 mL/min in VO2) computed with
+    the residuals and kept, so an iteration costs three one-case chain solves.
     """
     s_lo, s_hi = INPUT_LIMITS["shunt_fraction"][:2]
     v_lo, v_hi = INPUT_LIMITS["vo2_ml_min"][:2]
     targets = [k for k in ("pao2_mmhg", "svo2", "pvo2_mmhg") if k in mt]
     meas = np.array([mt[k] for k in targets])
     weight = np.array([_WEIGHTS[k] for k in targets])
-    step = np.array([1e-3, 1.0])  # 0.001 shunt, 1 mL/min VO2
     cache: dict = {}
+
+    def values(shunt, vo2):
+        r = _chain(inputs, shunt, vo2)
+        if r is None:  # VO2 beyond what the delivery can supply at this point
+            return None
+        model = {
+            "pao2_mmhg": r.arterial.po2_mmhg,
+            "svo2": r.venous.so2,
+            "pvo2_mmhg": r.venous.po2_mmhg,
+        }
+        return np.array([float(model[k]) for k in targets])
 
     def evaluate(x):
         key = (float(x[0]), float(x[1]))
         if key not in cache:
-            hs = -step[0] if x[0] + step[0] > s_hi else step[0]
-            hv = -step[1] if x[1] + step[1] > v_hi else step[1]
-            shunts = np.array([x[0], x[0] + hs, x[0]])
-            vo2s = np.array([x[1], x[1], x[1] + hv])
-            try:
-                r = _solve_many(inputs, shunts, vo2s)
-            except ValueError:  # VO2 beyond what the delivery can supply at this point
-                cache[key] = (np.full(len(targets), 1e3), np.array([[-1e3, -1e3]] * len(targets)))
-                return cache[key]
-            model = {
-                "pao2_mmhg": r.arterial.po2_mmhg,
-                "svo2": r.venous.so2,
-                "pvo2_mmhg": r.venous.po2_mmhg,
-            }
-            vals = np.array([np.asarray(model[k], dtype=float) for k in targets])  # (n, 3)
-            f = (vals[:, 0] - meas) / weight
-            jac = (
-                np.column_stack([(vals[:, 1] - vals[:, 0]) / hs, (vals[:, 2] - vals[:, 0]) / hv])
-                / weight[:, None]
-            )
-            cache[key] = (f, jac)
+            hs = -1e-3 if key[0] + 1e-3 > s_hi else 1e-3
+            hv = -1.0 if key[1] + 1.0 > v_hi else 1.0
+            v0 = values(*key)
+            v1 = None if v0 is None else values(key[0] + hs, key[1])
+            v2 = None if v1 is None else values(key[0], key[1] + hv)
+            if v2 is None:
+                cache[key] = (np.full(len(targets), 1e3), np.full((len(targets), 2), -1e3))
+            else:
+                jac = np.column_stack([(v1 - v0) / hs, (v2 - v0) / hv]) / weight[:, None]
+                cache[key] = ((v0 - meas) / weight, jac)
         return cache[key]
 
     x0 = np.array([min(max(start[0], s_lo), s_hi - 1e-3), min(max(start[1], v_lo), v_hi)])
@@ -599,8 +594,8 @@ def fit_case(
     pH moved from the analyser's 37 degC to the patient's temperature, as the chain takes
     them), then fits, in this order: the standard-state P50 when co-oximetry SaO2
     disagrees with the curve at the measured PaO2 by more than ``sao2_tolerance``
-    (Brent root of ``S(PaO2; P50std) = SaO2``); the shunt fraction to PaO2 (a vectorised
-    bracketing root), or, when SvO2 and/or PvO2 are given, shunt and VO2 together
+    (Brent root of ``S(PaO2; P50std) = SaO2``); the shunt fraction to PaO2 (Brent root),
+    or, when SvO2 and/or PvO2 are given, shunt and VO2 together
     (bounded least squares; residuals weighted by 2 mmHg for PaO2, 0.01 for SvO2, 1 mmHg
     for PvO2), started from the Berggren shunt and the Fick VO2 of the measured contents.
 

@@ -156,55 +156,25 @@ def _limit(name: str, lever: str, value) -> float:
     return _number(lever, value, lo, hi, unit, label)
 
 
-def _outcome_values(result, i: int | None) -> dict:
-    def pick(x):
-        a = np.asarray(x, dtype=float)
-        return float(a if i is None else a.ravel()[i])
-
+def _outcome_values(result) -> dict:
     return {
-        "do2_ml_min": pick(result.do2_ml_min),
-        "pao2_mmhg": pick(result.arterial.po2_mmhg),
-        "sao2": pick(result.arterial.so2),
-        "cao2_ml_dl": pick(result.arterial.o2_content_ml_dl),
-        "svo2": pick(result.venous.so2),
-        "pvo2_mmhg": pick(result.venous.po2_mmhg),
-        "extraction_ratio": pick(result.extraction_ratio),
+        "do2_ml_min": float(result.do2_ml_min),
+        "pao2_mmhg": float(result.arterial.po2_mmhg),
+        "sao2": float(result.arterial.so2),
+        "cao2_ml_dl": float(result.arterial.o2_content_ml_dl),
+        "svo2": float(result.venous.so2),
+        "pvo2_mmhg": float(result.venous.po2_mmhg),
+        "extraction_ratio": float(result.extraction_ratio),
     }
 
 
 def _solve_one(case: dict) -> tuple[dict, str]:
+    """(outcomes, error) of one what-if; one-case chain solves take the chain's float path,
+    which is faster than a vectorised call over a handful of cases."""
     try:
-        return _outcome_values(solve_transport(**case), None), ""
+        return _outcome_values(solve_transport(**case)), ""
     except ValueError as exc:
         return dict.fromkeys(_OUTCOMES, math.nan), str(exc)
-
-
-def _solve_cases(cases: list[dict]) -> list[tuple[dict, str]]:
-    """(outcomes, error) per case; cases with the same keys and choices share one call."""
-    groups: dict = {}
-    for i, case in enumerate(cases):
-        fixed = tuple(
-            sorted((k, v) for k, v in case.items() if v is None or isinstance(v, (str, bool)))
-        )
-        groups.setdefault((frozenset(case), fixed), []).append(i)
-    out: list = [None] * len(cases)
-    for (keys, fixed), idx in groups.items():
-        if len(idx) == 1:
-            out[idx[0]] = _solve_one(cases[idx[0]])
-            continue
-        kw = dict(fixed)
-        for k in keys:
-            if k not in kw:
-                kw[k] = np.array([float(cases[i][k]) for i in idx])
-        try:
-            result = solve_transport(**kw)
-        except ValueError:  # find which case the chain refuses, solve the rest alone
-            for i in idx:
-                out[i] = _solve_one(cases[i])
-            continue
-        for j, i in enumerate(idx):
-            out[i] = (_outcome_values(result, j), "")
-    return out
 
 
 def _check_base(inputs: Mapping) -> dict:
@@ -414,7 +384,7 @@ def rank_levers(
         if "ph" in changes:
             case.pop("base_excess_mmol_l", None)
         cases.append(case)
-    solved = _solve_cases(cases)
+    solved = [_solve_one(case) for case in cases]
     ref, base_error = solved[0]
     if base_error:
         raise ValueError(f"inputs: the base case cannot be solved: {base_error}")
