@@ -487,3 +487,45 @@ def test_single_point_inverts_hill_everywhere_in_range(p50_true, s):
         return
     d = derive(**_gas(pao2_mmhg=po2, sao2=s))
     assert abs(float(d["p50_insitu_mmhg"]) - p50_true) <= 1e-9 * p50_true
+
+
+def test_arrays_give_what_one_row_at_a_time_gives():
+    # Vectorised masks (given / not given, refused, notes) must not leak between rows:
+    # 60 invented rows with optional values missing at random, each compared with a
+    # scalar call. Tolerance 1e-9 relative: the curve takes its CO branch for a whole array
+    # when any row has COHb, which differs from the plain branch in the last bits.
+    rng = np.random.default_rng(3)
+    n = 60
+    rows = {
+        "pao2_mmhg": rng.uniform(40.0, 300.0, n),
+        "paco2_mmhg": rng.uniform(28.0, 70.0, n),
+        "ph": rng.uniform(7.1, 7.55, n),
+        "sao2": rng.uniform(0.75, 1.0, n),
+        "hb_g_dl": rng.uniform(6.0, 17.0, n),
+        "fio2": rng.uniform(0.21, 1.0, n),
+        "temperature_c": rng.uniform(33.0, 40.5, n),
+        "barometric_pressure_mmhg": rng.uniform(500.0, 770.0, n),
+        "age_years": rng.uniform(18.0, 90.0, n),
+        "svo2": rng.uniform(0.4, 0.8, n),
+        "pvo2_mmhg": rng.uniform(25.0, 45.0, n),
+        "pvco2_mmhg": rng.uniform(35.0, 70.0, n),
+        "cardiac_output_l_min": rng.uniform(2.5, 9.0, n),
+        "cardiac_index_l_min_m2": rng.uniform(1.5, 4.5, n),
+        "height_cm": rng.uniform(150.0, 195.0, n),
+        "weight_kg": rng.uniform(45.0, 120.0, n),
+        "mean_airway_pressure_cmh2o": rng.uniform(5.0, 30.0, n),
+        "cohb_fraction": rng.uniform(0.0, 0.15, n),
+    }
+    for key in list(rows)[7:]:
+        rows[key][rng.random(n) < 0.3] = np.nan
+    whole = derive(**rows)
+    for i in range(n):
+        one = derive(**{k: float(v[i]) for k, v in rows.items()})
+        for key, value in one.items():
+            if value.dtype == object:
+                assert whole[key][i] == value, (i, key)
+            else:
+                assert np.allclose(whole[key][i], value, rtol=1e-9, atol=0, equal_nan=True), (
+                    i,
+                    key,
+                )
