@@ -93,6 +93,17 @@ def test_recovers_parameters_from_rounded_readings():
     assert fit.consistent
 
 
+@pytest.mark.parametrize("drop", ["svo2", "pvo2_mmhg"])
+def test_one_venous_value_is_enough_for_vo2(drop):
+    m = synthesise()
+    m.pop(drop)
+    fit = fit_case(m)
+    # Two equations (PaO2 and one venous value), two unknowns: exact, as above.
+    assert fit.fitted["shunt_fraction"] == pytest.approx(0.15, abs=1e-4)
+    assert fit.fitted["vo2_ml_min"] == pytest.approx(300.0, abs=0.5)
+    assert drop not in {r.key for r in fit.residuals}
+
+
 def test_arterial_only_fits_shunt_with_assumed_vo2():
     fit = fit_case(synthesise(venous=False, vo2_ml_min=250.0))
     assert fit.fitted["shunt_fraction"] == pytest.approx(0.15, abs=1e-4)
