@@ -313,8 +313,9 @@ def _quoted(cells: Sequence[str], delimiter: str) -> Sequence[str]:
     ]
 
 
-def _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma) -> str:
-    columns = [_quoted(c, delimiter) for c in inputs]
+def _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma, raw=None) -> str:
+    """Output rows: the input cells (or their unquoted raw lines), then the outputs."""
+    columns = [_quoted(c, delimiter) for c in inputs] if raw is None else [raw]
     for key in outputs:
         if key == "error":
             columns.append(_quoted(errors.tolist(), delimiter))
@@ -354,6 +355,12 @@ def read_table(path) -> tuple[list[str], list[list[str]], str]:
     Leading blank and ``#`` lines are skipped, as are blank rows; the delimiter is ","
     unless the header has none and has ";" or a tab.
     """
+    header, rows, delimiter, _ = _read_table(path)
+    return header, rows, delimiter
+
+
+def _read_table(path) -> tuple[list[str], list[list[str]], str, list[str] | None]:
+    """As :func:`read_table`, plus the raw text of each row when no cell is quoted."""
     path = Path(path)
     if not path.is_file():
         raise BatchError(
@@ -377,18 +384,31 @@ def read_table(path) -> tuple[list[str], list[list[str]], str]:
     delimiter = ","
     if "," not in head:
         delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
-    reader = csv.reader(io.StringIO(text[offset:]), delimiter=delimiter)
-    try:
-        header = [h.strip() for h in next(reader)]
-        rows = [r for r in reader if any(r)]
-    except csv.Error as exc:
-        raise BatchError(
-            f"{path}: not a readable CSV file (line {reader.line_num}: {exc})"
-        ) from None
+    body = text[offset:]
+    lines = None
+    if '"' not in body:  # no quoting anywhere: a plain split is the CSV parse
+        raw = body.splitlines()
+        header = [h.strip() for h in raw[0].split(delimiter)]
+        rows = [line.split(delimiter) for line in raw[1:]]
+        keep = list(map(any, rows))
+        if all(keep):
+            lines = raw[1:]
+        else:
+            lines = [line for line, k in zip(raw[1:], keep) if k]
+            rows = [r for r, k in zip(rows, keep) if k]
+    else:
+        reader = csv.reader(io.StringIO(body), delimiter=delimiter)
+        try:
+            header = [h.strip() for h in next(reader)]
+            rows = [r for r in reader if any(r)]
+        except csv.Error as exc:
+            raise BatchError(
+                f"{path}: not a readable CSV file (line {reader.line_num}: {exc})"
+            ) from None
     dup = sorted({h for h in header if h and header.count(h) > 1})
     if dup:
         raise BatchError(f"{path}: column {dup[0]!r} appears more than once")
-    return header, rows, delimiter
+    return header, rows, delimiter, lines
 
 
 def run_batch(
@@ -418,7 +438,7 @@ def run_batch(
     """
     stream = sys.stderr if stream is None else stream
     in_path = Path(in_path)
-    header, rows, delimiter = read_table(in_path)
+    header, rows, delimiter, lines = _read_table(in_path)
     _column_map(header, str(in_path))  # file-level problems before anything is written
     outputs = ALL_OUTPUTS if all_columns else BATCH_OUTPUTS
     decimal_comma = delimiter == ";"
@@ -445,6 +465,7 @@ def run_batch(
         bar.update(0)
         for start in range(0, len(rows), CHUNK_ROWS):
             chunk = rows[start : start + CHUNK_ROWS]
+            raw = None if lines is None else lines[start : start + CHUNK_ROWS]
             errors = np.full(len(chunk), "", dtype=object)
             lengths = np.fromiter(map(len, chunk), dtype=np.int64, count=len(chunk))
             for i in np.flatnonzero(lengths != width).tolist():
@@ -455,6 +476,8 @@ def run_batch(
                         "may be shifted (an unquoted comma?)"
                     )
                 chunk[i] = (r + [""] * (width - len(r)))[:width]
+                if raw is not None:
+                    raw[i] = delimiter.join(chunk[i])
             inputs = list(zip(*chunk))
             derived, errors = derive_columns(
                 dict(zip(header, inputs)),
@@ -463,7 +486,9 @@ def run_batch(
                 source=str(in_path),
             )
             n_errors += int(np.count_nonzero(errors != ""))
-            handle.write(_output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma))
+            handle.write(
+                _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma, raw)
+            )
             bar.update(start + len(chunk))
         bar.close()
         if tmp is not None:

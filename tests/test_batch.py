@@ -265,10 +265,25 @@ def test_unreadable_csv_is_a_file_level_error(tmp_path):
     # A cell longer than the csv module's field limit (131,072 characters).
     src = tmp_path / "huge.csv"
     src.write_text(
-        "pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c\n" + "8" * 200_000 + "\n"
+        "pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c\n" + '"' + "8" * 200_000 + '"\n'
     )
     with pytest.raises(BatchError, match="not a readable CSV file"):
         run_batch(src, tmp_path / "o.csv")
+
+
+def test_plain_and_quoted_files_give_the_same_rows(tmp_path):
+    # A file without any quote is split directly and its lines passed through; one quoted
+    # cell sends it through the csv module. Both must write the same rows.
+    lines = (DATA / "batch_cohort_mmhg.csv").read_text().splitlines()
+    plain = [line for line in lines if '"' not in line]
+    (tmp_path / "plain.csv").write_text("\n".join(plain) + "\n")
+    (tmp_path / "quoted.csv").write_text("\n".join(plain + ['"Q",80,40,7.4,0.95,12,0.4,37']) + "\n")
+    run_batch(tmp_path / "plain.csv", tmp_path / "a.csv", stream=io.StringIO())
+    run_batch(tmp_path / "quoted.csv", tmp_path / "b.csv", stream=io.StringIO())
+    a = (tmp_path / "a.csv").read_text().splitlines()
+    b = (tmp_path / "b.csv").read_text().splitlines()
+    assert len(b) == len(a) + 1 and b[: len(a)] == a
+    assert b[-1].startswith("Q,80,40,7.4,0.95,12,0.4,37,,,,,,,")
 
 
 def test_excel_byte_order_mark_is_skipped(tmp_path):
