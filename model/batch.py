@@ -39,12 +39,8 @@ from pathlib import Path
 import numpy as np
 
 from .bedside import DERIVED_FIELDS, MEASURED_LIMITS, REQUIRED_MEASURED, derive
+from .cli import CAUTION
 from .units import MMHG_PER_KPA
-
-CAUTION = (
-    "o2transit is an aid for education and planning, not a medical device. Verify "
-    "against measurements; defer to local protocols and licensed clinical practice."
-)
 
 COLUMN_VARIANTS: dict[str, tuple[str, float, str]] = {
     "pb_mmhg": ("barometric_pressure_mmhg", 1.0, "mmHg"),
