@@ -558,7 +558,7 @@ def solve_transport(
     if ph is not None and base_excess_mmol_l is not None:
         raise ValueError("give either ph or base_excess_mmol_l, not both")
     given = locals()
-    x = _scalar_inputs(given)
+    x = _scalar_inputs(given) if max_iterations >= 1 else None
     if x is not None:
         try:
             r = _solve_scalar(

@@ -405,3 +405,23 @@ def test_float_path_refusals_match_array_path():
         with pytest.raises(ValueError) as arr:
             solve_transport(**{k: np.array([v]) for k, v in kw.items()})
         assert str(one.value) == str(arr.value)
+
+
+@pytest.mark.parametrize(
+    "kw",
+    [
+        {"barometric_pressure_mmhg": 500.0, "fio2": 0.3},
+        {"altitude_m": 6000.0, "pressure_model": "mountain", "paco2_mmhg": 25.0},
+        {"fio2": 0.3, "hufner_ml_g": 1.39, "o2_solubility_ml_dl_mmhg": 0.0031, "tol": 1e-9},
+        {"altitude_m": 4000.0, "max_iterations": 3},
+    ],
+)
+def test_float_path_options_match_array_path(kw):
+    # Pressure given directly, the mountain model, other constants and an iteration cap
+    # act alike on both paths (regression, not physiology).
+    physical = ("barometric_pressure_mmhg", "fio2", "altitude_m", "paco2_mmhg")
+    as_array = {k: (np.array([v]) if k in physical else v) for k, v in kw.items()}
+    one, arr = solve_transport(**kw), solve_transport(**as_array)
+    assert one.iterations == arr.iterations
+    for name, value in _leaves(one.to_dict()):
+        assert value == pytest.approx(dict(_leaves(arr.to_dict()))[name][0], rel=1e-9, abs=1e-9)
