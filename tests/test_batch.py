@@ -199,6 +199,34 @@ def test_derive_columns_flags_each_bad_cell():
     assert np.isfinite(derived["cao2_ml_dl"][0]) and np.isnan(derived["cao2_ml_dl"][1:]).all()
 
 
+def test_a_row_derive_refuses_is_isolated(monkeypatch):
+    # Should derive ever refuse a row the cell checks let through, that row alone gets the
+    # message and the others keep their values.
+    import model.batch as batch_module
+
+    real = batch_module.derive
+
+    def picky(**kw):
+        if np.any(np.asarray(kw["pao2_mmhg"]) == 77.0):
+            raise ValueError("pao2_mmhg = 77 refused for this test")
+        return real(**kw)
+
+    monkeypatch.setattr(batch_module, "derive", picky)
+    cols = {
+        "pao2_mmhg": ["80", "77", "90"],
+        "paco2_mmhg": ["40"] * 3,
+        "ph": ["7.4"] * 3,
+        "sao2": ["0.95"] * 3,
+        "hb_g_dl": ["12"] * 3,
+        "fio2": ["0.4"] * 3,
+        "temperature_c": ["37"] * 3,
+    }
+    derived, errors = derive_columns(cols)
+    assert errors.tolist() == ["", "pao2_mmhg = 77 refused for this test", ""]
+    assert derived["pao2_fio2_ratio"][[0, 2]].tolist() == [200.0, 225.0]
+    assert np.isnan(derived["pao2_fio2_ratio"][1]) and derived["notes"][1] == ""
+
+
 def test_cohb_plus_methb_row_error():
     cols = {
         "pao2_mmhg": ["80"],
