@@ -806,6 +806,12 @@ def derive(
     )
     _append(
         flags,
+        out["aa_gradient_mmhg"] < 0,
+        "A-a gradient negative: PaO2 above the alveolar PO2 (check FiO2 and barometric "
+        "pressure; an air bubble in the sample raises PaO2 toward room air)",
+    )
+    _append(
+        flags,
         out["aa_gradient_mmhg"] > out["aa_gradient_expected_mmhg"],
         "A-a gradient above the age-expected value (room-air norm)",
     )

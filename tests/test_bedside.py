@@ -317,6 +317,13 @@ def test_flags_name_what_is_out_of_range():
     assert all(k in MEASURED_LIMITS or k in DERIVED_FIELDS for k in USUAL_RANGES)
 
 
+def test_negative_aa_gradient_is_flagged():
+    # PaO2 110 on air at sea level is above PAO2 101.8 (alveolar gas equation): impossible.
+    d = derive(**_gas(pao2_mmhg=110.0))
+    assert float(d["aa_gradient_mmhg"]) < 0
+    assert "A-a gradient negative" in str(d["flags"])
+
+
 def test_barometric_pressure_sources_noted():
     # Neither PB nor altitude: 760 assumed and said; altitude: ICAO standard atmosphere
     # (1500 m -> 634.2 mmHg, ICAO Doc 7488; tolerance 0.1); PB wins over altitude.
