@@ -287,7 +287,7 @@ table.o2s th {{ text-align: right; font-weight: 600; border-bottom: 2px solid {A
 table.o2s th.what, table.o2s td.what {{ text-align: left; }}
 table.o2s td {{ padding: 4px 8px; border-bottom: 1px solid #e3e6e8; text-align: right;
   font-variant-numeric: tabular-nums; }}
-table.o2s td.what {{ color: #46545c; }}
+table.o2s td.what {{ color: #46545c; min-width: 210px; }}
 table.o2s td.risk-high {{ color: #9a1b1b; font-weight: 700; }}
 table.o2s td.risk-moderate {{ color: #8a5a00; font-weight: 700; }}
 table.o2s td.risk-low {{ color: #1d5c3a; font-weight: 700; }}

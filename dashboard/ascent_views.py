@@ -371,7 +371,8 @@ class ScheduleEditor(pn.viewable.Viewer):
             )
         else:
             self._hint.object = (
-                "Double-click a cell to edit it (Enter to apply); click a row to pick a day."
+                "Click a cell to edit it (Enter applies, Esc cancels); click a day number to pick "
+                "that day."
             )
 
     def __panel__(self):
