@@ -576,44 +576,10 @@ def solve_transport(
         pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
     else:
         pb = check_range("barometric_pressure_mmhg", barometric_pressure_mmhg)
-    names = (
-        "fio2",
-        "paco2_mmhg",
-        "rq",
-        "shunt_fraction",
-        "diffusing_capacity_ml_min_mmhg",
-        "capillary_volume_ml",
-        "hb_g_dl",
-        "temperature_c",
-        "cohb_fraction",
-        "methb_fraction",
-        "cardiac_output_l_min",
-        "vo2_ml_min",
-    )
-    values = (
-        fio2,
-        paco2_mmhg,
-        rq,
-        shunt_fraction,
-        diffusing_capacity_ml_min_mmhg,
-        capillary_volume_ml,
-        hb_g_dl,
-        temperature_c,
-        cohb_fraction,
-        methb_fraction,
-        cardiac_output_l_min,
-        vo2_ml_min,
-    )
-    arrs = {n: check_range(n, v) for n, v in zip(names, values)}
-    optional = {
-        "ph": ph,
-        "base_excess_mmol_l": base_excess_mmol_l,
-        "dpg_mmol_l": dpg_mmol_l,
-        "p50_mmhg": p50_mmhg,
-    }
-    for n, v in optional.items():
-        if v is not None:
-            arrs[n] = check_range(n, v)
+    arrs = {n: check_range(n, given[n]) for n in _SCALAR_NAMES}
+    for n in _OPTIONAL_NAMES:
+        if given[n] is not None:
+            arrs[n] = check_range(n, given[n])
     keys = list(arrs)
     bcast = np.broadcast_arrays(pb, *arrs.values())
     pb = bcast[0]
