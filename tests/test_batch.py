@@ -314,6 +314,17 @@ def test_plain_and_quoted_files_give_the_same_rows(tmp_path):
     assert b[-1].startswith("Q,80,40,7.4,0.95,12,0.4,37,,,,,,,")
 
 
+def test_tab_separated_file(tmp_path):
+    src = tmp_path / "gases.tsv"
+    src.write_text(
+        "case\tpao2_mmhg\tpaco2_mmhg\tph\tsao2\thb_g_dl\tfio2\ttemperature_c\n"
+        "t1\t80\t40\t7.40\t0.95\t12\t0.4\t37\n"
+    )
+    run_batch(src, tmp_path / "o.tsv", stream=io.StringIO())
+    (row,) = _rows(tmp_path / "o.tsv", delimiter="\t")
+    assert row["case"] == "t1" and row["pao2_fio2_ratio"] == "200" and row["error"] == ""
+
+
 def test_excel_byte_order_mark_is_skipped(tmp_path):
     src = tmp_path / "bom.csv"
     src.write_bytes(
