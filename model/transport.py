@@ -217,7 +217,7 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
 # equations, same Newton steps, same stopping rules) with math on floats, because a single
 # case through numpy costs far more in per-call overhead than in arithmetic.
 
-_SCALAR_NAMES = (
+_INPUT_NAMES = (
     "fio2",
     "paco2_mmhg",
     "rq",
@@ -269,7 +269,7 @@ def _scalar_inputs(kw: dict):
             if kw["barometric_pressure_mmhg"] is not None
             else "altitude_m",
         )
-        + _SCALAR_NAMES
+        + _INPUT_NAMES
         + _OPTIONAL_NAMES
     ):
         raw = kw[name]
@@ -576,7 +576,7 @@ def solve_transport(
         pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
     else:
         pb = check_range("barometric_pressure_mmhg", barometric_pressure_mmhg)
-    arrs = {n: check_range(n, given[n]) for n in _SCALAR_NAMES}
+    arrs = {n: check_range(n, given[n]) for n in _INPUT_NAMES}
     for n in _OPTIONAL_NAMES:
         if given[n] is not None:
             arrs[n] = check_range(n, given[n])
