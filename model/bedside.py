@@ -742,7 +742,7 @@ def derive(
         ~co_given & ci_given & ~np.isfinite(bsa),
         "cardiac index without height and weight: DO2I only, no DO2",
     )
-    ci = np.where(ci_given & ~co_given, m["cardiac_index_l_min_m2"], co / bsa)
+    ci = np.where(ci_given & ~(co_given & np.isfinite(bsa)), m["cardiac_index_l_min_m2"], co / bsa)
     _append(
         notes,
         co_given & ci_given,

@@ -189,6 +189,15 @@ def test_cardiac_index_path():
     assert abs(float(d["do2i_ml_min_m2"]) - 27.5 * float(d["cao2_ml_dl"])) <= 1e-9
 
 
+def test_cardiac_output_and_index_both_given():
+    # Cardiac output wins for DO2; without height and weight the measured index still
+    # gives DO2I (10 CI CaO2, by definition).
+    d = derive(**_gas(cardiac_output_l_min=5.0, cardiac_index_l_min_m2=2.5))
+    assert abs(float(d["do2_ml_min"]) - 50.0 * float(d["cao2_ml_dl"])) <= 1e-9
+    assert abs(float(d["do2i_ml_min_m2"]) - 25.0 * float(d["cao2_ml_dl"])) <= 1e-9
+    assert "cardiac output used" in str(d["notes"])
+
+
 def test_pco2_gap():
     # Venous minus arterial PCO2, by definition; exact.
     d = derive(**_gas(pvco2_mmhg=47.5))
