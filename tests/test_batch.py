@@ -10,6 +10,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from model import derive
 from model.batch import (
@@ -225,6 +227,30 @@ def test_a_row_derive_refuses_is_isolated(monkeypatch):
     assert errors.tolist() == ["", "pao2_mmhg = 77 refused for this test", ""]
     assert derived["pao2_fio2_ratio"][[0, 2]].tolist() == [200.0, 225.0]
     assert np.isnan(derived["pao2_fio2_ratio"][1]) and derived["notes"][1] == ""
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    cells=st.lists(st.text(max_size=8), min_size=1, max_size=6), column=st.sampled_from(REQUIRED)
+)
+def test_any_cell_text_never_aborts(cells, column):
+    # Whatever a cell holds, the batch reports it per row and never raises.
+    n = len(cells)
+    cols = {
+        "pao2_mmhg": ["80"] * n,
+        "paco2_mmhg": ["40"] * n,
+        "ph": ["7.4"] * n,
+        "sao2": ["0.95"] * n,
+        "hb_g_dl": ["12"] * n,
+        "fio2": ["0.4"] * n,
+        "temperature_c": ["37"] * n,
+    }
+    cols[column] = cells
+    derived, errors = derive_columns(cols)
+    ok = errors == ""
+    assert np.isfinite(derived["cao2_ml_dl"][ok]).all()
+    assert np.isnan(derived["cao2_ml_dl"][~ok]).all()
+    assert all(column in e for e in errors[~ok])
 
 
 def test_cohb_plus_methb_row_error():
