@@ -519,6 +519,15 @@ class FlagList(pn.viewable.Viewer):
         return self._pane
 
 
+# FileDownload draws its button as "default" whatever its colour: our own look for exports.
+DOWNLOAD_CSS = f"""
+.bk-btn {{ background: {ACCENT} !important; color: #ffffff !important;
+  border-color: {ACCENT} !important; font-weight: 600; }}
+.bk-btn:hover {{ background: #0b3d41 !important; }}
+.bk-btn:disabled {{ background: #9fb3b4 !important; border-color: #9fb3b4 !important; }}
+"""
+
+
 class ExportButtons(pn.viewable.Viewer):
     """Download the comparison as CSV or as a standalone HTML page."""
 
@@ -531,6 +540,7 @@ class ExportButtons(pn.viewable.Viewer):
             label="Comparison as CSV",
             color="primary",
             css_classes=["o2-asc-export-csv"],
+            stylesheets=[DOWNLOAD_CSS],
             width=220,
         )
         self._html = pn.widgets.FileDownload(
@@ -539,6 +549,7 @@ class ExportButtons(pn.viewable.Viewer):
             label="Comparison as an offline HTML page",
             color="primary",
             css_classes=["o2-asc-export-html"],
+            stylesheets=[DOWNLOAD_CSS],
             width=300,
         )
         ws.param.watch(self._update, ["compared"])
