@@ -461,7 +461,7 @@ class ScalarCurve:
     chain; use :func:`prepare_scalar_curve`.
     """
 
-    __slots__ = ("c", "has_co", "k", "name", "sco", "shift")
+    __slots__ = ("_last", "c", "has_co", "k", "name", "sco", "shift")
 
     def __init__(self, name, c):
         self.name, self.c = name, c
@@ -469,6 +469,7 @@ class ScalarCurve:
         self.k = _constants(name, c, self.shift, math)
         self.sco = c["fco"] / (1.0 - c["fmet"])
         self.has_co = self.sco > 0.0
+        self._last = (math.nan, math.nan)  # last (PO2, total saturation) of the CO solve
 
     def _total(self, p):
         try:
@@ -486,7 +487,10 @@ class ScalarCurve:
             return 0.0 if p == 0.0 else math.nan
         name, k, sco = self.name, self.k, self.sco
         lo, hi = sco, 1.0
-        u = sco + (1.0 - sco) * self._total(p)
+        last_p, u = self._last
+        # inner loops ask at nearby pressures: start there (Newton ends at the same root)
+        if not abs(p - last_p) <= 0.25 * p:
+            u = sco + (1.0 - sco) * self._total(p)
         if not lo < u < hi:
             u = 0.5 * (lo + hi)
         for _ in range(_HALDANE_ITERATIONS):
@@ -507,6 +511,7 @@ class ScalarCurve:
             u = new
             if not abs(step) > _HALDANE_TOL:
                 break
+        self._last = (p, u)
         return (u - sco) / (1.0 - sco)
 
     def slope(self, p):
