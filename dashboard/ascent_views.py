@@ -88,7 +88,7 @@ class StatusLine(pn.viewable.Viewer):
 
 
 class ScheduleLibrary(pn.viewable.Viewer):
-    """Open schedules (the examples or a file), choose which to compare, the thresholds."""
+    """Open schedules (the examples or a file) and choose which to compare."""
 
     def __init__(self, ws: AscentWorkspace, **params):
         super().__init__(**params)
@@ -138,7 +138,8 @@ class ScheduleLibrary(pn.viewable.Viewer):
 
     def _uploaded(self, event) -> None:
         if event.new:
-            later(self._ws.open_text, event.new, self._upload.filename or "uploaded.toml")
+            # the file name may arrive after the content: read it on the tick
+            later(lambda: self._ws.open_text(event.new, self._upload.filename or "uploaded.toml"))
 
     def _chosen(self, event) -> None:
         if self._syncing:
@@ -327,7 +328,7 @@ class ScheduleEditor(pn.viewable.Viewer):
 
     def _csv_uploaded(self, event) -> None:
         if event.new:
-            later(self._ws.import_csv, event.new, self._csv_in.filename or "days.csv")
+            later(lambda: self._ws.import_csv(event.new, self._csv_in.filename or "days.csv"))
 
     def _csv_text(self):
         return io.StringIO(self._ws.export_csv())
