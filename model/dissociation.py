@@ -264,11 +264,12 @@ def _total_inverse(name, s, c, shift):
 
 def _inverse_formula(name, s, c, shift, m):
     if name == "severinghaus1979":
-        # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1)
+        # Ellis 1989 [3]: exact Cardano root of x^3 + 150 x = 23400/(1/S - 1),
+        # x = A - B with A = cbrt(b + r), B = cbrt(r - b) = 50 / A since (r + b)(r - b) = 50^3
+        # (one cube root fewer, and no cancellation in r - b as S -> 1)
         bb = 11700.0 * s / (1.0 - s)
-        root = m.sqrt(bb**2 + 50.0**3)
-        x = m.cbrt(bb + root) - m.cbrt(root - bb)
-        return x * m.exp(shift)
+        a = m.cbrt(bb + m.sqrt(bb * bb + 50.0**3))
+        return (a - 50.0 / a) * m.exp(shift)
     if name == "hill1910":
         return STANDARD_P50_MMHG["hill1910"] * m.exp(shift) * (s / (1.0 - s)) ** (1.0 / HILL_N)
     y = m.log(s / (1.0 - s))
