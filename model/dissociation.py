@@ -449,8 +449,7 @@ class PreparedCurve:
                 po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
         else:
             po2 = _total_inverse(self.name, s, self.c, self.shift)
-        ends = (s == 0) | (s == 1)
-        if np.any(ends):
+        if np.any(s == 0) or np.any(s == 1):
             po2 = np.where(s == 0, 0.0, np.where(s == 1, np.inf, po2))
         return po2
 
@@ -637,7 +636,7 @@ def po2_from_saturation(
         ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
     )
     s, c = _broadcast(so2, c)
-    if np.any((s < 0) | (s > 1)):
+    if np.any(s < 0) or np.any(s > 1):
         bad = s[(s < 0) | (s > 1)].ravel()[0]
         raise ValueError(f"so2 = {bad:g} is outside the allowed range 0-1")
     return PreparedCurve(name, c).inverse(s)
