@@ -260,9 +260,13 @@ class LectureState(param.Parameterized):
             return self.case.pressure_from_display(value)
         return value / 100.0 if f.percent else value
 
-    def factor_control(self) -> dict:
-        """The factor's slider in display units: label, unit, lo, hi, step, value, reference."""
-        f = self.current_factor
+    def factor_control(self, key: str | None = None) -> dict:
+        """A factor's slider in display units: label, unit, lo, hi, step, value, reference.
+
+        ``key`` defaults to the current factor; another factor shows its reference value.
+        """
+        f = FACTORS[key] if key else self.current_factor
+        current = f.key == self.factor
         unit = self.pressure_unit if f.unit == "pressure" else f.unit
         step = f.step
         if f.unit == "pressure" and self.pressure_unit == "kPa":
@@ -275,7 +279,7 @@ class LectureState(param.Parameterized):
             "lo": self._to_shown(f, f.lo),
             "hi": self._to_shown(f, f.hi),
             "step": step,
-            "value": self._to_shown(f, self.factor_value),
+            "value": self._to_shown(f, self.factor_value if current else f.reference),
             "reference": self._to_shown(f, f.reference),
             "choices": f.choices,
         }

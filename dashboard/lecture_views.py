@@ -70,7 +70,7 @@ for (const k of keys) {
 }
 const t0 = performance.now();
 function tick(t) {
-  const u = Math.min(1, (t - t0) / dur);
+  const u = Math.max(0, Math.min(1, (t - t0) / dur));  // a frame may be stamped before t0
   const e = u < 0.5 ? 4 * u * u * u : 1 - Math.pow(-2 * u + 2, 3) / 2;
   for (const k of keys) {
     const a = start[k], b = to[k], out = now[k];
@@ -343,7 +343,7 @@ class KeyCatcher(pn.reactive.ReactiveHTML):
     """Turns a presenter's keys into ``action`` + ``presses`` (Python watches ``presses``).
 
     ArrowRight, PageDown and Space mean next; ArrowLeft and PageUp mean back. Keys typed in
-    an input, a text area or a select are left alone.
+    an input, a text area or a select, and keys on a focused slider, are left alone.
     """
 
     action = param.String(default="")
@@ -356,7 +356,9 @@ if (window._o2_keys) { document.removeEventListener("keydown", window._o2_keys);
 window._o2_keys = (e) => {
   const el = e.composedPath ? e.composedPath()[0] : e.target;
   const tag = el && el.tagName ? el.tagName.toUpperCase() : "";
-  if (tag === "INPUT" || tag === "TEXTAREA" || tag === "SELECT" || (el && el.isContentEditable)) {
+  const typing = tag === "INPUT" || tag === "TEXTAREA" || tag === "SELECT";
+  const sliding = el && el.getAttribute && el.getAttribute("role") === "slider";
+  if (typing || sliding || (el && el.isContentEditable)) {
     return;
   }
   if (e.altKey || e.ctrlKey || e.metaKey) { return; }
@@ -403,6 +405,8 @@ class LecturePlot(pn.viewable.Viewer):
             )
         self.figure = build_figure(self._shown, state.frame, sizing_mode="stretch_both")
         self.figure.name = "o2-lecture-figure"
+        # The targets are drawn by nothing; holding them here puts them in the document.
+        self.figure.tags = list(self._targets.values())
         self._pane = pn.pane.Bokeh(
             self.figure, sizing_mode="stretch_both", min_height=360, css_classes=["o2-lecture-plot"]
         )
@@ -469,17 +473,24 @@ class LectureControls(pn.viewable.Viewer):
             css_classes=["o2-lecture-factor"],
             stylesheets=css,
         )
-        self._slider = pn.widgets.FloatSlider(
-            name="",
-            start=0.0,
-            end=1.0,
-            value=0.0,
-            step=0.01,
-            width=300,
-            css_classes=["o2-lecture-value"],
-            stylesheets=css,
-            show_value=True,
-        )
+        # One slider per factor: a slider whose range is changed under the pointer can
+        # send a value clamped to its old range.
+        self._sliders = {}
+        for key, f in FACTORS.items():
+            if f.choices:
+                continue
+            c = state.factor_control(key)
+            self._sliders[key] = pn.widgets.FloatSlider(
+                name=self._slider_name(c),
+                start=c["lo"],
+                end=c["hi"],
+                value=c["value"],
+                step=c["step"],
+                width=300,
+                css_classes=["o2-lecture-value", f"o2-lecture-value-{key}"],
+                stylesheets=css,
+                visible=False,
+            )
         self._choice = pn.widgets.RadioButtonGroup(
             options=["adult", "fetal"],
             value="adult",
@@ -541,7 +552,8 @@ class LectureControls(pn.viewable.Viewer):
         self._lesson.param.watch(lambda e: self._quiet(state.choose_lesson, e.new), "value")
         self._mode.param.watch(self._picked_mode, "value")
         self._factor.param.watch(lambda e: self._quiet(state.choose_factor, e.new), "value")
-        self._slider.param.watch(lambda e: self._quiet(state.set_factor_value, e.new), "value")
+        for slider in self._sliders.values():
+            slider.param.watch(lambda e: self._quiet(state.set_factor_value, e.new), "value")
         self._choice.param.watch(
             lambda e: self._quiet(state.set_factor_value, 1.0 if e.new == "fetal" else 0.0),
             "value",
@@ -554,7 +566,9 @@ class LectureControls(pn.viewable.Viewer):
         state.param.watch(self._refresh, ["frame", "mode", "message"])
 
         self._lesson_bar = pn.Row(self._back, self._index, self._next, self._lesson, margin=0)
-        self._factor_bar = pn.Row(self._factor, self._slider, self._choice, self._tissue, margin=0)
+        self._factor_bar = pn.Row(
+            self._factor, *self._sliders.values(), self._choice, self._tissue, margin=0
+        )
         self.bar = pn.FlexBox(
             self._lesson_bar,
             self._factor_bar,
@@ -569,6 +583,10 @@ class LectureControls(pn.viewable.Viewer):
             self._mode, pn.Spacer(width=24), self._unit, self._png, self._html, margin=(2, 8)
         )
         self._refresh()
+
+    @staticmethod
+    def _slider_name(c: dict) -> str:
+        return f"{c['label']} ({c['unit']})" if c["unit"] else c["label"]
 
     # ---------------------------------------------------------------- events
     def _quiet(self, fn, *args) -> None:
@@ -622,14 +640,14 @@ class LectureControls(pn.viewable.Viewer):
                 c = st.factor_control()
                 self._factor.value = st.factor
                 two_state = bool(c["choices"])
-                self._slider.visible = not two_state
+                for key, slider in self._sliders.items():
+                    slider.visible = key == st.factor
                 self._choice.visible = two_state
                 if two_state:
                     self._choice.value = "fetal" if c["value"] >= 0.5 else "adult"
                 else:
-                    unit = f" ({c['unit']})" if c["unit"] else ""
-                    self._slider.param.update(
-                        name=f"{c['label']}{unit}",
+                    self._sliders[st.factor].param.update(
+                        name=self._slider_name(c),
                         start=c["lo"],
                         end=c["hi"],
                         step=c["step"],

@@ -1,0 +1,385 @@
+"""Lecture mode in headless Chromium: keys, buttons, index, address, motion, exports, offline.
+
+Skipped only on a machine without Chromium and without CI; under CI a missing browser fails.
+"""
+
+import json
+import logging
+import os
+import re
+import socket
+import struct
+import time
+import urllib.request
+from pathlib import Path
+from urllib.parse import urlsplit
+
+import panel as pn
+import pytest
+from playwright.sync_api import expect, sync_playwright
+
+from dashboard.app import SCREENS
+from dashboard.lecture_views import GLIDE_MS
+from dashboard.views import CAUTION
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
+ARGS = [
+    "--headless=new",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
+LOCAL_HOSTS = {"127.0.0.1", "localhost"}
+
+if not Path(CHROMIUM).exists():
+    if os.environ.get("CI"):
+        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
+    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+
+
+@pytest.fixture(scope="module")
+def base_url():
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    server = pn.serve(
+        {"/lecture": SCREENS["/lecture"]},
+        address="127.0.0.1",
+        port=port,
+        show=False,
+        threaded=True,
+        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
+    )
+    url = f"http://127.0.0.1:{port}/lecture"
+    deadline = time.monotonic() + 20
+    while True:
+        try:
+            urllib.request.urlopen(url, timeout=5).close()
+            break
+        except OSError:
+            if time.monotonic() > deadline:
+                raise
+            time.sleep(0.1)
+    yield url
+    server.stop()
+    server.join(timeout=5)
+
+
+@pytest.fixture(scope="module")
+def browser():
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
+        yield b
+        b.close()
+
+
+class _ErrorLog(logging.Handler):
+    def __init__(self):
+        super().__init__(level=logging.ERROR)
+        self.records = []
+
+    def emit(self, record):
+        self.records.append(self.format(record))
+
+
+@pytest.fixture
+def context(browser):
+    server_errors = _ErrorLog()
+    logging.getLogger().addHandler(server_errors)
+    ctx = browser.new_context(viewport={"width": 1600, "height": 900}, accept_downloads=True)
+    errors, requests = [], []
+    ctx.on("weberror", lambda e: errors.append(str(e.error)))
+    ctx.on("request", lambda r: requests.append(r.url))
+    ctx.requests = requests
+    yield ctx
+    ctx.close()
+    logging.getLogger().removeHandler(server_errors)
+    assert not errors, errors
+    assert not server_errors.records, server_errors.records
+
+
+def open_lecture(ctx, url):
+    page = ctx.new_page()
+    page.goto(url)
+    page.wait_for_function(
+        "() => window.Bokeh && Bokeh.documents.length"
+        " && Bokeh.documents[0].get_model_by_name('o2-lecture-figure') !== null"
+        " && Bokeh.index.find_one(Bokeh.documents[0].get_model_by_name('o2-lecture-figure'))",
+        timeout=15000,
+    )
+    return page
+
+
+def title(page) -> str:
+    return page.evaluate(
+        "() => Bokeh.documents[0].get_model_by_name('o2-lecture-figure').title.text"
+    )
+
+
+def wait_title(page, pattern: str, timeout: float = 10.0) -> str:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        text = title(page)
+        if re.search(pattern, text):
+            return text
+        time.sleep(0.05)
+    raise AssertionError(f"plot title {title(page)!r} never matched {pattern!r}")
+
+
+def address(page) -> str:
+    return page.evaluate("location.href")  # page.url lags behind history.pushState
+
+
+def wait_address(page, pattern: str, timeout: float = 10.0) -> str:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if re.search(pattern, address(page)):
+            return address(page)
+        time.sleep(0.05)
+    raise AssertionError(f"address {address(page)!r} never matched {pattern!r}")
+
+
+def readout(page) -> list[str]:
+    return page.evaluate(
+        "() => Array.from(Bokeh.documents[0].get_model_by_name('o2-readout-target').data.text)"
+    )
+
+
+def wait_readout(page, ok, timeout: float = 10.0) -> list[str]:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        text = readout(page)
+        if ok(text):
+            return text
+        time.sleep(0.05)
+    raise AssertionError(f"readout stayed {readout(page)!r}")
+
+
+def test_presenter_keys_step_forward_and_back(context, base_url):
+    page = open_lecture(context, base_url)
+    wait_title(page, r"^Step 1 of 7 · Resting adult")
+    for key, expected in [
+        ("ArrowRight", 2),
+        ("PageDown", 3),
+        (" ", 4),
+        ("ArrowLeft", 3),
+        ("PageUp", 2),
+    ]:
+        page.keyboard.press(key)
+        wait_title(page, rf"^Step {expected} of 7")
+        wait_address(page, rf"lesson=rest-to-altitude&step={expected}$")
+    expect(page.locator(".o2-lecture-caption")).to_contain_text("Working muscle")
+    # Back at the first step, Back does nothing (and the button is disabled).
+    page.keyboard.press("PageUp")
+    wait_title(page, r"^Step 1 of 7")
+    page.keyboard.press("ArrowLeft")
+    time.sleep(0.3)
+    assert title(page).startswith("Step 1 of 7")
+    expect(page.locator(".o2-lecture-back button")).to_be_disabled()
+
+
+def test_keys_typed_into_a_field_are_not_steps(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=2")
+    wait_title(page, r"^Step 2 of 7")
+    page.evaluate(
+        "() => { const i = document.createElement('input'); i.id = 'typing';"
+        " document.body.appendChild(i); }"
+    )
+    page.locator("#typing").focus()
+    page.keyboard.press("ArrowRight")
+    page.keyboard.press(" ")
+    time.sleep(0.4)
+    assert title(page).startswith("Step 2 of 7")
+
+
+def test_buttons_and_index_jump(context, base_url):
+    page = open_lecture(context, base_url)
+    page.locator(".o2-lecture-next button").click()
+    wait_title(page, r"^Step 2 of 7 · Hard exercise")
+    page.locator(".o2-lecture-index select").select_option(label="6. Anaemia at sea level")
+    wait_title(page, r"^Step 6 of 7 · Anaemia")
+    wait_address(page, r"step=6$")
+    page.locator(".o2-lecture-back button").click()
+    wait_title(page, r"^Step 5 of 7")
+
+
+def test_address_restores_lesson_step_and_factor(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=4")
+    wait_title(page, r"^Step 4 of 7 · First day at 4500 m")
+    expect(page.locator(".o2-lecture-index select")).to_have_value("4. First day at 4500 m")
+
+    page = open_lecture(
+        context, base_url + "?factor=temperature_c&temperature_c=40&pressure_unit=kPa"
+    )
+    wait_title(page, r"^One factor · Temperature 40\.0 °C")
+    text = readout(page)
+    assert re.match(r"P50 \d\.\d\d kPa:  \+0\.\d\d kPa  vs reference", text[0]), text
+    assert re.match(r"O2 unloaded at 5\.3 kPa:  \d+ mL/L,  \+\d+\.\d vs reference", text[1]), text
+    # Moving the factor rewrites the address; opening that address gives the same view.
+    page.locator(".o2-lecture-factor button", has_text="2,3-DPG").click()
+    wait_title(page, r"^One factor · 2,3-DPG 5\.0 mmol/L")
+    handle = page.locator(".o2-lecture-value-dpg_mmol_l .noUi-handle")
+    for _ in range(12):
+        handle.press("ArrowRight")
+    wait_title(page, r"2,3-DPG 6\.2 mmol/L")
+    shared = wait_address(page, r"factor=dpg_mmol_l&dpg_mmol_l=6\.2")
+    assert "pressure_unit=kPa" in shared
+    numbers = readout(page)
+    again = open_lecture(context, shared)
+    wait_title(again, r"2,3-DPG 6\.2 mmol/L")
+    assert readout(again) == numbers
+
+
+def test_bad_address_values_fall_back_with_a_message(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=99&colour=red")
+    wait_title(page, r"^Step 1 of 7")
+    notice = page.locator(".o2-url-msg")
+    expect(notice).to_be_visible()
+    expect(notice).to_contain_text("step = '99' is outside the allowed range 1–7; step 1 is shown")
+    expect(notice).to_contain_text("'colour' is not a setting of the lecture page; ignored")
+    page = open_lecture(context, base_url + "?factor=ph&ph=9.5")
+    wait_title(page, r"^One factor · pH 7\.40")
+    expect(page.locator(".o2-url-msg")).to_contain_text(
+        "pH: ph = '9.5' is outside the allowed range 6.9–7.7; the reference 7.4 is used"
+    )
+
+
+def test_each_factor_moves_alone_and_writes_its_effect(context, base_url):
+    page = open_lecture(context, base_url + "?factor=ph")
+    wait_title(page, r"pH 7\.40")
+    assert readout(page)[0] == "P50 26.9 mmHg:  0.0 mmHg  vs reference"
+    expected = {  # factor button -> (its input, sign of the P50 shift at the slider's top)
+        "pH": ("ph", "−"),
+        "PCO2": ("paco2_mmhg", "+"),
+        "Temperature": ("temperature_c", "+"),
+        "2,3-DPG": ("dpg_mmol_l", "+"),
+        "CO": ("cohb_fraction", "−"),
+    }
+    for label, (key, sign) in expected.items():
+        page.locator(
+            ".o2-lecture-factor button", has_text=re.compile(rf"^{re.escape(label)}$")
+        ).click()
+        wait_title(page, rf"· {re.escape(label)} ")
+        wait_readout(page, lambda text: ":  0.0 mmHg" in text[0])  # at its reference value
+        page.locator(f".o2-lecture-value-{key} .noUi-handle").press("End")
+        text = wait_readout(page, lambda text: ":  0.0 mmHg" not in text[0])
+        assert text[0].split(":  ")[1].startswith(sign), (label, text)
+    page.locator(".o2-lecture-factor button", has_text="Fetal Hb").click()
+    page.locator(".o2-lecture-choice button", has_text="fetal").click()
+    wait_title(page, r"Fetal Hb: fetal blood")
+    assert readout(page)[0].startswith("P50 19.0 mmHg:  −7.9 mmHg")
+
+
+def test_curves_glide_between_computed_states(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=1")
+    wait_title(page, r"^Step 1 of 7")
+    time.sleep(0.6)
+    page.evaluate(
+        """() => {
+        const shown = Bokeh.documents[0].get_model_by_name('o2-curves-shown');
+        window._o2_samples = [];
+        const t0 = performance.now();
+        function sample(t) {
+          window._o2_samples.push([t, shown.data.current[60], shown.data.x[60]]);
+          if (t - t0 < 2500) requestAnimationFrame(sample);
+        }
+        requestAnimationFrame(sample);
+    }"""
+    )
+    page.keyboard.press("ArrowRight")  # to hard exercise: the curve moves right
+    wait_title(page, r"^Step 2 of 7")
+    time.sleep(2.7)
+    samples = page.evaluate("() => window._o2_samples")
+    target = page.evaluate(
+        "() => Bokeh.documents[0].get_model_by_name('o2-curves-target').data.current[60]"
+    )
+    first = samples[0][1]
+    assert target < first - 3  # at PO2 30 mmHg the right-shifted curve is lower
+    assert samples[-1][1] == pytest.approx(target, abs=1e-9)  # ends on the model's numbers
+    moving = [(t, v) for t, v, _ in samples if v != first and abs(v - target) > 1e-9]
+    between = [v for _, v in moving if target < v < first]
+    # Frames strictly in between: a glide, not a jump (headless Chromium on a busy machine
+    # draws about 15-20 frames a second, so a 350 ms glide shows at least 3).
+    assert len(between) >= 3, samples
+    start = next(t for t, v, _ in samples if v != first)
+    end = next(t for t, v, _ in samples if abs(v - target) <= 1e-9)
+    # The tween is timed by requestAnimationFrame: about GLIDE_MS, never a jump.
+    assert 0.6 * GLIDE_MS <= end - start <= 2.5 * GLIDE_MS, (start, end)
+    assert {x for _, _, x in samples} == {samples[0][2]}  # the PO2 grid itself does not move
+
+
+def test_png_export_is_a_png_of_the_plot(context, base_url, tmp_path):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=3")
+    wait_title(page, r"^Step 3 of 7")
+    with page.expect_download() as info:
+        page.locator(".o2-lecture-png button").click()
+    path = tmp_path / "view.png"
+    info.value.save_as(path)
+    assert info.value.suggested_filename == "o2transit-lecture.png"
+    data = path.read_bytes()
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    width, height = struct.unpack(">II", data[16:24])
+    box = page.evaluate(
+        "() => { const f = Bokeh.documents[0].get_model_by_name('o2-lecture-figure');"
+        " const b = Bokeh.index.find_one(f).bbox; return {width: b.width, height: b.height}; }"
+    )
+    ratio = page.evaluate("window.devicePixelRatio")
+    assert abs(width - box["width"] * ratio) <= 4 and abs(height - box["height"] * ratio) <= 4
+    assert width >= 1200 and height >= 400
+    assert len(data) > 20_000  # a drawn plot, not an empty canvas
+
+
+def test_html_export_works_offline_and_holds_the_data(context, browser, base_url, tmp_path):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=6")
+    wait_title(page, r"^Step 6 of 7 · Anaemia")
+    numbers = readout(page)
+    with page.expect_download() as info:
+        page.locator(".o2-lecture-html button").click()
+    path = tmp_path / "view.html"
+    info.value.save_as(path)
+    text = path.read_text(encoding="utf-8")
+    # No tag loads anything from the network (Bokeh's own bundle names a MathJax address in
+    # code that runs only for math text; the offline page load below shows it is not used).
+    assert not re.search(r"""<(script|link|img|iframe)\b[^>]*(src|href)\s*=\s*["']?https?:""", text)
+    (doc_json,) = re.findall(
+        r'<script type="application/json"[^>]*>(.*?)</script>', text, re.DOTALL
+    )
+    doc = json.dumps(json.loads(doc_json), ensure_ascii=False)
+    for needle in ("Anaemia at sea level", numbers[0], numbers[1], CAUTION[:40]):
+        assert needle in doc, needle
+    assert '"shape":[300]' in doc.replace(" ", "")  # the curves themselves, 300 points each
+
+    offline = browser.new_context(offline=True)
+    try:
+        requests, errors = [], []
+        offline.on("request", lambda r: requests.append(r.url))
+        offline.on("weberror", lambda e: errors.append(str(e.error)))
+        view = offline.new_page()
+        view.goto(path.as_uri())
+        view.wait_for_function(
+            "() => window.Bokeh && Bokeh.documents.length && Bokeh.index"
+            " && document.querySelectorAll('.bk-Figure, .bk-Column').length > 0",
+            timeout=15000,
+        )
+        shown = view.evaluate(
+            "() => Array.from(Bokeh.documents[0].all_models)"
+            ".filter((m) => m.type === 'LabelSet' || m.data !== undefined).length"
+        )
+        assert shown > 0
+        assert view.evaluate("() => Bokeh.documents[0].roots().length") == 1
+        assert [u for u in requests if not u.startswith("file:")] == []
+        assert errors == []
+    finally:
+        offline.close()
+
+
+def test_page_asks_only_the_local_server(context, base_url):
+    page = open_lecture(context, base_url)
+    wait_title(page, r"^Step 1")
+    hosts = {urlsplit(u).hostname for u in context.requests if urlsplit(u).scheme != "blob"}
+    assert hosts <= LOCAL_HOSTS, hosts
+    expect(page.locator(".o2-nav")).to_contain_text("Lecture")
