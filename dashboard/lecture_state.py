@@ -57,12 +57,15 @@ class Factor:
     percent: bool = False  # shown ×100 with a % sign
     choices: tuple[tuple[str, float], ...] = ()  # a two-state factor instead of a range
 
-    def inputs(self, value: float) -> dict:
-        """CaseState inputs (scenario key names) that move this factor alone."""
+    def inputs(self, value: float, base_excess_mmol_l: float = 0.0) -> dict:
+        """CaseState inputs (scenario key names) that move this factor alone.
+
+        PCO2 moves at a constant base excess (the reference case's), so the pH follows it.
+        """
         if self.key == "fetal":
             return {"p50_mmhg": FETAL_P50_MMHG} if value >= 0.5 else {}
         if self.key == "paco2_mmhg":
-            return {"paco2_mmhg": value, "base_excess_mmol_l": 0.0}
+            return {"paco2_mmhg": value, "base_excess_mmol_l": base_excess_mmol_l}
         return {self.key: value}
 
 
@@ -87,7 +90,7 @@ FACTORS: dict[str, Factor] = {
             20.0,
             80.0,
             1.0,
-            "Only PCO2 moves, at a constant base excess of 0, so the pH follows the CO2. In "
+            "Only PCO2 moves, at the resting base excess, so the pH follows the CO2. In "
             "the lung more CO2 also leaves less room for O2 in alveolar gas: the arterial "
             "point falls.",
         ),
@@ -334,7 +337,14 @@ class LectureState(param.Parameterized):
             digits = 2 if c["step"] < 0.1 else (1 if c["step"] < 1 else 0)
             unit = f" {c['unit']}" if c["unit"] else ""
             heading = f"{f.label} {c['value']:.{digits}f}{unit}"
-        return f.inputs(self.factor_value), self.tissue_po2_mmhg, heading, f.caption, "One factor"
+        be = _p(self.reference.result.arterial.base_excess_mmol_l)
+        return (
+            f.inputs(self.factor_value, be),
+            self.tissue_po2_mmhg,
+            heading,
+            f.caption,
+            "One factor",
+        )
 
     @param.depends(
         "mode",

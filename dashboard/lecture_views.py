@@ -443,17 +443,16 @@ class LectureControls(pn.viewable.Viewer):
             value=state.mode,
             css_classes=["o2-lecture-mode"],
             stylesheets=[TOOL_CSS],
-            button_type="default",
             disabled=not state.lessons,
         )
         self._back = pn.widgets.Button(
-            name="◀ Back", css_classes=["o2-lecture-back"], stylesheets=css, width=150
+            label="◀ Back", css_classes=["o2-lecture-back"], stylesheets=css, width=150
         )
         self._next = pn.widgets.Button(
-            name="Next ▶",
+            label="Next ▶",
             css_classes=["o2-lecture-next"],
             stylesheets=css,
-            button_type="primary",
+            color="primary",
             width=150,
         )
         self._index = pn.widgets.Select(
@@ -481,7 +480,7 @@ class LectureControls(pn.viewable.Viewer):
                 continue
             c = state.factor_control(key)
             self._sliders[key] = pn.widgets.FloatSlider(
-                name=self._slider_name(c),
+                label=self._slider_name(c),
                 start=c["lo"],
                 end=c["hi"],
                 value=c["value"],
@@ -498,7 +497,7 @@ class LectureControls(pn.viewable.Viewer):
             stylesheets=css,
         )
         self._tissue = pn.widgets.FloatSlider(
-            name="Tissue PO2",
+            label="Tissue PO2",
             start=5.0,
             end=100.0,
             value=state.tissue_po2_mmhg,
@@ -514,7 +513,7 @@ class LectureControls(pn.viewable.Viewer):
             stylesheets=[TOOL_CSS],
         )
         self._png = pn.widgets.Button(
-            name="Save PNG", css_classes=["o2-lecture-png"], stylesheets=[TOOL_CSS], width=110
+            label="Save PNG", css_classes=["o2-lecture-png"], stylesheets=[TOOL_CSS], width=110
         )
         self._png.js_on_click(
             args={"fig": plot.figure, "name": "o2transit-lecture.png"}, code=_PNG_JS
@@ -523,7 +522,6 @@ class LectureControls(pn.viewable.Viewer):
             callback=self._html_file,
             filename="o2transit-lecture.html",
             label="Save HTML",
-            button_type="default",
             embed=False,
             css_classes=["o2-lecture-html"],
             stylesheets=[TOOL_CSS],
@@ -647,7 +645,7 @@ class LectureControls(pn.viewable.Viewer):
                     self._choice.value = "fetal" if c["value"] >= 0.5 else "adult"
                 else:
                     self._sliders[st.factor].param.update(
-                        name=self._slider_name(c),
+                        label=self._slider_name(c),
                         start=c["lo"],
                         end=c["hi"],
                         step=c["step"],
@@ -656,7 +654,7 @@ class LectureControls(pn.viewable.Viewer):
                 lo, hi = (st.case.pressure_to_display(v) for v in (5.0, 100.0))
                 step = 0.1 if st.pressure_unit == "kPa" else 1.0
                 self._tissue.param.update(
-                    name=f"Tissue PO2 ({st.pressure_unit})",
+                    label=f"Tissue PO2 ({st.pressure_unit})",
                     start=lo,
                     end=hi,
                     step=step,
