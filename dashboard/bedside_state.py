@@ -327,7 +327,7 @@ class BedsideState(param.Parameterized):
             raise KeyError(key)
         draft = dict(self.draft)
         if display_value is None or (
-            isinstance(display_value, float) and math.isnan(display_value)
+            isinstance(display_value, float) and not math.isfinite(display_value)
         ):
             draft.pop(key, None)
         else:
@@ -830,6 +830,9 @@ class BedsideState(param.Parameterized):
         return True
 
     # ------------------------------------------------------------------ cases on disk
+    def case_dir_path(self) -> Path:
+        return Path(self.case_dir).expanduser()
+
     @property
     def identifier_warning(self) -> str:
         return casebook.IDENTIFIER_WARNING

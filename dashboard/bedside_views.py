@@ -226,7 +226,10 @@ class MeasuredEntry(pn.viewable.Viewer):
         try:
             for key, widget in self._inputs.items():
                 widget.name = st.display_label(key)
-                widget.value = st.draft_display(key)
+                shown = st.draft_display(key)
+                # Panel sends None as NaN (shown as "NaN"); -inf is its own spelling of
+                # an empty box.
+                widget.value = float("-inf") if shown is None else shown
         finally:
             self._syncing = False
 
@@ -611,6 +614,7 @@ class WhatIfTable(pn.viewable.Viewer):
             self._message,
             sizing_mode="stretch_width",
         )
+        self._order: tuple[str, ...] = ()
         state.param.watch(self._update, ["lever_table", "lever_message", "applied_lever"])
         state.param.watch(self._refresh_hb, ["target_hb_g_dl"])
         state.case.param.watch(self._refresh_hb, ["hb_unit"])
@@ -665,12 +669,13 @@ class WhatIfTable(pn.viewable.Viewer):
                 body.append(f"<tr class='{cls}' data-key='{st.lever_table[i].key}'>{cells}</tr>")
             self._table.object = f"<table class='o2t o2-bs-lv'><tr>{th}</tr>{''.join(body)}</table>"
         choices = st.lever_choices()
-        current = self._pick.value
-        self._pick.options = choices
-        if current in choices.values():
-            self._pick.value = current
-        elif choices:
-            self._pick.value = next(iter(choices.values()))
+        order = tuple(choices.values())
+        if order != self._order:
+            # A new ranking: the picker lists it in rank order with the best chosen.
+            self._order = order
+            self._pick.options = choices
+            if order:
+                self._pick.value = order[0]
         self._apply.disabled = not choices
         bad = st.lever_message.startswith(("What-ifs not", "Transfusion target", "Case not"))
         _show(self._message, st.lever_message, ERROR_STYLE if bad else OK_STYLE)

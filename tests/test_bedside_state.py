@@ -178,3 +178,97 @@ def test_summary_page_standalone(st):
     outside_library = page.replace(library, "")
     assert "http://" not in outside_library and "https://" not in outside_library
     assert "Bokeh.embed.embed_items" in outside_library
+
+
+def test_what_ifs_ranked_resorted_and_applied_with_fitted_baseline(st):
+    entered(st)
+    st.fit_measured()
+    assert st.lever_table, st.lever_message
+    st.rank_by = "pao2"
+    assert st.lever_table[0].key == "fio2_1.00"
+    assert st.lever_rows()[0][1] == "FiO2 0.60 → 1.00"
+    assert st.apply_lever("fio2_1.00"), st.lever_message
+    assert st.case.fio2 == 1.0
+    base = st.case.baseline
+    assert float(base.fio2) == pytest.approx(0.6)
+    assert float(base.shunt_fraction) == pytest.approx(st.fit.fitted["shunt_fraction"])
+    # A second what-if is compared against the fitted case, not the first what-if.
+    assert st.apply_lever("transfusion")
+    assert float(st.case.baseline.fio2) == pytest.approx(0.6)
+    assert st.case.hb_g_dl == pytest.approx(10.0) and st.case.fio2 == pytest.approx(0.6)
+
+
+def test_what_if_settings_rerank_and_refusals(st):
+    entered(st)
+    st.fit_measured()
+    st.stored_blood = True
+    transfusion = next(o for o in st.lever_table if o.key == "transfusion")
+    assert "2,3-DPG" in transfusion.label
+    st.case.hb_unit = "g/L"
+    assert not st.set_target_hb_display(300.0)
+    assert "300 g/L is outside the allowed range 50–180 g/L" in st.lever_message
+    assert st.set_target_hb_display(120.0) and st.target_hb_g_dl == pytest.approx(12.0)
+    st.shunt_change = 0.0
+    assert all(o.key != "shunt" for o in st.lever_table)
+
+
+def test_save_refuses_silent_overwrite_then_overwrites(st):
+    entered(st)
+    st.fit_measured()
+    st.case_label = "bed 4 night"
+    st.notes = "first"
+    assert st.save(), st.case_message
+    path = st.saved_cases[0].path
+    assert path.parent == st.case_dir_path() and "Saved bed-4-night.toml" in st.case_message
+    st.notes = "second"
+    assert not st.save()
+    assert st.overwrite_offer == str(path) and "already exists" in st.case_message
+    assert "first" in path.read_text(encoding="utf-8")
+    assert st.save(overwrite=True)
+    assert "second" in path.read_text(encoding="utf-8") and st.overwrite_offer == ""
+
+
+def test_save_refuses_identifier_like_label(st):
+    entered(st)
+    st.case_label = "MRN 12345678"
+    assert not st.save()
+    assert st.case_message.startswith("Not saved") and "record number" in st.case_message
+    assert st.saved_cases == []
+
+
+def test_open_restores_entry_fit_and_notes_and_lists_damaged_files(st):
+    entered(st)
+    st.fit_measured()
+    st.case_label, st.notes = "bed 4 night", "Prone from 02:00."
+    st.save()
+    (st.case_dir_path() / "broken.toml").write_text("[case\n", encoding="utf-8")
+    other = BedsideState(CaseState(), case_dir=st.case_dir)
+    assert [r.label for r in other.saved_cases] == ["bed 4 night"]
+    assert len(other.case_problems) == 1 and "broken.toml" in other.case_problems[0]
+    assert other.open(other.saved_cases[0].path), other.case_message
+    assert other.draft["pao2_mmhg"] == 68.0 and other.notes == "Prone from 02:00."
+    assert other.measured == st.measured
+    assert other.fit is not None and "same as saved" in other.case_message
+    assert not other.open(st.case_dir_path() / "broken.toml")
+    assert other.case_message.startswith("Not opened") and "not valid TOML" in other.case_message
+
+
+def test_screen_renders_and_follows_state(st):
+    from bokeh.document import Document
+
+    from dashboard.bedside_views import BedsideScreen, DerivedTable, MeasuredEntry, WhatIfTable
+
+    entry, table, levers = MeasuredEntry(st), DerivedTable(st), WhatIfTable(st)
+    assert BedsideScreen(st).__panel__().get_root(Document()) is not None
+    st.fill_example()
+    assert entry._inputs["pao2_mmhg"].value == 68.0
+    st.clear_entry()
+    assert entry._inputs["pao2_mmhg"].value == float("-inf")  # Panel's empty box
+    entered(st)
+    assert "PaO2/FiO2" in table._pane.object and "Berggren" in table._pane.object
+    st.fit_measured()
+    assert levers._pick.value == st.lever_table[0].key
+    st.rank_by = "pao2"
+    assert levers._pick.value == "fio2_1.00"
+    st.calculate()  # a new calculation empties the table: the picker must cope
+    assert levers._pick.options == {}
