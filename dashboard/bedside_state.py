@@ -128,6 +128,20 @@ def _signed(value: float, digits: int) -> str:
     return f"{value:+.{digits}f}".replace("-", "−")
 
 
+def _tidy(inputs: dict) -> dict:
+    """Fitted inputs rounded for reading on the Model inputs tab (PaCO2 48.91, not
+    48.905514; shunt 0.3483): at most 0.005 mmHg or 5e-5 in a fraction, far below what
+    any measurement resolves."""
+    out = {}
+    for k, v in inputs.items():
+        if isinstance(v, (float, np.floating)) and not isinstance(v, bool):
+            v = float(v)
+            out[k] = round(v, 4) if abs(v) < 10 else round(v, 2)
+        else:
+            out[k] = v
+    return out
+
+
 def _plain(value):
     """numpy scalars and 0-d arrays -> float; containers recursively."""
     if isinstance(value, dict):
@@ -691,7 +705,7 @@ class BedsideState(param.Parameterized):
             self.fit_message = "Fit the model first."
             return False
         name = "Fitted to measured gas" + (f": {self.case_label}" if self.case_label else "")
-        inputs = {**self.fit.inputs, **self.fit.body_size}
+        inputs = _tidy({**self.fit.inputs, **self.fit.body_size})
         if not self.case.apply_inputs(inputs, name=name, description="live case = fitted case"):
             self.fit_message = self.case.error_message
             return False
@@ -759,6 +773,11 @@ class BedsideState(param.Parameterized):
         self.target_hb_g_dl = min(max(g_dl, lo), hi)
         return True
 
+    def rank_label(self) -> str:
+        """The ranking quantity as the picker names it."""
+        names = {v: k for k, v in self.param.rank_by.names.items()}
+        return names.get(self.rank_by, self.rank_by)
+
     def lever_head(self) -> list[str]:
         p = self.case.pressure_unit
         return [
@@ -812,12 +831,12 @@ class BedsideState(param.Parameterized):
                 return False
         else:
             # Back to the fitted case before keeping it, so the baseline is the fit.
-            if not self.case.apply_inputs({**self.fit.inputs, **body}, name="", description=""):
+            if not self.case.apply_inputs(_tidy({**self.fit.inputs, **body})):
                 self.lever_message = self.case.error_message
                 return False
             self.case.keep_baseline()
         if not self.case.apply_inputs(
-            {**outcome.inputs, **body},
+            _tidy({**outcome.inputs, **body}),
             name=f"What-if: {outcome.label}",
             description="baseline = fitted case",
         ):

@@ -671,8 +671,11 @@ class WhatIfTable(pn.viewable.Viewer):
         choices = st.lever_choices()
         order = tuple(choices.values())
         if order != self._order:
-            # A new ranking: the picker lists it in rank order with the best chosen.
+            # A new ranking: the picker lists it in rank order with the best chosen. A
+            # reordered dict compares equal to the old one and would not be sent, so the
+            # options are emptied first.
             self._order = order
+            self._pick.options = {}
             self._pick.options = choices
             if order:
                 self._pick.value = order[0]

@@ -31,8 +31,7 @@ h2 {{ font-size: 16px; color: {ACCENT}; border-bottom: 2px solid {ACCENT}; margi
 .meta {{ color: #46545c; margin-bottom: 8px; }}
 .caution {{ background: #fff6dc; border-left: 5px solid #b7791f; padding: 6px 12px; }}
 table {{ border-collapse: collapse; width: 100%; font-size: 13px; }}
-th {{ text-align: left; border-bottom: 1px solid {ACCENT}; padding: 3px 6px; font-size: 12px;
-  text-transform: uppercase; letter-spacing: .03em; }}
+th {{ text-align: left; border-bottom: 1px solid {ACCENT}; padding: 3px 6px; font-size: 12px; }}
 td {{ padding: 3px 6px; border-bottom: 1px solid #e3e6e8; vertical-align: top; }}
 td.num {{ text-align: right; font-variant-numeric: tabular-nums; font-weight: 700; }}
 td.src {{ color: #5b6770; font-size: 12px; }}
@@ -142,18 +141,38 @@ def summary_html(state: BedsideState, when: dt.datetime | None = None) -> str:
         "o2-sum-derived",
     )
     fit_text = _esc(state.fit_summary()) if state.fit is not None else "Not fitted."
+    fitted = _table(
+        ["Fitted parameter", "Value", "Unit"],
+        [[_esc(r.label), _esc(r.value), _esc(r.unit)] for r in state.fitted_rows()],
+        {1},
+        "o2-sum-fitted",
+    )
     fit = _table(
-        ["Quantity", "Measured", "Model", "Residual", "Unit"],
+        ["Quantity", "Measured", "Model", "Model − measured", "Unit", "", ""],
         [[_esc(c) for c in r] for r in state.fit_rows()],
         {1, 2, 3},
         "o2-sum-fit",
     )
+    assumed = "".join(
+        f"<li>{_esc(a)}</li>" for a in (state.fit.assumptions if state.fit is not None else [])
+    )
+    lists = "".join(
+        f"<p class='meta'><b>{title}:</b> {_esc('; '.join(items))}</p>"
+        for title, items in (
+            ("Outside usual ranges", state.derived_text("flags")),
+            ("Not computed", state.derived_text("reasons")),
+            ("Assumed", state.derived_text("notes")),
+        )
+        if items
+    )
+    head = state.lever_head()
     levers = _table(
-        state.lever_head(),
+        head,
         [[_esc(c) for c in r] for r in state.lever_rows()],
-        set(range(2, len(state.lever_head()))),
+        set(range(2, len(head) - 1)),
         "o2-sum-levers",
     )
+    live = state.case.scenario_name
     script, div = components(curve_figure(state))
     notes = (
         f"<div class='notes'>{_esc(state.notes)}</div>"
@@ -174,14 +193,18 @@ def summary_html(state: BedsideState, when: dt.datetime | None = None) -> str:
 <h2>Measured values</h2>{measured}
 </div><div>
 <h2>Derived values</h2>{derived}
+{lists}
 </div></div>
 <h2>Fit of the model to the measurements</h2>
 <p>{fit_text}</p>
+{fitted}
 {fit}
+{f"<ul class='meta'>{assumed}</ul>" if assumed else ""}
 <h2>Patient's curve</h2>
 <div class="plot">{div}</div>
-<h2>What-ifs from the fitted case (ranked by {_esc(state.rank_by)})</h2>
+<h2>What-ifs from the fitted case (ranked by {_esc(state.rank_label())})</h2>
 {levers}
+<p class='meta'>Live case when printed: {_esc(live or "as entered on the Model inputs tab")}.</p>
 <h2>Notes</h2>
 {notes}
 <p class="meta">Made with o2transit, an open-source physiology model. {_esc(CAUTION)}</p>

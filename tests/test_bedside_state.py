@@ -128,7 +128,12 @@ def test_fit_and_use_fitted_sets_live_case_and_baseline(st):
     assert rows[0][0] == "PaO2" and rows[0][5] == "fitted" and rows[0][6] == "match"
     assert st.use_fitted()
     assert st.case.baseline is st.case.result
-    assert st.case.shunt_fraction == pytest.approx(st.fit.fitted["shunt_fraction"])
+    # Live inputs are the fitted ones rounded for reading (5e-5 in a fraction at most).
+    assert st.case.shunt_fraction == pytest.approx(st.fit.fitted["shunt_fraction"], abs=5e-5)
+    assert st.case.paco2_mmhg == round(st.case.paco2_mmhg, 2)
+    assert float(st.case.result.arterial.po2_mmhg) == pytest.approx(
+        float(st.fit.result.arterial.po2_mmhg), abs=0.05
+    )
     assert st.case.height_cm == 172.0  # DO2I on the other tab needs the body size too
     assert st.case.scenario_name.startswith("Fitted to measured gas")
 
@@ -170,6 +175,8 @@ def test_summary_page_standalone(st):
     assert "not a medical device" in page
     assert "113" in page  # P/F
     assert "@media print" in page
+    assert "Shunt (venous admixture)" in page and "ranked by PaO2" not in page
+    assert "ranked by O2 delivery (DO2)" in page and "Outside usual ranges" in page
     # Offline: the only http(s) text in the file is inside the bundled BokehJS library
     # (licence and documentation links, and addresses of optional parts this page does
     # not use: MathJax, icon fonts, map tiles); the page itself names no address.
@@ -191,7 +198,7 @@ def test_what_ifs_ranked_resorted_and_applied_with_fitted_baseline(st):
     assert st.case.fio2 == 1.0
     base = st.case.baseline
     assert float(base.fio2) == pytest.approx(0.6)
-    assert float(base.shunt_fraction) == pytest.approx(st.fit.fitted["shunt_fraction"])
+    assert float(base.shunt_fraction) == pytest.approx(st.fit.fitted["shunt_fraction"], abs=5e-5)
     # A second what-if is compared against the fitted case, not the first what-if.
     assert st.apply_lever("transfusion")
     assert float(st.case.baseline.fio2) == pytest.approx(0.6)
