@@ -30,8 +30,12 @@ def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
     def sync(*_events) -> None:
         write_query(state.to_query(), owned)
 
+    def changed(*_events) -> None:
+        sync()
+        notice.visible = False  # the address now holds what is shown
+
     state.param.watch(
-        sync,
+        changed,
         ["mode", "lesson", "step", "factor", "factor_value", "tissue_po2_mmhg", "pressure_unit"],
     )
     if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:

@@ -116,7 +116,7 @@ FACTORS: dict[str, Factor] = {
         ),
         Factor(
             "cohb_fraction",
-            "CO",
+            "COHb",
             "%",
             0.0,
             0.0,

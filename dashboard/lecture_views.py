@@ -145,7 +145,7 @@ def frame_data(frame: dict) -> dict[str, dict]:
             "x0": [frame["reference_p50"]],
             "label": [f"P50 {_num(frame['p50'], d)}"],
         },
-        "readout": {"x": [x_right, x_right], "y": [16.0, 5.0], "text": readout},
+        "readout": {"x": [x_right, x_right], "y": [0.0, 0.0], "dy": [58, 14], "text": readout},
     }
 
 
@@ -224,9 +224,11 @@ def build_figure(sources: dict[str, ColumnDataSource], frame: dict, **kwargs):
             y="y1",
             text="label",
             source=sources["tissue_line"],
-            x_offset=10,
-            y_offset=-4,
+            x_offset=8,
+            y_offset=-2,
             text_baseline="top",
+            background_fill_color=PAPER,
+            background_fill_alpha=0.85,
             text_font_size="22px",
             text_color=POINT,
             text_font_style="bold",
@@ -271,6 +273,7 @@ def build_figure(sources: dict[str, ColumnDataSource], frame: dict, **kwargs):
             y="y",
             text="text",
             source=sources["readout"],
+            y_offset="dy",
             text_align="right",
             text_baseline="bottom",
             text_font_size="28px",

@@ -257,7 +257,7 @@ def test_each_factor_moves_alone_and_writes_its_effect(context, base_url):
         "PCO2": ("paco2_mmhg", "+"),
         "Temperature": ("temperature_c", "+"),
         "2,3-DPG": ("dpg_mmol_l", "+"),
-        "CO": ("cohb_fraction", "−"),
+        "COHb": ("cohb_fraction", "−"),
     }
     for label, (key, sign) in expected.items():
         page.locator(
