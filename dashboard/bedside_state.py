@@ -545,8 +545,16 @@ class BedsideState(param.Parameterized):
                 code = str(raw) if raw is not None else ""
                 if not code:
                     continue
+                note = ""
+                if key.startswith("pf_") and self.case.pressure_unit == "kPa":
+                    kpa = ", ".join(
+                        f"{self.case.pressure_to_display(c):.1f}" for c in (100, 200, 300)
+                    )
+                    note = f"cut-offs are in mmHg: 100, 200, 300 mmHg = {kpa} kPa"
                 rows.append(
-                    DerivedRow(key, label, labels.get(code, code), "", "", DERIVED_SOURCES[key], "")
+                    DerivedRow(
+                        key, label, labels.get(code, code), "", "", DERIVED_SOURCES[key], note
+                    )
                 )
                 continue
             value = float(raw) if raw is not None else float("nan")

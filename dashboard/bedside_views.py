@@ -83,7 +83,7 @@ table.o2t tr.best td { background: #f1f8f1; }
 table.o2-bs-dt td:first-child { width: 52%; }
 table.o2-bs-lv th, table.o2-bs-res th { text-transform: none; letter-spacing: 0; }
 table.o2-bs-lv td.lever { min-width: 230px; font-weight: 600; }
-table.o2-bs-lv td.range { font-size: 12px; }
+table.o2-bs-lv td.range { font-size: 12px; white-space: normal; }
 table.o2-bs-res td.range { font-size: 11px; }
 table.o2t td.range { font-size: 12px; }
 table.o2t tr.ok td.val { color: #1f4d3a; }
@@ -494,7 +494,9 @@ class FitPanel(pn.viewable.Viewer):
             self._applied,
             sizing_mode="stretch_width",
         )
-        state.param.watch(self._update, ["fit", "fit_message", "measured", "fitted_applied"])
+        state.param.watch(
+            self._update, ["fit", "fit_message", "measured", "fitted_applied", "applied_lever"]
+        )
         state.case.param.watch(self._update, ["pressure_unit"])
         self._update()
 
@@ -547,7 +549,9 @@ class FitPanel(pn.viewable.Viewer):
         )
         _show(
             self._applied,
-            "Fitted case is the live case and the baseline: the Model inputs tab compares "
+            f"Fitted case kept as the baseline; live case: {st.applied_lever}."
+            if st.fitted_applied and st.applied_lever
+            else "Fitted case is the live case and the baseline: the Model inputs tab compares "
             "against it."
             if st.fitted_applied
             else "",

@@ -67,6 +67,8 @@ def test_derived_rows_in_kpa(st):
     st.case.pressure_unit = "kPa"
     rows = {r.key: r for r in st.derived_rows()}
     assert rows["alveolar_po2_mmhg"].unit == "kPa"
+    # 100, 200, 300 mmHg x 101.325/760 = 13.3, 26.7, 40.0 kPa (unit conversion, exact).
+    assert "13.3, 26.7, 40.0 kPa" in rows["pf_category_berlin"].note
     assert float(rows["alveolar_po2_mmhg"].value) == pytest.approx(
         float(model.mmhg_to_kpa(mmhg["alveolar_po2_mmhg"])), abs=0.01
     )
