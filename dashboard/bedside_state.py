@@ -12,6 +12,7 @@ and keeping cases call the model (``model.bedside``, ``model.fitting``, ``model.
 from __future__ import annotations
 
 import dataclasses
+import inspect
 import math
 from pathlib import Path
 
@@ -377,8 +378,6 @@ class BedsideState(param.Parameterized):
 
     # ------------------------------------------------------------------ calculate
     def _required_keys(self) -> tuple[str, ...]:
-        import inspect
-
         sig = inspect.signature(bedside.derive)
         return tuple(
             n

@@ -8,12 +8,14 @@ because they edit figures and panes. Stable ``o2-bs-*`` CSS classes are hooks fo
 from __future__ import annotations
 
 import html
+import io
 
 import panel as pn
 from bokeh.models import ColumnDataSource, LabelSet, Range1d
 from bokeh.plotting import figure
 
 from dashboard.bedside_state import FORM_GROUPS, BedsideState
+from dashboard.summary import summary_html
 from dashboard.views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS
 
 DERIVED_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
@@ -196,7 +198,7 @@ class MeasuredEntry(pn.viewable.Viewer):
         st = self._state
         required = key in st._required_keys()
         widget = pn.widgets.FloatInput(
-            name=st.display_label(key),
+            label=st.display_label(key),
             value=st.draft_display(key),
             placeholder="required" if required else "optional",
             css_classes=["o2-bs-in", f"o2-bs-in-{key}"],
@@ -225,7 +227,7 @@ class MeasuredEntry(pn.viewable.Viewer):
         self._syncing = True
         try:
             for key, widget in self._inputs.items():
-                widget.name = st.display_label(key)
+                widget.label = st.display_label(key)
                 shown = st.draft_display(key)
                 # Panel sends None as NaN (shown as "NaN"); -inf is its own spelling of
                 # an empty box.
@@ -572,7 +574,7 @@ class WhatIfTable(pn.viewable.Viewer):
             s.rank_by, css_classes=["o2-bs-rank-by"], width=250
         )
         self._target_hb = pn.widgets.FloatInput(
-            name=self._hb_label(),
+            label=self._hb_label(),
             value=state.target_hb_display(),
             css_classes=["o2-bs-target-hb"],
             width=190,
@@ -591,7 +593,7 @@ class WhatIfTable(pn.viewable.Viewer):
             s.cardiac_output_factor, css_classes=["o2-bs-co-factor"], width=170
         )
         self._pick = pn.widgets.Select(
-            name="What-if to apply", options={}, css_classes=["o2-bs-lever-pick"], width=360
+            label="What-if to apply", options={}, css_classes=["o2-bs-lever-pick"], width=360
         )
         self._apply = pn.widgets.Button(
             label="Apply what-if",
@@ -638,7 +640,7 @@ class WhatIfTable(pn.viewable.Viewer):
     def _refresh_hb(self, *_events) -> None:
         self._syncing = True
         try:
-            self._target_hb.name = self._hb_label()
+            self._target_hb.label = self._hb_label()
             self._target_hb.value = self._state.target_hb_display()
         finally:
             self._syncing = False
@@ -726,7 +728,7 @@ class CaseKeeping(pn.viewable.Viewer):
             "", css_classes=["o2-bs-folder"], sizing_mode="stretch_width", styles=NOTE_STYLE
         )
         self._cases = pn.widgets.Select(
-            name="Saved cases", options={}, css_classes=["o2-bs-cases"], width=330
+            label="Saved cases", options={}, css_classes=["o2-bs-cases"], width=330
         )
         self._open = pn.widgets.Button(
             label="Open", css_classes=["o2-bs-open"], width=80, align="end"
@@ -771,10 +773,6 @@ class CaseKeeping(pn.viewable.Viewer):
         self._update()
 
     def _summary_file(self):
-        import io
-
-        from dashboard.summary import summary_html
-
         label = self._state.case_label.strip() or "case"
         self._download.filename = f"o2transit-summary-{label.replace(' ', '-')}.html"
         return io.BytesIO(summary_html(self._state).encode("utf-8"))
