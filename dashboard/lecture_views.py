@@ -328,17 +328,16 @@ def standalone_html(state: LectureState) -> str:
     )
     caption = Div(
         text=(
-            f"<p style='font:24px {FONT};color:{INK};max-width:1200px'>"
+            f'<p style="font: 26px {FONT}; color: {INK}; max-width: 1240px">'
             f"{html.escape(frame['caption'])}</p>"
-            f"<p style='font:18px {FONT};color:{INK}'>{html.escape(numbers)}</p>"
+            f'<p style="font: 20px {FONT}; color: {INK}">{html.escape(numbers)}</p>'
         ),
         width=1280,
+        margin=(0, 20),
     )
-    caution = Div(
-        text=f"<p style='font:15px {FONT};color:#555'>⚠ {html.escape(CAUTION)}</p>", width=1280
-    )
+    # The caution is part of the figure (a line under the axis), as in the PNG.
     return file_html(
-        column(fig, caption, caution), resources=INLINE, title=f"o2transit · {frame['heading']}"
+        column(fig, caption), resources=INLINE, title=f"o2transit · {frame['heading']}"
     )
 
 
