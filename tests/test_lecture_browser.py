@@ -4,69 +4,35 @@ Skipped only on a machine without Chromium and without CI; under CI a missing br
 """
 
 import json
-import logging
-import os
 import re
-import socket
 import struct
 import time
-import urllib.request
-from pathlib import Path
 from urllib.parse import urlsplit
 
-import panel as pn
 import pytest
+from browser_session import (
+    ARGS,
+    CHROMIUM,
+    checked_context,
+    require_chromium,
+    served,
+    wait_address,
+)
 from playwright.sync_api import expect, sync_playwright
 
 from dashboard.app import SCREENS
 from dashboard.lecture_views import GLIDE_MS
 from dashboard.views import CAUTION
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-ARGS = [
-    "--headless=new",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
 LOCAL_HOSTS = {"127.0.0.1", "localhost"}
 
-if not Path(CHROMIUM).exists():
-    if os.environ.get("CI"):
-        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
-    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+require_chromium()
 
 
 @pytest.fixture(scope="module")
 def base_url():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        port = s.getsockname()[1]
-    server = pn.serve(
-        {"/lecture": SCREENS["/lecture"]},
-        address="127.0.0.1",
-        port=port,
-        show=False,
-        threaded=True,
-        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
-    )
-    url = f"http://127.0.0.1:{port}/lecture"
-    deadline = time.monotonic() + 20
-    while True:
-        try:
-            urllib.request.urlopen(url, timeout=5).close()
-            break
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.1)
-    yield url
-    server.stop()
-    server.join(timeout=5)
+    with served("/lecture", SCREENS["/lecture"]) as url:
+        yield url
 
 
 @pytest.fixture(scope="module")
@@ -77,29 +43,11 @@ def browser():
         b.close()
 
 
-class _ErrorLog(logging.Handler):
-    def __init__(self):
-        super().__init__(level=logging.ERROR)
-        self.records = []
-
-    def emit(self, record):
-        self.records.append(self.format(record))
-
-
 @pytest.fixture
 def context(browser):
-    server_errors = _ErrorLog()
-    logging.getLogger().addHandler(server_errors)
-    ctx = browser.new_context(viewport={"width": 1600, "height": 900}, accept_downloads=True)
-    errors, requests = [], []
-    ctx.on("weberror", lambda e: errors.append(str(e.error)))
-    ctx.on("request", lambda r: requests.append(r.url))
-    ctx.requests = requests
-    yield ctx
-    ctx.close()
-    logging.getLogger().removeHandler(server_errors)
-    assert not errors, errors
-    assert not server_errors.records, server_errors.records
+    options = {"viewport": {"width": 1600, "height": 900}, "accept_downloads": True}
+    with checked_context(browser, **options) as ctx:
+        yield ctx
 
 
 def open_lecture(ctx, url):
@@ -128,19 +76,6 @@ def wait_title(page, pattern: str, timeout: float = 10.0) -> str:
             return text
         time.sleep(0.05)
     raise AssertionError(f"plot title {title(page)!r} never matched {pattern!r}")
-
-
-def address(page) -> str:
-    return page.evaluate("location.href")  # page.url lags behind history.pushState
-
-
-def wait_address(page, pattern: str, timeout: float = 10.0) -> str:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        if re.search(pattern, address(page)):
-            return address(page)
-        time.sleep(0.05)
-    raise AssertionError(f"address {address(page)!r} never matched {pattern!r}")
 
 
 def readout(page) -> list[str]:

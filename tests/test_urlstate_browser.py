@@ -3,64 +3,29 @@
 Skipped only on a machine without Chromium and without CI; under CI a missing browser fails.
 """
 
-import logging
-import os
 import re
-import socket
-import time
-import urllib.request
-from pathlib import Path
 
-import panel as pn
 import pytest
+from browser_session import (
+    ARGS,
+    CHROMIUM,
+    address,
+    checked_context,
+    require_chromium,
+    served,
+    wait_address,
+)
 from playwright.sync_api import expect, sync_playwright
 
 from dashboard.app import create_app
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-ARGS = [
-    "--headless=new",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
-
-if not Path(CHROMIUM).exists():
-    if os.environ.get("CI"):
-        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
-    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+require_chromium()
 
 
 @pytest.fixture(scope="module")
 def base_url():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        port = s.getsockname()[1]
-    server = pn.serve(
-        {"/": create_app},
-        address="127.0.0.1",
-        port=port,
-        show=False,
-        threaded=True,
-        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
-    )
-    url = f"http://127.0.0.1:{port}/"
-    deadline = time.monotonic() + 20
-    while True:
-        try:
-            urllib.request.urlopen(url, timeout=5).close()
-            break
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.1)
-    yield url
-    server.stop()
-    server.join(timeout=5)
+    with served("/", create_app) as url:
+        yield url
 
 
 @pytest.fixture(scope="module")
@@ -71,27 +36,10 @@ def browser():
         b.close()
 
 
-class _ErrorLog(logging.Handler):
-    def __init__(self):
-        super().__init__(level=logging.ERROR)
-        self.records = []
-
-    def emit(self, record):
-        self.records.append(self.format(record))
-
-
 @pytest.fixture
 def context(browser):
-    server_errors = _ErrorLog()
-    logging.getLogger().addHandler(server_errors)
-    ctx = browser.new_context(viewport={"width": 1500, "height": 1000})
-    errors = []
-    ctx.on("weberror", lambda e: errors.append(str(e.error)))
-    yield ctx
-    ctx.close()
-    logging.getLogger().removeHandler(server_errors)
-    assert not errors, errors
-    assert not server_errors.records, server_errors.records
+    with checked_context(browser, viewport={"width": 1500, "height": 1000}) as ctx:
+        yield ctx
 
 
 def open_case(ctx, url):
@@ -99,20 +47,6 @@ def open_case(ctx, url):
     page.goto(url)
     expect(page.locator(".o2-numbers")).to_contain_text("PaO2", timeout=15000)
     return page
-
-
-def address(page) -> str:
-    return page.evaluate("location.href")  # page.url lags behind history.pushState
-
-
-def wait_address(page, pattern: str, timeout: float = 10.0) -> str:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        href = address(page)
-        if re.search(pattern, href):
-            return href
-        time.sleep(0.05)
-    raise AssertionError(f"address {address(page)!r} never matched {pattern!r}")
 
 
 def cell(page, key: str) -> str:
