@@ -8,8 +8,8 @@ field, the value, the allowed range and the unit; the valid ones are applied tog
 :meth:`CaseState.apply_inputs`. On every change the address is rewritten (only values that
 differ from the defaults), so the page can be bookmarked or shared at any moment.
 
-The pure half (:func:`case_query`, :func:`check_case_query`, :func:`parse_query_string`) has
-no Panel in it and is tested alone; :func:`bind_url` wires it to a served page, and
+The pure half (:func:`case_query`, :func:`check_case_query`, :func:`parse_query_string`,
+:func:`case_link`) has no Panel in it and is tested alone; :func:`bind_url` wires it to a served page, and
 :func:`read_query` / :func:`write_query` are the small generic helpers other screens use for
 their own keys.
 """
@@ -213,6 +213,22 @@ def restore_case(
         state.apply_inputs({})
     state.error_message = ""
     return messages
+
+
+def case_link(inputs: dict, path: str = "/") -> str:
+    """Address of the case screen showing ``inputs`` (scenario key names), for links from
+    other screens.
+
+    Raises ValueError (the case screen's message) when the case would be refused.
+
+    >>> case_link({"altitude_m": 4500.0, "hb_g_dl": 9.0})
+    '/?altitude_m=4500&hb_g_dl=9'
+    """
+    state = CaseState()
+    if not state.apply_inputs(inputs):
+        raise ValueError(state.error_message)
+    query = case_query(state)
+    return f"{path}?{urlencode(query)}" if query else path
 
 
 # ---------------------------------------------------------------------- served page

@@ -7,6 +7,7 @@ import pytest
 from dashboard.state import CaseState
 from dashboard.urlstate import (
     CASE_KEYS,
+    case_link,
     case_query,
     check_case_query,
     parse_query_string,
@@ -135,3 +136,20 @@ def test_selector_spellings_and_booleans():
     assert state.curve == "dash"
     assert state.acid_base_input == "base excess"
     assert state.use_p50_override is True
+
+
+def test_case_link_for_other_screens():
+    inputs = {"altitude_m": 5200.0, "pressure_model": "mountain", "hb_g_dl": 17.0, "ph": 7.46}
+    link = case_link(inputs)
+    assert link == "/?altitude_m=5200&pressure_model=mountain&hb_g_dl=17&ph=7.46"
+    state = CaseState()
+    assert restore_case(state, parse_query_string(link.split("?", 1)[1])) == []
+    assert (state.altitude_m, state.pressure_model, state.hb_g_dl, state.ph) == (
+        5200.0,
+        "mountain",
+        17.0,
+        7.46,
+    )
+    assert case_link({}) == "/"
+    with pytest.raises(ValueError, match="outside the allowed range"):
+        case_link({"hb_g_dl": 99.0})
