@@ -198,7 +198,7 @@ def restore_case(
         state.param.update(**display)
     if not inputs:
         return messages
-    name = "Case from the page address"
+    name = "opened from the page address"
     if state.apply_inputs(inputs, name=name):
         return messages
     kept: dict = {}
