@@ -40,11 +40,18 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
     pn.extension("tabulator")
     ws = AscentWorkspace() if ws is None else ws
     notice = url_message_pane()
-    messages = ws.restore_selection(read_query().get(QUERY_KEY, ""))
+    query = read_query()
+    if QUERY_KEY in query:
+        messages = ws.restore_selection(query[QUERY_KEY])
+    else:
+        # A first visit opens on the examples, so the page shows a comparison at once.
+        ws.load_examples()
+        messages = []
     show_url_messages(notice, messages)
 
     def sync_address(*_events) -> None:
-        write_query({QUERY_KEY: ws.selection_query() or None}, [QUERY_KEY])
+        # "?schedules=" (empty) is kept, so an empty workspace reloads empty.
+        write_query({QUERY_KEY: ws.selection_query()}, [QUERY_KEY])
 
     ws.param.watch(sync_address, ["compared"])
     sync_address()

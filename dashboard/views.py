@@ -598,7 +598,8 @@ class CaseControls(pn.viewable.Viewer):
         state.param.watch(self._update, ["scenario_name", "baseline", "error_message"])
         self._update()
         self._layout = pn.Column(
-            pn.Row(
+            # A FlexBox wraps onto a second line on narrow windows instead of hiding the units.
+            pn.FlexBox(
                 self._picker,
                 self._load,
                 pn.Spacer(width=20),
@@ -606,6 +607,7 @@ class CaseControls(pn.viewable.Viewer):
                 self._clear,
                 pn.Spacer(width=20),
                 units,
+                align_items="flex-end",
                 sizing_mode="stretch_width",
             ),
             self._status,

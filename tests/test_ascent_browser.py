@@ -174,7 +174,7 @@ def point_on_plot(page, title: str, x: float, y: float) -> tuple[float, float]:
 
 def test_planner_session(context, base_url, tmp_path):
     page = context.new_page()
-    page.goto(f"{base_url}/ascent")
+    page.goto(f"{base_url}/ascent?schedules=")
     expect(page.locator(".o2-asc-legend")).to_contain_text("Nothing compared yet")
     expect(page.locator(".o2-caution")).to_contain_text("not a medical device")
 
@@ -328,7 +328,7 @@ def _sao2_of(page, key: str, day: int) -> float:
 
 def test_files_rename_duplicate(context, base_url, tmp_path):
     page = context.new_page()
-    page.goto(f"{base_url}/ascent")
+    page.goto(f"{base_url}/ascent?schedules=")
     expect(page.locator(".o2-asc-legend")).to_contain_text("Nothing compared yet")
 
     # open a schedule file of one's own; a bad one is refused with file, key, value, range
@@ -395,3 +395,8 @@ def test_address_restores_the_comparison(context, base_url):
     )
     assert order[1:] == ["Slow ascent to a 5300 m camp", "Fast ascent to a 5300 m camp"]
     expect(page.locator(".o2-nav")).to_contain_text("Case")
+
+    # a first visit without the key opens on the three examples, compared
+    page.goto(f"{base_url}/ascent")
+    for name in ("Fast ascent", "Slow ascent", "Expedition with oxygen"):
+        expect(summary).to_contain_text(name)
