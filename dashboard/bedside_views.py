@@ -11,12 +11,11 @@ import html
 import io
 
 import panel as pn
-from bokeh.models import ColumnDataSource, LabelSet, Range1d
-from bokeh.plotting import figure
+from bokeh.models import ColumnDataSource, LabelSet
 
 from dashboard.bedside_state import FORM_GROUPS, BedsideState
 from dashboard.summary import summary_html
-from dashboard.views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS
+from dashboard.views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS, saturation_figure
 
 DERIVED_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
     (
@@ -364,19 +363,7 @@ class PatientCurve(pn.viewable.Viewer):
         self._state = state
         self._lines = ColumnDataSource(data={"x": [], "arterial": [], "venous": [], "standard": []})
         self._points = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": []})
-        fig = figure(
-            height=330,
-            sizing_mode="stretch_width",
-            toolbar_location=None,
-            x_range=Range1d(0, 150),
-            y_range=Range1d(0, 102),
-            title="",
-        )
-        fig.title.text_font_size = "14px"
-        fig.title.text_color = INK
-        fig.yaxis.axis_label = "SO2 (%)"
-        fig.background_fill_color = "#fbfaf7"
-        fig.grid.grid_line_color = "#ebe7df"
+        fig = saturation_figure(330, "", "14px")
         fig.line(
             "x",
             "standard",

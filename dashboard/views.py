@@ -221,6 +221,24 @@ class InputPanel(pn.viewable.Viewer):
         return self._layout
 
 
+def saturation_figure(height: int, title: str, title_size: str) -> figure:
+    """An empty SO2-against-PO2 frame in the dashboard's look (0-150 mmHg, 0-102 %)."""
+    fig = figure(
+        height=height,
+        sizing_mode="stretch_width",
+        toolbar_location=None,
+        x_range=Range1d(0, 150),
+        y_range=Range1d(0, 102),
+        title=title,
+    )
+    fig.title.text_font_size = title_size
+    fig.title.text_color = INK
+    fig.yaxis.axis_label = "SO2 (%)"
+    fig.background_fill_color = "#fbfaf7"
+    fig.grid.grid_line_color = "#ebe7df"
+    return fig
+
+
 class CurvePlot(pn.viewable.Viewer):
     """Dissociation curves with loading and unloading points and the extraction."""
 
@@ -247,19 +265,7 @@ class CurvePlot(pn.viewable.Viewer):
         self._bridge = ColumnDataSource(data={"x0": [], "y0": [], "x1": [], "y1": []})
         self._note = ColumnDataSource(data={"x": [], "y": [], "text": []})
 
-        fig = figure(
-            height=430,
-            sizing_mode="stretch_width",
-            toolbar_location=None,
-            x_range=Range1d(0, 150),
-            y_range=Range1d(0, 102),
-            title="Where blood loads and unloads O2",
-        )
-        fig.title.text_font_size = "15px"
-        fig.title.text_color = INK
-        fig.yaxis.axis_label = "SO2 (%)"
-        fig.background_fill_color = "#fbfaf7"
-        fig.grid.grid_line_color = "#ebe7df"
+        fig = saturation_figure(430, "Where blood loads and unloads O2", "15px")
         self._standard_line = fig.line(
             "x",
             "standard",
