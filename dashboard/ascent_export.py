@@ -13,7 +13,6 @@ import html
 import io
 
 from bokeh.embed import components
-from bokeh.resources import INLINE
 
 from dashboard.ascent_figures import (
     LEGEND_CSS,
@@ -24,6 +23,7 @@ from dashboard.ascent_figures import (
     summary_html,
 )
 from dashboard.ascent_state import AscentWorkspace
+from dashboard.offline import inline_resources
 from dashboard.views import ACCENT, CAUTION, INK
 from model.ascent_report import DAY_COLUMNS, day_rows
 
@@ -146,18 +146,6 @@ def _day_table(ws: AscentWorkspace, key: str) -> str:
     return f"<table class='days'>{head}{''.join(rows)}</table>"
 
 
-def _inline_resources() -> str:
-    """Bokeh's scripts and styles, inline only.
-
-    Files referred to by address are left out: Panel adds its module shim and, in a served
-    session, the stylesheets of loaded extensions (as CDN links) to Bokeh's lists; the page
-    needs none of them and they could not load offline.
-    """
-    js = "".join(f"<script>{code}</script>\n" for code in INLINE.js_raw)
-    css = "".join(f"<style>{code}</style>\n" for code in INLINE.css_raw)
-    return css + js
-
-
 def comparison_html(ws: AscentWorkspace, when: dt.datetime | None = None) -> str:
     """A standalone page of the comparison that works offline (scripts inline)."""
     figs = ComparisonFigures(width=560, height=280, tap=False)
@@ -182,7 +170,7 @@ def comparison_html(ws: AscentWorkspace, when: dt.datetime | None = None) -> str
 <head>
 <meta charset="utf-8">
 <title>o2transit ascent comparison: {html.escape(" / ".join(names))}</title>
-{_inline_resources()}
+{inline_resources()}
 <style>{PAGE_CSS}{LEGEND_CSS}{SUMMARY_CSS}</style>
 </head>
 <body>

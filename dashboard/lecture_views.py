@@ -23,7 +23,6 @@ from typing import ClassVar
 import panel as pn
 import param
 from bokeh.core.properties import value
-from bokeh.embed import file_html
 from bokeh.layouts import column
 from bokeh.models import (
     CDSView,
@@ -38,9 +37,9 @@ from bokeh.models import (
     Title,
 )
 from bokeh.plotting import figure
-from bokeh.resources import INLINE
 
 from dashboard.lecture_state import FACTORS, LectureState
+from dashboard.offline import offline_file_html
 from dashboard.views import CAUTION
 
 GLIDE_MS = 350
@@ -336,9 +335,7 @@ def standalone_html(state: LectureState) -> str:
         margin=(0, 20),
     )
     # The caution is part of the figure (a line under the axis), as in the PNG.
-    return file_html(
-        column(fig, caption), resources=INLINE, title=f"o2transit · {frame['heading']}"
-    )
+    return offline_file_html(column(fig, caption), title=f"o2transit · {frame['heading']}")
 
 
 class KeyCatcher(pn.reactive.ReactiveHTML):
