@@ -1,7 +1,7 @@
-"""Shared pieces of the address and lecture browser tests: a served screen, Chromium, logs.
+"""Shared pieces of the browser tests (tests/*_browser.py): served screens, Chromium, logs.
 
 Skipping is decided here: without Chromium the importing module is skipped, unless CI is
-set, when it fails.
+set, when it fails. The browser itself is the ``browser`` fixture in conftest.py.
 """
 
 import logging
@@ -27,6 +27,8 @@ ARGS = [
     "--disable-component-update",
     "--disable-sync",
 ]
+ARTIFACTS = Path(__file__).resolve().parent.parent / "artifacts"
+LOCAL_HOSTS = {"127.0.0.1", "localhost"}
 
 
 def require_chromium() -> None:
@@ -38,34 +40,48 @@ def require_chromium() -> None:
 
 
 @contextmanager
-def served(path: str, factory):
-    """Serve one screen on a free port; yields its URL once it answers HTTP 200."""
+def served_screens(routes: dict, probe: str, *, startup_s: float = 20, request_s: float = 5):
+    """Serve screens ``{path: factory}`` on a free port; yields the base URL (no path).
+
+    Waits until ``probe`` (a path) answers HTTP 200: up to ``startup_s`` seconds in all,
+    ``request_s`` seconds per request.
+    """
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
     server = pn.serve(
-        {path: factory},
+        routes,
         address="127.0.0.1",
         port=port,
         show=False,
         threaded=True,
         websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
     )
-    url = f"http://127.0.0.1:{port}{path}"
-    deadline = time.monotonic() + 20
+    base = f"http://127.0.0.1:{port}"
+    deadline = time.monotonic() + startup_s
     while True:
         try:
-            urllib.request.urlopen(url, timeout=5).close()
+            urllib.request.urlopen(base + probe, timeout=request_s).close()
             break
         except OSError:
             if time.monotonic() > deadline:
                 raise
             time.sleep(0.1)
     try:
-        yield url
+        yield base
     finally:
         server.stop()
         server.join(timeout=5)
+
+
+@contextmanager
+def served(path: str, factory, **wait):
+    """Serve one screen on a free port; yields its URL once it answers HTTP 200.
+
+    ``wait``: ``startup_s`` and ``request_s`` as in :func:`served_screens`.
+    """
+    with served_screens({path: factory}, path, **wait) as base:
+        yield base + path
 
 
 class ErrorLog(logging.Handler):
@@ -80,8 +96,12 @@ class ErrorLog(logging.Handler):
 
 
 @contextmanager
-def checked_context(browser, **options):
-    """A browser context that fails the test on a page error or a server error log."""
+def checked_context(browser, *, ignore_server: tuple[str, ...] = (), **options):
+    """A browser context that fails the test on a page error or a server error log.
+
+    ``options`` go to ``browser.new_context``; ``ctx.requests`` lists the URLs its pages
+    asked for. A server record containing one of the ``ignore_server`` texts is not counted.
+    """
     server_errors = ErrorLog()
     logging.getLogger().addHandler(server_errors)
     ctx = browser.new_context(**options)
@@ -95,7 +115,8 @@ def checked_context(browser, **options):
         ctx.close()
         logging.getLogger().removeHandler(server_errors)
     assert not errors, errors
-    assert not server_errors.records, server_errors.records
+    records = [r for r in server_errors.records if not any(t in r for t in ignore_server)]
+    assert not records, records
 
 
 def address(page) -> str:

@@ -8,110 +8,41 @@ comparison from the address. Skipped only without Chromium and without CI.
 
 import csv
 import io
-import logging
-import os
 import re
-import socket
 import time
-import urllib.request
 from pathlib import Path
 from urllib.parse import parse_qsl, urlsplit
 
-import panel as pn
 import pytest
-from playwright.sync_api import expect, sync_playwright
+from browser_session import (
+    ARTIFACTS,
+    LOCAL_HOSTS,
+    checked_context,
+    require_chromium,
+    served_screens,
+)
+from playwright.sync_api import expect
 
 from dashboard.app import SCREENS
-
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-ARGS = [
-    "--headless=new",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
-ARTIFACTS = Path(__file__).resolve().parent.parent / "artifacts"
-LOCAL_HOSTS = {"127.0.0.1", "localhost"}
 
 # Two cores are often shared with other work: allow a loaded machine time for each change.
 expect.set_options(timeout=20_000)
 
-if not Path(CHROMIUM).exists():
-    if os.environ.get("CI"):
-        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
-    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+require_chromium()
 
 
 @pytest.fixture(scope="module")
 def base_url():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        port = s.getsockname()[1]
-    server = pn.serve(
-        dict(SCREENS),
-        address="127.0.0.1",
-        port=port,
-        show=False,
-        threaded=True,
-        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
-    )
-    base = f"http://127.0.0.1:{port}"
-    deadline = time.monotonic() + 20
-    while True:
-        try:
-            urllib.request.urlopen(f"{base}/ascent", timeout=5).close()
-            break
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.1)
-    yield base
-    server.stop()
-    server.join(timeout=5)
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with sync_playwright() as p:
-        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        yield b
-        b.close()
-
-
-class _ErrorLog(logging.Handler):
-    """Collects server-side errors (callbacks run in the server thread, not the page)."""
-
-    def __init__(self):
-        super().__init__(level=logging.ERROR)
-        self.records = []
-
-    def emit(self, record):
-        self.records.append(self.format(record))
+    with served_screens(dict(SCREENS), "/ascent") as base:
+        yield base
 
 
 @pytest.fixture
 def context(browser):
-    server_errors = _ErrorLog()
-    logging.getLogger().addHandler(server_errors)
-    ctx = browser.new_context(viewport={"width": 1400, "height": 900}, accept_downloads=True)
-    ctx.errors, ctx.requests = [], []
-
-    def watch(pg):
-        pg.on("pageerror", lambda e: ctx.errors.append(str(e)))
-        pg.on("request", lambda r: ctx.requests.append(r.url))
-
-    ctx.on("page", watch)
-    yield ctx
-    ctx.close()
-    logging.getLogger().removeHandler(server_errors)
-    assert not ctx.errors, ctx.errors
+    options = {"viewport": {"width": 1400, "height": 900}, "accept_downloads": True}
     # A tab closed while the server still writes to it is not an error of the page.
-    errors = [r for r in server_errors.records if "WebSocketClosedError" not in r]
-    assert not errors, errors
+    with checked_context(browser, ignore_server=("WebSocketClosedError",), **options) as ctx:
+        yield ctx
 
 
 def rows(page) -> list[list[str]]:

@@ -3,106 +3,34 @@
 Skipped only on a machine without Chromium and without CI; under CI a missing browser fails.
 """
 
-import logging
-import os
 import re
-import socket
 import time
-import urllib.request
-from pathlib import Path
 from urllib.parse import urlsplit
 
-import panel as pn
 import pytest
-from playwright.sync_api import expect, sync_playwright
+from browser_session import ARTIFACTS, LOCAL_HOSTS, checked_context, require_chromium, served
+from playwright.sync_api import expect
 
 from dashboard.app import create_app
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-ARGS = [
-    "--headless=new",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
-ARTIFACTS = Path(__file__).resolve().parent.parent / "artifacts"
-LOCAL_HOSTS = {"127.0.0.1", "localhost"}
-
-if not Path(CHROMIUM).exists():
-    if os.environ.get("CI"):
-        pytest.fail(f"Chromium not found at {CHROMIUM} and CI is set", pytrace=False)
-    pytest.skip(f"Chromium not found at {CHROMIUM}", allow_module_level=True)
+require_chromium()
 
 
 @pytest.fixture(scope="module")
 def server_url():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        port = s.getsockname()[1]
-    server = pn.serve(
-        {"o2": create_app},
-        address="127.0.0.1",
-        port=port,
-        show=False,
-        threaded=True,
-        websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
-    )
-    url = f"http://127.0.0.1:{port}/o2"
-    deadline = time.monotonic() + 20
-    while True:
-        try:
-            urllib.request.urlopen(url, timeout=5).close()
-            break
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.1)
-    yield url
-    server.stop()
-    server.join(timeout=5)
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with sync_playwright() as p:
-        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        yield b
-        b.close()
-
-
-class _ErrorLog(logging.Handler):
-    """Collects server-side errors (callbacks run in the server thread, not the page)."""
-
-    def __init__(self):
-        super().__init__(level=logging.ERROR)
-        self.records = []
-
-    def emit(self, record):
-        self.records.append(self.format(record))
+    with served("/o2", create_app) as url:
+        yield url
 
 
 @pytest.fixture
 def page(browser, server_url):
-    server_errors = _ErrorLog()
-    logging.getLogger().addHandler(server_errors)
-    ctx = browser.new_context(viewport={"width": 1500, "height": 1000})
-    pg = ctx.new_page()
-    errors, requests = [], []
-    pg.on("pageerror", lambda e: errors.append(str(e)))
-    pg.on("request", lambda r: requests.append(r.url))
-    pg.on("websocket", lambda ws: requests.append(ws.url))
-    pg.requests = requests
-    pg.goto(server_url)
-    expect(pg.locator(".o2-numbers")).to_contain_text("PaO2", timeout=15000)
-    yield pg
-    ctx.close()
-    logging.getLogger().removeHandler(server_errors)
-    assert not errors, errors
-    assert not server_errors.records, server_errors.records
+    with checked_context(browser, viewport={"width": 1500, "height": 1000}) as ctx:
+        pg = ctx.new_page()
+        pg.on("websocket", lambda ws: ctx.requests.append(ws.url))
+        pg.requests = ctx.requests
+        pg.goto(server_url)
+        expect(pg.locator(".o2-numbers")).to_contain_text("PaO2", timeout=15000)
+        yield pg
 
 
 def value(page, key: str) -> float:

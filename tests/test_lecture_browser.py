@@ -11,20 +11,17 @@ from urllib.parse import urlsplit
 
 import pytest
 from browser_session import (
-    ARGS,
-    CHROMIUM,
+    LOCAL_HOSTS,
     checked_context,
     require_chromium,
     served,
     wait_address,
 )
-from playwright.sync_api import expect, sync_playwright
+from playwright.sync_api import expect
 
 from dashboard.app import SCREENS
 from dashboard.lecture_views import GLIDE_MS
 from dashboard.views import CAUTION
-
-LOCAL_HOSTS = {"127.0.0.1", "localhost"}
 
 require_chromium()
 
@@ -33,14 +30,6 @@ require_chromium()
 def base_url():
     with served("/lecture", SCREENS["/lecture"]) as url:
         yield url
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with sync_playwright() as p:
-        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        yield b
-        b.close()
 
 
 @pytest.fixture

@@ -7,15 +7,13 @@ import re
 
 import pytest
 from browser_session import (
-    ARGS,
-    CHROMIUM,
     address,
     checked_context,
     require_chromium,
     served,
     wait_address,
 )
-from playwright.sync_api import expect, sync_playwright
+from playwright.sync_api import expect
 
 from dashboard.app import create_app
 
@@ -26,14 +24,6 @@ require_chromium()
 def base_url():
     with served("/", create_app) as url:
         yield url
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with sync_playwright() as p:
-        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        yield b
-        b.close()
 
 
 @pytest.fixture
