@@ -123,11 +123,29 @@ def address(page) -> str:
     return page.evaluate("location.href")  # page.url lags behind history.pushState
 
 
-def wait_address(page, pattern: str, timeout: float = 10.0) -> str:
+def wait_for(read, ok, timeout: float, failure):
+    """Call ``read()`` every 50 ms until ``ok`` accepts its value; returns that value.
+
+    After ``timeout`` seconds: ``AssertionError(failure(value read once more))``.
+    """
     deadline = time.monotonic() + timeout
     while time.monotonic() < deadline:
-        href = address(page)
-        if re.search(pattern, href):
-            return href
+        value = read()
+        if ok(value):
+            return value
         time.sleep(0.05)
-    raise AssertionError(f"address {address(page)!r} never matched {pattern!r}")
+    raise AssertionError(failure(read()))
+
+
+def wait_match(read, pattern: str, what: str, timeout: float = 10.0) -> str:
+    """Wait until the text ``read()`` matches ``pattern``; ``what`` names it in the failure."""
+    return wait_for(
+        read,
+        lambda text: re.search(pattern, text),
+        timeout,
+        lambda text: f"{what} {text!r} never matched {pattern!r}",
+    )
+
+
+def wait_address(page, pattern: str, timeout: float = 10.0) -> str:
+    return wait_match(lambda: address(page), pattern, "address", timeout)

@@ -9,7 +9,6 @@ comparison from the address. Skipped only without Chromium and without CI.
 import csv
 import io
 import re
-import time
 from pathlib import Path
 from urllib.parse import parse_qsl, urlsplit
 
@@ -20,6 +19,7 @@ from browser_session import (
     checked_context,
     require_chromium,
     served_screens,
+    wait_for,
 )
 from playwright.sync_api import expect
 
@@ -70,14 +70,7 @@ def edit(page, row: int, field: str, text: str) -> None:
 
 
 def wait_rows(page, check, timeout: float = 20.0):
-    deadline = time.monotonic() + timeout
-    while True:
-        current = rows(page)
-        if check(current):
-            return current
-        if time.monotonic() > deadline:
-            raise AssertionError(current)
-        time.sleep(0.05)
+    return wait_for(lambda: rows(page), check, timeout, lambda current: current)
 
 
 def point_on_plot(page, title: str, x: float, y: float) -> tuple[float, float]:

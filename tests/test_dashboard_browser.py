@@ -4,11 +4,17 @@ Skipped only on a machine without Chromium and without CI; under CI a missing br
 """
 
 import re
-import time
 from urllib.parse import urlsplit
 
 import pytest
-from browser_session import ARTIFACTS, LOCAL_HOSTS, checked_context, require_chromium, served
+from browser_session import (
+    ARTIFACTS,
+    LOCAL_HOSTS,
+    checked_context,
+    require_chromium,
+    served,
+    wait_for,
+)
 from playwright.sync_api import expect
 
 from dashboard.app import create_app
@@ -40,13 +46,12 @@ def value(page, key: str) -> float:
 
 
 def wait_change(page, key: str, old: float, timeout: float = 10.0) -> float:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        new = value(page, key)
-        if new != old:
-            return new
-        time.sleep(0.05)
-    raise AssertionError(f"{key} stayed at {old}")
+    return wait_for(
+        lambda: value(page, key),
+        lambda new: new != old,
+        timeout,
+        lambda _: f"{key} stayed at {old}",
+    )
 
 
 def type_into(page, name: str, text: str) -> None:

@@ -16,6 +16,8 @@ from browser_session import (
     require_chromium,
     served,
     wait_address,
+    wait_for,
+    wait_match,
 )
 from playwright.sync_api import expect
 
@@ -58,13 +60,7 @@ def title(page) -> str:
 
 
 def wait_title(page, pattern: str, timeout: float = 10.0) -> str:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        text = title(page)
-        if re.search(pattern, text):
-            return text
-        time.sleep(0.05)
-    raise AssertionError(f"plot title {title(page)!r} never matched {pattern!r}")
+    return wait_match(lambda: title(page), pattern, "plot title", timeout)
 
 
 def readout(page) -> list[str]:
@@ -74,13 +70,7 @@ def readout(page) -> list[str]:
 
 
 def wait_readout(page, ok, timeout: float = 10.0) -> list[str]:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        text = readout(page)
-        if ok(text):
-            return text
-        time.sleep(0.05)
-    raise AssertionError(f"readout stayed {readout(page)!r}")
+    return wait_for(lambda: readout(page), ok, timeout, lambda text: f"readout stayed {text!r}")
 
 
 def test_presenter_keys_step_forward_and_back(context, base_url):
