@@ -41,7 +41,7 @@ def base_url():
 def context(browser):
     options = {"viewport": {"width": 1400, "height": 900}, "accept_downloads": True}
     # A tab closed while the server still writes to it is not an error of the page.
-    with checked_context(browser, ignore_server=("WebSocketClosedError",), **options) as ctx:
+    with checked_context(browser, **options) as ctx:
         yield ctx
 
 
