@@ -95,12 +95,12 @@ class ErrorLog(logging.Handler):
         self.records.append(self.format(record))
 
 
-@contextmanager
 # Tornado logs this when a page's websocket closes while the server is still writing to it,
 # as happens when the context is torn down mid-update: a property of closing, not of the app.
 TEARDOWN_NOISE = ("WebSocketClosedError",)
 
 
+@contextmanager
 def checked_context(browser, *, ignore_server: tuple[str, ...] = TEARDOWN_NOISE, **options):
     """A browser context that fails the test on a page error or a server error log.
 
