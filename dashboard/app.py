@@ -6,10 +6,8 @@ import ipaddress
 
 import panel as pn
 
-from dashboard.ascent_app import create_ascent_app
 from dashboard.bedside_state import BedsideState
 from dashboard.bedside_views import BedsideScreen
-from dashboard.lecture_app import create_lecture_app
 from dashboard.nav import screen_links
 from dashboard.state import CaseState
 from dashboard.urlstate import bind_url
@@ -51,26 +49,41 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
     # Both tabs share the one CaseState; the measured-gas tab's case folder follows
     # $O2TRANSIT_CASE_DIR, else the user's data folder (model.casebook.default_case_dir).
     measured_tab = BedsideScreen(BedsideState(state))
+    tabs = pn.Tabs(
+        ("Model inputs", model_tab),
+        ("Measured gas", measured_tab),
+        css_classes=["o2-case-tabs"],
+        sizing_mode="stretch_width",
+    )
     template.main.append(
         pn.Column(
             caution_pane(),
             CaseControls(state, scenario_dir=scenario_dir),
-            pn.Tabs(
-                ("Model inputs", model_tab),
-                ("Measured gas", measured_tab),
-                css_classes=["o2-case-tabs"],
-                sizing_mode="stretch_width",
-            ),
+            tabs,
             sizing_mode="stretch_width",
         )
     )
     return template
 
 
+def create_ascent_page() -> pn.template.BootstrapTemplate:
+    """The planner page; its modules (and pandas, via the table widget) load on first visit."""
+    from dashboard.ascent_app import create_ascent_app
+
+    return create_ascent_app()
+
+
+def create_lecture_page() -> pn.Column:
+    """The lecture page; its modules load on first visit."""
+    from dashboard.lecture_app import create_lecture_app
+
+    return create_lecture_app()
+
+
 SCREENS: dict[str, object] = {
     "/": create_app,
-    "/ascent": create_ascent_app,
-    "/lecture": create_lecture_app,
+    "/ascent": create_ascent_page,
+    "/lecture": create_lecture_page,
 }
 """URL path -> session factory; the link text of each path is in ``dashboard.nav.SCREEN_TITLES``."""
 

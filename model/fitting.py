@@ -52,7 +52,6 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.optimize import brentq, least_squares
 
 from .air import barometric_pressure
 from .bedside import (
@@ -288,6 +287,9 @@ def _fit_p50(
     assumptions: list[str],
 ) -> None:
     """Standard-state P50 putting the measured (PaO2, SaO2) pair on the arterial curve."""
+    # Imported here: scipy.optimize takes ~0.7 s to load and most callers never fit.
+    from scipy.optimize import brentq
+
     pao2, sao2 = mt["pao2_mmhg"], mt["sao2"]
     shown = m37["pao2_mmhg"]
     cond = _arterial_conditions(inputs)
@@ -440,6 +442,9 @@ def _fit_shunt(mt: dict, m37: dict, inputs: dict, messages: list[str]) -> float:
     PaO2 falls monotonically with shunt, so the root is bracketed by the ends of the range
     (the upper end lowered to where the venous content would reach zero).
     """
+    # Imported here: scipy.optimize takes ~0.7 s to load and most callers never fit.
+    from scipy.optimize import brentq
+
     lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
     # Highest shunt at which the venous content stays positive: Qs < 1 - (VO2/10Q)/CcO2.
     d_av = inputs["vo2_ml_min"] / (10.0 * inputs["cardiac_output_l_min"])
@@ -480,6 +485,9 @@ def _fit_shunt_vo2(mt: dict, inputs: dict, start: tuple[float, float]) -> tuple[
     The Jacobian is a forward difference (0.001 in shunt, 1 mL/min in VO2) computed with
     the residuals and kept, so an iteration costs three one-case chain solves.
     """
+    # Imported here: scipy.optimize takes ~0.7 s to load and most callers never fit.
+    from scipy.optimize import least_squares
+
     s_lo, s_hi = INPUT_LIMITS["shunt_fraction"][:2]
     v_lo, v_hi = INPUT_LIMITS["vo2_ml_min"][:2]
     targets = [k for k in ("pao2_mmhg", "svo2", "pvo2_mmhg") if k in mt]

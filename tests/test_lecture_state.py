@@ -241,6 +241,7 @@ def test_lecture_screen_is_registered():
     from dashboard.app import SCREENS
     from dashboard.nav import SCREEN_TITLES
 
-    assert SCREENS["/lecture"] is create_lecture_app
+    page = SCREENS["/lecture"]()
+    assert isinstance(page, type(create_lecture_app()))
     assert SCREEN_TITLES["/lecture"] == "Lecture"
     assert Path(LESSON_DIR).is_dir()
