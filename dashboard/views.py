@@ -536,6 +536,9 @@ class NumbersTable(pn.viewable.Viewer):
         return self._pane
 
 
+SCENARIO_PROMPT = "Choose a scenario…"
+
+
 class CaseControls(pn.viewable.Viewer):
     """Scenario picker, baseline buttons, display units and the status line."""
 
@@ -543,9 +546,11 @@ class CaseControls(pn.viewable.Viewer):
         super().__init__(**params)
         self._state = state
         options = state.scenario_choices(scenario_dir) if scenario_dir else state.scenario_choices()
+        # The picker opens on a prompt, so it never names a scenario that is not on screen.
         self._picker = pn.widgets.Select(
             label="Scenario",
-            options=options,
+            options={SCENARIO_PROMPT: "", **options},
+            value="",
             css_classes=["o2-scenario"],
             width=320,
             disabled=not options,
@@ -554,10 +559,11 @@ class CaseControls(pn.viewable.Viewer):
             label="Load",
             color="primary",
             css_classes=["o2-load"],
-            disabled=not options,
+            disabled=True,
             align="end",
             width=80,
         )
+        self._picker.param.watch(lambda e: setattr(self._load, "disabled", not e.new), "value")
         self._keep = pn.widgets.Button(
             label="Keep as baseline",
             css_classes=["o2-keep"],

@@ -12,6 +12,7 @@ from dashboard.app import _is_loopback, create_app, serve
 from dashboard.state import CaseState
 from dashboard.views import (
     CAUTION,
+    SCENARIO_PROMPT,
     CascadePlot,
     CaseControls,
     CurvePlot,
@@ -109,3 +110,11 @@ def test_non_loopback_address_warns(capsys, monkeypatch):
     kwargs = serve(port=5999, address="0.0.0.0", show=False)
     assert "reachable from the network" in capsys.readouterr().out
     assert kwargs["websocket_origin"] == ["0.0.0.0:5999", "localhost:5999"]
+
+
+def test_scenario_picker_opens_on_a_prompt_and_load_waits_for_a_choice():
+    controls = CaseControls(CaseState())
+    assert controls._picker.value == "" and controls._picker.labels[0] == SCENARIO_PROMPT
+    assert controls._load.disabled
+    controls._picker.value = controls._picker.values[1]
+    assert not controls._load.disabled
