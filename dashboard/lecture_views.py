@@ -84,9 +84,40 @@ shown._o2_raf = requestAnimationFrame(tick);
 ).replace("GLIDE_MS", str(GLIDE_MS))
 
 _PNG_JS = """
+// The plot as drawn, with the step's caption (the caption source) wrapped
+// underneath, so the image says what the lecturer said.
 const view = Bokeh.index.find_one(fig);
 if (view === null) { return; }
-view.export("png").to_blob().then((blob) => {
+const plot = view.export("png").canvas;
+const scale = plot.width / view.bbox.width;
+const text = caption.data.text.length ? String(caption.data.text[0]) : "";
+const size = Math.round(24 * scale), line = Math.round(32 * scale), pad = Math.round(24 * scale);
+const probe = document.createElement("canvas").getContext("2d");
+probe.font = size + "px " + FONT_CSS;
+const lines = [];
+let current = "";
+for (const word of text.split(/\\s+/).filter((w) => w.length)) {
+  const trial = current ? current + " " + word : word;
+  if (current && probe.measureText(trial).width > plot.width - 2 * pad) {
+    lines.push(current);
+    current = word;
+  } else {
+    current = trial;
+  }
+}
+if (current) { lines.push(current); }
+const out = document.createElement("canvas");
+out.width = plot.width;
+out.height = plot.height + (lines.length ? lines.length * line + pad : 0);
+const ctx = out.getContext("2d");
+ctx.fillStyle = "#ffffff";
+ctx.fillRect(0, 0, out.width, out.height);
+ctx.drawImage(plot, 0, 0);
+ctx.fillStyle = INK_CSS;
+ctx.font = size + "px " + FONT_CSS;
+ctx.textBaseline = "top";
+lines.forEach((text, i) => ctx.fillText(text, pad, plot.height + i * line + pad / 2));
+out.toBlob((blob) => {
   const a = document.createElement("a");
   a.href = URL.createObjectURL(blob);
   a.download = name;
@@ -94,8 +125,9 @@ view.export("png").to_blob().then((blob) => {
   a.click();
   a.remove();
   setTimeout(() => URL.revokeObjectURL(a.href), 10000);
-});
+}, "image/png");
 """
+
 
 SOURCE_NAMES = ("curves", "arterial", "tissue", "tissue_line", "p50", "readout")
 
@@ -404,8 +436,13 @@ class LecturePlot(pn.viewable.Viewer):
             )
         self.figure = build_figure(self._shown, state.frame, sizing_mode="stretch_both")
         self.figure.name = "o2-lecture-figure"
-        # The targets are drawn by nothing; holding them here puts them in the document.
-        self.figure.tags = list(self._targets.values())
+        # The caption, for the PNG export (the page shows it as HTML under the plot).
+        self.caption_source = ColumnDataSource(
+            data={"text": [state.frame["caption"] if state.frame else ""]}, name="o2-caption"
+        )
+        # The targets and the caption are drawn by nothing; holding them here puts them in
+        # the document.
+        self.figure.tags = [*self._targets.values(), self.caption_source]
         self._pane = pn.pane.Bokeh(
             self.figure, sizing_mode="stretch_both", min_height=360, css_classes=["o2-lecture-plot"]
         )
@@ -419,6 +456,7 @@ class LecturePlot(pn.viewable.Viewer):
         fig.x_range.end = frame["x_max"]
         for k, v in frame_data(frame).items():
             self._targets[k].data = v
+        self.caption_source.data = {"text": [frame["caption"]]}
 
     def __panel__(self):
         return self._pane
@@ -515,7 +553,12 @@ class LectureControls(pn.viewable.Viewer):
             label="Save PNG", css_classes=["o2-lecture-png"], stylesheets=[TOOL_CSS], width=110
         )
         self._png.js_on_click(
-            args={"fig": plot.figure, "name": "o2transit-lecture.png"}, code=_PNG_JS
+            args={
+                "fig": plot.figure,
+                "caption": plot.caption_source,
+                "name": "o2transit-lecture.png",
+            },
+            code=_PNG_JS.replace("FONT_CSS", repr(FONT)).replace("INK_CSS", repr(INK)),
         )
         self._html = pn.widgets.FileDownload(
             callback=self._html_file,
