@@ -51,7 +51,7 @@ _MODEL_INPUTS = (
     "vo2_ml_min",
     "vo2_temperature_scaling",
 )
-_CASE_INPUTS = (
+CASE_INPUTS = (
     *_MODEL_INPUTS,
     "use_pressure_override",
     "barometric_pressure_mmhg",
@@ -324,7 +324,7 @@ class CaseState(param.Parameterized):
             out[f"{name}_p50"] = (p50, float(model.saturation(p50, **cond)))
         return out
 
-    @param.depends(*_CASE_INPUTS, watch=True)
+    @param.depends(*CASE_INPUTS, watch=True)
     def _solve(self) -> None:
         try:
             result = model.solve_transport(**self.model_inputs())
@@ -489,14 +489,14 @@ class CaseState(param.Parameterized):
         return True
 
     def _updates_from_inputs(self, inputs: dict) -> dict:
-        updates = {name: self.param[name].default for name in _CASE_INPUTS}
+        updates = {name: self.param[name].default for name in CASE_INPUTS}
         if "barometric_pressure_mmhg" in inputs and inputs["barometric_pressure_mmhg"] is not None:
             updates["use_pressure_override"] = True
         if inputs.get("base_excess_mmol_l") is not None and inputs.get("ph") is None:
             updates["acid_base_input"] = "base excess"
         if inputs.get("p50_mmhg") is not None:
             updates["use_p50_override"] = True
-        known = set(_CASE_INPUTS)
+        known = set(CASE_INPUTS)
         for key, value in inputs.items():
             if value is None:
                 continue

@@ -24,7 +24,7 @@ from urllib.parse import parse_qsl, urlencode
 import panel as pn
 import param
 
-from dashboard.state import _CASE_INPUTS, CURVE_LABELS, CaseState
+from dashboard.state import CASE_INPUTS, CURVE_LABELS, CaseState
 from model.units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
 
 DISPLAY_KEYS = ("pressure_unit", "hb_unit")
@@ -39,7 +39,7 @@ UNIT_VARIANTS = {
     "hb_g_l": ("hb_g_dl", 0.1, "g/L"),
     "hb_mmol_l": ("hb_g_dl", 1.0 / HB_MMOL_L_PER_G_DL, "mmol/L"),
 }
-CASE_KEYS = (*_CASE_INPUTS, *DISPLAY_KEYS)
+CASE_KEYS = (*CASE_INPUTS, *DISPLAY_KEYS)
 """Every key the case screen owns in the address (unit variants are read, never written)."""
 
 _TRUE, _FALSE = ("true", "1", "yes", "on"), ("false", "0", "no", "off")
@@ -97,7 +97,7 @@ def case_query(state: CaseState) -> dict[str, str]:
         "base_excess_mmol_l": state.acid_base_input != "pH",
         "p50_mmhg": state.use_p50_override,
     }
-    for name in (*_CASE_INPUTS, *DISPLAY_KEYS):
+    for name in (*CASE_INPUTS, *DISPLAY_KEYS):
         if name in _MODE_KEYS:
             continue
         value = getattr(state, name)

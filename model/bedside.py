@@ -58,33 +58,35 @@ from .air import barometric_pressure
 from .circulation import body_surface_area, extraction_ratio, oxygen_delivery
 from .content import oxygen_content
 from .dissociation import HILL_N, p50, po2_from_saturation, saturation
+from .limits import INPUT_LIMITS
 from .lungs import aa_gradient, alveolar_po2
 
 MEASURED_LIMITS: dict[str, tuple[float, float, str, str]] = {
     "pao2_mmhg": (10.0, 750.0, "mmHg", "PaO2"),
-    "paco2_mmhg": (5.0, 150.0, "mmHg", "PaCO2"),
+    "paco2_mmhg": INPUT_LIMITS["paco2_mmhg"],
     "ph": (6.6, 7.9, "", "Arterial pH"),
     "sao2": (0.05, 1.0, "", "SaO2"),
-    "hb_g_dl": (2.0, 25.0, "g/dL", "Haemoglobin"),
-    "cohb_fraction": (0.0, 0.7, "", "COHb fraction"),
-    "methb_fraction": (0.0, 0.7, "", "MetHb fraction"),
+    "hb_g_dl": INPUT_LIMITS["hb_g_dl"],
+    "cohb_fraction": INPUT_LIMITS["cohb_fraction"],
+    "methb_fraction": INPUT_LIMITS["methb_fraction"],
     "lactate_mmol_l": (0.0, 30.0, "mmol/L", "Lactate"),
-    "temperature_c": (25.0, 43.0, "degC", "Temperature"),
-    "fio2": (0.05, 1.0, "", "FiO2"),
-    "barometric_pressure_mmhg": (150.0, 1100.0, "mmHg", "Barometric pressure"),
-    "altitude_m": (-500.0, 9000.0, "m", "Altitude"),
+    "temperature_c": INPUT_LIMITS["temperature_c"],
+    "fio2": INPUT_LIMITS["fio2"],
+    "barometric_pressure_mmhg": INPUT_LIMITS["barometric_pressure_mmhg"],
+    "altitude_m": INPUT_LIMITS["altitude_m"],
     "mean_airway_pressure_cmh2o": (1.0, 60.0, "cmH2O", "Mean airway pressure"),
     "pvo2_mmhg": (5.0, 200.0, "mmHg", "PvO2"),
     "svo2": (0.05, 1.0, "", "SvO2"),
     "pvco2_mmhg": (5.0, 200.0, "mmHg", "PvCO2"),
-    "cardiac_output_l_min": (0.5, 40.0, "L/min", "Cardiac output"),
+    "cardiac_output_l_min": INPUT_LIMITS["cardiac_output_l_min"],
     "cardiac_index_l_min_m2": (0.3, 20.0, "L/min/m2", "Cardiac index"),
     "height_cm": (40.0, 250.0, "cm", "Height"),
     "weight_kg": (2.0, 350.0, "kg", "Weight"),
     "age_years": (0.0, 120.0, "years", "Age"),
 }
 """Measured key -> (lowest, highest, unit, label). Ranges are common practice: wide enough
-for any patient, narrow enough to keep the published equations near their data."""
+for any patient, narrow enough to keep the published equations near their data. Keys the
+chain also takes share its :data:`model.limits.INPUT_LIMITS` entry, so the two cannot drift."""
 
 REQUIRED_MEASURED = ("pao2_mmhg", "paco2_mmhg", "ph", "sao2", "hb_g_dl", "fio2", "temperature_c")
 """Keys without which nothing is derived; every other key is optional."""

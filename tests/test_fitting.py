@@ -194,10 +194,10 @@ def test_fit_agrees_with_fick_and_berggren_on_the_measurements():
 
 
 def test_inputs_are_a_live_case_for_the_dashboard():
-    from dashboard.state import _CASE_INPUTS, CaseState
+    from dashboard.state import CASE_INPUTS, CaseState
 
     fit = fit_case(synthesise())
-    assert set(fit.inputs) <= set(_CASE_INPUTS)
+    assert set(fit.inputs) <= set(CASE_INPUTS)
     state = CaseState()
     assert state.apply_inputs(fit.inputs), state.error_message
     assert float(state.result.arterial.po2_mmhg) == pytest.approx(
