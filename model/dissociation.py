@@ -416,9 +416,10 @@ class PreparedCurve:
             f = u - t
             hi = np.where(f > 0, u, hi)
             lo = np.where(f > 0, lo, u)
-            df = 1.0 + _total_slope(name, q, t, k, np) * p * sco / (d * d)
-            new = u - f / df
-            out = ((new < lo) | (new > hi) | ~np.isfinite(new)) & (f != 0)
+            # (p / d) (sCO / d), not p sCO / d^2: d^2 underflows to 0 when PO2 and sCO are tiny
+            df = 1.0 + _total_slope(name, q, t, k, np) * (p / d) * (sco / d)
+            new = np.where(f == 0, u, u - f / df)
+            out = (new < lo) | (new > hi) | ~np.isfinite(new)
             new = np.where(out, 0.5 * (lo + hi), new)
             step = np.where(skip, 0.0, new - u)
             u = new
@@ -504,7 +505,7 @@ class ScalarCurve:
                 lo = u
             if f == 0.0:
                 break
-            new = u - f / (1.0 + _total_slope(name, q, t, k, math) * p * sco / (d * d))
+            new = u - f / (1.0 + _total_slope(name, q, t, k, math) * (p / d) * (sco / d))
             if not lo <= new <= hi:
                 new = 0.5 * (lo + hi)
             step = new - u

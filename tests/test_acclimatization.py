@@ -2,8 +2,9 @@
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import barometric_pressure, inspired_po2
 from model.acclimatization import (
@@ -180,7 +181,7 @@ def test_descent_returns_toward_baseline():
     assert float(down[-1].hb_mass_ratio) < float(up.hb_mass_ratio)
 
 
-@settings(max_examples=60, deadline=None)
+@budget(60)
 @given(st.floats(0.0, 8500.0), st.floats(0.21, 1.0))
 def test_oxygen_lowers_equivalent_altitude(h, fio2):
     eq = float(equivalent_altitude(h, fio2))
@@ -188,7 +189,7 @@ def test_oxygen_lowers_equivalent_altitude(h, fio2):
     assert float(equivalent_altitude(h, 0.2093)) == pytest.approx(h, abs=1e-3)
 
 
-@settings(max_examples=60, deadline=None)
+@budget(60)
 @given(st.floats(40.0, 160.0), st.floats(40.0, 160.0))
 def test_paco2_targets_monotonic_in_pio2(a, b):
     lo, hi = min(a, b), max(a, b)

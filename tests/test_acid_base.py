@@ -7,8 +7,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import solve_transport
 from model.acid_base import (
@@ -21,7 +22,7 @@ from model.acid_base import (
 )
 
 DATA = Path(__file__).parent / "data"
-FAST = settings(max_examples=100, deadline=None)
+FAST = budget(100)
 
 
 def _rows(name):

@@ -8,9 +8,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 from ambiance import Atmosphere
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 from iapws.iapws97 import _PSat_T
+from properties import budget
 
 from model import (
     barometric_pressure,
@@ -26,7 +27,7 @@ from model import (
 
 DATA = Path(__file__).parent / "data"
 PA_PER_MMHG = 133.322387415  # 101325 Pa / 760 (definition of the standard atmosphere)
-FAST = settings(max_examples=100, deadline=None)
+FAST = budget(100)
 
 
 def test_reference_tables_name_their_source():

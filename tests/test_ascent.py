@@ -5,8 +5,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model.ascent import (
     AscentDay,
@@ -95,7 +96,7 @@ def schedules(draw):
     return list(np.clip(start + np.cumsum([0.0, *steps]), 0.0, 7000.0))
 
 
-@settings(max_examples=150, deadline=None)
+@budget(150)
 @given(schedules(), st.data())
 def test_adding_a_rest_day_never_adds_a_flag(sleep, data):
     i = data.draw(st.integers(0, len(sleep) - 1))
@@ -159,7 +160,7 @@ def test_oxygen_example_reports_equivalent_altitude():
     np.testing.assert_allclose(r.equivalent_altitude_m[~on_o2], r.sleep_altitude_m[~on_o2])
 
 
-@settings(max_examples=12, deadline=None)
+@budget(12)
 @given(schedules(), st.data())
 def test_supplemental_oxygen_never_lowers_sao2(sleep, data):
     sleep = [min(h, 6000.0) for h in sleep]
@@ -175,7 +176,7 @@ def test_supplemental_oxygen_never_lowers_sao2(sleep, data):
     assert np.all(o2.high.arterial.so2[on] >= air.high.arterial.so2[on] - 1e-9)
 
 
-@settings(max_examples=12, deadline=None)
+@budget(12)
 @given(
     st.lists(st.sampled_from([0.0, 0.0, 300.0, 500.0]), min_size=2, max_size=12),
     st.sampled_from([1000.0, 2800.0, 3500.0]),

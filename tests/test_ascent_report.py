@@ -4,8 +4,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 import model
 from model.ascent import AscentDay, AscentProfile, load_ascent, run_ascent, run_ascents
@@ -57,7 +58,7 @@ def test_default_thresholds_give_the_model_summary(result):
     assert len(flagged_days(result)) == sum(1 for f in result.flags if f)
 
 
-@settings(max_examples=40, deadline=None)
+@budget(40)
 @given(st.floats(0.5, 1.0), st.floats(0.5, 1.0))
 def test_a_higher_threshold_never_counts_fewer_nights(a, b):
     lo, hi = sorted((a, b))

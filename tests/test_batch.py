@@ -10,8 +10,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import derive
 from model.batch import (
@@ -229,7 +230,7 @@ def test_a_row_derive_refuses_is_isolated(monkeypatch):
     assert np.isnan(derived["pao2_fio2_ratio"][1]) and derived["notes"][1] == ""
 
 
-@settings(max_examples=40, deadline=None)
+@budget(40)
 @given(
     cells=st.lists(st.text(max_size=8), min_size=1, max_size=6), column=st.sampled_from(REQUIRED)
 )

@@ -4,12 +4,13 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import oxygen_content
 
-FAST = settings(max_examples=100, deadline=None)
+FAST = budget(100)
 
 
 @pytest.mark.parametrize(

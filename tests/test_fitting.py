@@ -5,8 +5,9 @@ from __future__ import annotations
 import math
 
 import pytest
-from hypothesis import assume, given, settings
+from hypothesis import assume, given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import STANDARD_P50_MMHG, derive, fit_case, oxygen_content, solve_transport
 from model.fitting import SAO2_TOLERANCE, _to_37
@@ -361,7 +362,7 @@ def test_delivery_too_low_for_any_fit_is_refused_in_words():
 # --- invariant: any identifiable model-made case comes back --------------------------------
 
 
-@settings(max_examples=10, deadline=None)
+@budget(10)
 @given(
     shunt=st.floats(0.02, 0.45),
     vo2=st.floats(150.0, 450.0),

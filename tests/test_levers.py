@@ -6,14 +6,15 @@ import itertools
 import math
 
 import pytest
-from hypothesis import assume, given, settings
+from hypothesis import assume, given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import HUFNER_ML_G, NORMAL_DPG_MMOL_L, rank_levers, solve_transport
 from model.circulation import VO2_Q10_PER_C
 from model.levers import RANK_QUANTITIES, STORED_BLOOD_DPG_MMOL_L, sort_outcomes
 
-FAST = settings(max_examples=20, deadline=None)
+FAST = budget(20)
 
 # An invented ventilated patient of our own.
 CASE = {

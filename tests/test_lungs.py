@@ -4,13 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import alveolar_po2, solve_transport
 from model.lungs import end_capillary_po2
 
-FAST = settings(max_examples=100, deadline=None)
+FAST = budget(100)
 
 
 def test_alveolar_gas_reference_example():
@@ -159,7 +160,7 @@ def test_chain_summit_diffusion_limited():
     assert gap_top > gap_sea + 1.0
 
 
-@settings(max_examples=60, deadline=None)
+@budget(60)
 @given(
     qs=st.lists(st.floats(0.0, 0.35), min_size=2, max_size=12),
     altitude=st.floats(0.0, 3000.0),

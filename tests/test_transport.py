@@ -8,8 +8,9 @@ import json
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
+from properties import budget
 
 from model import (
     INPUT_LIMITS,
@@ -23,7 +24,7 @@ from model import (
     vo2_at_temperature,
 )
 
-FAST = settings(max_examples=60, deadline=None)
+FAST = budget(60)
 SOLVER_KEYS = set(inspect.signature(solve_transport).parameters)
 
 
