@@ -66,11 +66,11 @@ bench: $(STAMP)
 	@set -e; for f in bench/bench_*.py; do echo "== $$f"; $(BIN)/python $$f; done
 
 lint: $(STAMP)
-	$(BIN)/ruff check model dashboard tests bench
+	$(BIN)/ruff check o2transit model dashboard tests bench
 
 # Reports the files ruff would reformat; `ruff format FILE` applies it.
 format-check: $(STAMP)
-	$(BIN)/ruff format --check model dashboard tests bench
+	$(BIN)/ruff format --check o2transit model dashboard tests bench
 
 clean-venv:
 	rm -rf $(VENV)

@@ -13,9 +13,8 @@ from __future__ import annotations
 import time
 
 import numpy as np
-
-from model import solve_transport
-from model.ascent import AscentDay, AscentProfile, run_ascents
+from o2transit.model import solve_transport
+from o2transit.model.ascent import AscentDay, AscentProfile, run_ascents
 
 
 def schedule(step_m: float, rest_every: int, name: str) -> AscentProfile:

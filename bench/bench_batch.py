@@ -26,9 +26,8 @@ import time
 from pathlib import Path
 
 import numpy as np
-
-from model.batch import BATCH_OUTPUTS, run_batch
-from model.bedside import DERIVED_FIELDS, check_measured, derive
+from o2transit.model.batch import BATCH_OUTPUTS, run_batch
+from o2transit.model.bedside import DERIVED_FIELDS, check_measured, derive
 
 N_ROWS = 100_000
 TARGET_S = 5.0

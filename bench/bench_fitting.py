@@ -15,9 +15,8 @@ from __future__ import annotations
 import time
 
 import numpy as np
+from o2transit.model import fit_case, rank_levers, solve_transport
 from scipy.optimize import least_squares
-
-from model import fit_case, rank_levers, solve_transport
 
 ARTERIAL = {
     "pao2_mmhg": 64.0,

@@ -26,11 +26,10 @@ import argparse
 import time
 
 import numpy as np
+from o2transit.model import CURVES, oxygen_content, po2_from_saturation, saturation, solve_transport
+from o2transit.model.dissociation import _total_formula, prepare_curve
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
-
-from model import CURVES, oxygen_content, po2_from_saturation, saturation, solve_transport
-from model.dissociation import _total_formula, prepare_curve
 
 N_CURVE = 1_000_000
 N_BATCH = 100_000

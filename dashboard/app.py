@@ -6,12 +6,12 @@ import ipaddress
 
 import panel as pn
 
-from dashboard.bedside_state import BedsideState
-from dashboard.bedside_views import BedsideScreen
-from dashboard.nav import screen_links
-from dashboard.state import CaseState
-from dashboard.urlstate import bind_url
-from dashboard.views import (
+from .bedside_state import BedsideState
+from .bedside_views import BedsideScreen
+from .nav import screen_links
+from .state import CaseState
+from .urlstate import bind_url
+from .views import (
     ACCENT,
     CascadePlot,
     CaseControls,
@@ -68,14 +68,14 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
 
 def create_ascent_page() -> pn.template.BootstrapTemplate:
     """The planner page; its modules (and pandas, via the table widget) load on first visit."""
-    from dashboard.ascent_app import create_ascent_app
+    from .ascent_app import create_ascent_app
 
     return create_ascent_app()
 
 
 def create_lecture_page() -> pn.Column:
     """The lecture page; its modules load on first visit."""
-    from dashboard.lecture_app import create_lecture_app
+    from .lecture_app import create_lecture_app
 
     return create_lecture_app()
 

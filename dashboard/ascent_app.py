@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import panel as pn
 
-from dashboard.ascent_state import QUERY_KEY, AscentWorkspace
-from dashboard.ascent_views import (
+from .ascent_state import QUERY_KEY, AscentWorkspace
+from .ascent_views import (
     CaseLink,
     ComparisonPlots,
     ExportButtons,
@@ -20,9 +20,9 @@ from dashboard.ascent_views import (
     SummaryTable,
     Thresholds,
 )
-from dashboard.nav import screen_links
-from dashboard.urlstate import read_query, show_url_messages, url_message_pane, write_query
-from dashboard.views import ACCENT, caution_pane
+from .nav import screen_links
+from .urlstate import read_query, show_url_messages, url_message_pane, write_query
+from .views import ACCENT, caution_pane
 
 TITLE = "o2transit · ascent planner"
 

@@ -14,7 +14,8 @@ import io
 
 from bokeh.embed import components
 
-from dashboard.ascent_figures import (
+from ..model.ascent_report import DAY_COLUMNS, day_rows
+from .ascent_figures import (
     LEGEND_CSS,
     SUMMARY_CSS,
     ComparisonFigures,
@@ -22,10 +23,9 @@ from dashboard.ascent_figures import (
     legend_html,
     summary_html,
 )
-from dashboard.ascent_state import AscentWorkspace
-from dashboard.offline import inline_resources
-from dashboard.views import ACCENT, CAUTION, INK
-from model.ascent_report import DAY_COLUMNS, day_rows
+from .ascent_state import AscentWorkspace
+from .offline import inline_resources
+from .views import ACCENT, CAUTION, INK
 
 
 def _key(fraction: float) -> str:

@@ -22,7 +22,7 @@ from bokeh.models import (
 )
 from bokeh.plotting import figure
 
-from dashboard.views import ACCENT, INK
+from .views import ACCENT, INK
 
 # Colour-blind-safe set (Okabe & Ito 2008, "Color universal design"), one per slot.
 SLOT_COLORS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")

@@ -19,7 +19,7 @@ from urllib.parse import urlencode
 import numpy as np
 import param
 
-from model.ascent import (
+from ..model.ascent import (
     AscentDay,
     AscentError,
     AscentProfile,
@@ -30,9 +30,10 @@ from model.ascent import (
     load_ascent,
     run_ascent,
 )
-from model.ascent_report import CASE_KEYS, hypoxic_burden, night_case_inputs, nights_below
+from ..model.ascent_report import CASE_KEYS, hypoxic_burden, night_case_inputs, nights_below
+from ..model.scenario import ASCENT_EXAMPLES_DIR
 
-EXAMPLE_DIR = Path(__file__).resolve().parent.parent / "scenarios" / "ascents"
+EXAMPLE_DIR = ASCENT_EXAMPLES_DIR
 MAX_COMPARED = 4
 QUERY_KEY = "schedules"
 """Address key of the planner screen: the compared schedules, e.g. ``fast-to-5300m,slow``."""

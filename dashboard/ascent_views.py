@@ -16,8 +16,8 @@ import pandas as pd
 import panel as pn
 from bokeh.models.widgets.tables import NumberFormatter
 
-from dashboard.ascent_export import comparison_csv, comparison_html
-from dashboard.ascent_figures import (
+from .ascent_export import comparison_csv, comparison_html
+from .ascent_figures import (
     LEGEND_CSS,
     PANELS,
     SUMMARY_CSS,
@@ -26,8 +26,8 @@ from dashboard.ascent_figures import (
     legend_html,
     summary_html,
 )
-from dashboard.ascent_state import MAX_COMPARED, AscentWorkspace
-from dashboard.views import ACCENT, INK
+from .ascent_state import MAX_COMPARED, AscentWorkspace
+from .views import ACCENT, INK
 
 _WATCHED = ["schedules", "results", "compared", "threshold_high_pct", "threshold_low_pct"]
 MESSAGE_STYLE = {

@@ -19,9 +19,9 @@ from pathlib import Path
 import numpy as np
 import param
 
-import model
-from dashboard.state import PO2_GRID_MMHG, CaseState
-from model import bedside, casebook, fitting, levers
+from .. import model
+from ..model import bedside, casebook, fitting, levers
+from .state import PO2_GRID_MMHG, CaseState
 
 # Groups of the entry form, in the order an arterial gas report is read.
 FORM_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (

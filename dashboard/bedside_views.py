@@ -13,9 +13,9 @@ import io
 import panel as pn
 from bokeh.models import ColumnDataSource, LabelSet
 
-from dashboard.bedside_state import FORM_GROUPS, BedsideState
-from dashboard.summary import summary_html
-from dashboard.views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS, saturation_figure
+from .bedside_state import FORM_GROUPS, BedsideState
+from .summary import summary_html
+from .views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS, saturation_figure
 
 DERIVED_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
     (

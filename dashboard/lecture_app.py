@@ -12,11 +12,11 @@ import html
 
 import panel as pn
 
-from dashboard.lecture_state import LESSON_DIR, LectureState
-from dashboard.lecture_views import INK, PAPER, LectureControls, LecturePlot
-from dashboard.nav import screen_links
-from dashboard.urlstate import read_query, show_url_messages, url_message_pane, write_query
-from dashboard.views import ACCENT
+from .lecture_state import LESSON_DIR, LectureState
+from .lecture_views import INK, PAPER, LectureControls, LecturePlot
+from .nav import screen_links
+from .urlstate import read_query, show_url_messages, url_message_pane, write_query
+from .views import ACCENT
 
 TITLE = "o2transit · lecture"
 

@@ -24,9 +24,8 @@ from pathlib import Path
 import numpy as np
 import param
 
-import model
-from dashboard.state import SCENARIO_DIR, CaseState
-from model.lesson import (
+from .. import model
+from ..model.lesson import (
     DEFAULT_TISSUE_PO2_MMHG,
     TISSUE_PO2_LIMITS_MMHG,
     Lesson,
@@ -34,8 +33,8 @@ from model.lesson import (
     lesson_files,
     load_lesson,
 )
-
-LESSON_DIR = SCENARIO_DIR / "lessons"
+from ..model.scenario import LESSON_DIR
+from .state import CaseState
 
 FETAL_P50_MMHG = 19.0
 """Standard-state P50 of fetal blood [mmHg]. From memory: typical fetal values are about

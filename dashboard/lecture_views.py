@@ -38,9 +38,9 @@ from bokeh.models import (
 )
 from bokeh.plotting import figure
 
-from dashboard.lecture_state import FACTORS, LectureState
-from dashboard.offline import offline_file_html
-from dashboard.views import CAUTION
+from .lecture_state import FACTORS, LectureState
+from .offline import offline_file_html
+from .views import CAUTION
 
 GLIDE_MS = 350
 

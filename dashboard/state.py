@@ -15,10 +15,11 @@ from pathlib import Path
 import numpy as np
 import param
 
-import model
-from dashboard.ranges import NORMAL_RANGES
+from .. import model
+from ..model.scenario import EXAMPLES_DIR
+from .ranges import NORMAL_RANGES
 
-SCENARIO_DIR = Path(__file__).resolve().parent.parent / "scenarios"
+SCENARIO_DIR = EXAMPLES_DIR
 PO2_GRID_MMHG = np.linspace(0.5, 150.0, 300)
 
 CURVE_LABELS = {

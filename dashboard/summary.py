@@ -16,8 +16,8 @@ from bokeh.models import Range1d
 from bokeh.plotting import figure
 from bokeh.resources import Resources
 
-from dashboard.bedside_state import BedsideState
-from dashboard.views import ACCENT, ARTERIAL, CAUTION, INK, REFERENCE, VENOUS
+from .bedside_state import BedsideState
+from .views import ACCENT, ARTERIAL, CAUTION, INK, REFERENCE, VENOUS
 
 BOKEH_JS = Resources(mode="inline", components=["bokeh"])
 """Only the core BokehJS library, written into the page (no widgets, tables, GL, MathJax)."""

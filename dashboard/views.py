@@ -15,12 +15,8 @@ from bokeh.core.properties import value as fixed_value
 from bokeh.models import ColumnDataSource, FactorRange, LabelSet, Range1d
 from bokeh.plotting import figure
 
-from dashboard.state import CaseState
-
-CAUTION = (
-    "o2transit is an aid for education and planning, not a medical device. Verify against "
-    "measurements; defer to local protocols and licensed clinical practice."
-)
+from ..model.caution import CAUTION
+from .state import CaseState
 
 # Our palette: oxygenated ember, deoxygenated slate-violet, graphite for reference.
 ARTERIAL = "#c2410c"

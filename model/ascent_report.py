@@ -40,7 +40,7 @@ def night_case_inputs(result: AscentResult, day: int) -> dict:
 
     Examples
     --------
-    >>> from model.ascent import AscentDay, AscentProfile, run_ascent
+    >>> from o2transit.model.ascent import AscentDay, AscentProfile, run_ascent
     >>> r = run_ascent(AscentProfile("x", (AscentDay(0.0), AscentDay(3000.0))))
     >>> case = night_case_inputs(r, 2)
     >>> case["altitude_m"], case["pressure_model"], case["paco2_mmhg"] < 40.0
@@ -69,7 +69,7 @@ def nights_below(result: AscentResult, threshold: float) -> int:
 
     Examples
     --------
-    >>> from model.ascent import AscentDay, AscentProfile, run_ascent
+    >>> from o2transit.model.ascent import AscentDay, AscentProfile, run_ascent
     >>> r = run_ascent(AscentProfile("x", (AscentDay(0.0), AscentDay(5000.0))))
     >>> nights_below(r, 0.90), nights_below(r, 0.50)
     (1, 0)
@@ -85,7 +85,7 @@ def hypoxic_burden(result: AscentResult, threshold: float = 0.90) -> float:
 
     Examples
     --------
-    >>> from model.ascent import AscentDay, AscentProfile, run_ascent
+    >>> from o2transit.model.ascent import AscentDay, AscentProfile, run_ascent
     >>> r = run_ascent(AscentProfile("x", (AscentDay(0.0),) * 2))
     >>> hypoxic_burden(r, 0.90)
     0.0
@@ -99,7 +99,7 @@ def flagged_days(result: AscentResult) -> list[int]:
 
     Examples
     --------
-    >>> from model.ascent import AscentDay, AscentProfile, run_ascent
+    >>> from o2transit.model.ascent import AscentDay, AscentProfile, run_ascent
     >>> flagged_days(run_ascent(AscentProfile("x", (AscentDay(2800.0), AscentDay(3400.0)))))
     [2]
     """
@@ -137,7 +137,7 @@ def day_rows(result: AscentResult) -> list[dict]:
 
     Examples
     --------
-    >>> from model.ascent import AscentDay, AscentProfile, run_ascent
+    >>> from o2transit.model.ascent import AscentDay, AscentProfile, run_ascent
     >>> rows = day_rows(run_ascent(AscentProfile("x", (AscentDay(0.0, 400.0),))))
     >>> rows[0]["day"], rows[0]["high_altitude_m"], rows[0]["flags"]
     (1, 400.0, '')

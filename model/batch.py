@@ -39,7 +39,7 @@ from pathlib import Path
 import numpy as np
 
 from .bedside import DERIVED_FIELDS, MEASURED_LIMITS, REQUIRED_MEASURED, derive
-from .cli import CAUTION
+from .caution import CAUTION
 from .units import MMHG_PER_KPA
 
 COLUMN_VARIANTS: dict[str, tuple[str, float, str]] = {

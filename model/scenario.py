@@ -14,6 +14,12 @@ from .dissociation import CURVES
 from .limits import INPUT_LIMITS
 from .units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
 
+#: The example files shipped with o2transit: ``scenarios/`` at the top of the repository,
+#: installed as the package data ``o2transit/scenarios`` (a sibling of this package either way).
+EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "scenarios"
+ASCENT_EXAMPLES_DIR = EXAMPLES_DIR / "ascents"
+LESSON_DIR = EXAMPLES_DIR / "lessons"
+
 # table -> key -> (solver keyword, factor to the solver's unit or None)
 _KEYS: dict[str, dict[str, tuple[str, float | None]]] = {
     "air": {

@@ -19,7 +19,7 @@ import pytest
 from hypothesis import HealthCheck, settings
 from hypothesis.database import DirectoryBasedExampleDatabase
 
-_REPEATABLE = dict(
+_REPEATABLE = dict(  # noqa: C408
     derandomize=True,
     database=None,
     deadline=timedelta(seconds=10),

@@ -4,10 +4,8 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-from model import barometric_pressure, inspired_po2
-from model.acclimatization import (
+from o2transit.model import barometric_pressure, inspired_po2
+from o2transit.model.acclimatization import (
     acclimatization_step,
     acclimatized_paco2,
     acute_paco2,
@@ -20,6 +18,7 @@ from model.acclimatization import (
     ph_henderson_hasselbalch,
     plasma_volume_target,
 )
+from properties import budget
 
 
 def pio2_at(h, fio2=0.2093):

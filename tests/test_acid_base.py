@@ -9,10 +9,8 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-from model import solve_transport
-from model.acid_base import (
+from o2transit.model import solve_transport
+from o2transit.model.acid_base import (
     base_excess,
     bicarbonate,
     blood_co2_content,
@@ -20,6 +18,7 @@ from model.acid_base import (
     co2_solubility,
     ph_from_base_excess,
 )
+from properties import budget
 
 DATA = Path(__file__).parent / "data"
 FAST = budget(100)

@@ -11,9 +11,7 @@ from ambiance import Atmosphere
 from hypothesis import given
 from hypothesis import strategies as st
 from iapws.iapws97 import _PSat_T
-from properties import budget
-
-from model import (
+from o2transit.model import (
     barometric_pressure,
     hb_g_dl_to_g_l,
     hb_g_dl_to_mmol_l,
@@ -24,6 +22,7 @@ from model import (
     mmhg_to_kpa,
     water_vapour_pressure,
 )
+from properties import budget
 
 DATA = Path(__file__).parent / "data"
 PA_PER_MMHG = 133.322387415  # 101325 Pa / 760 (definition of the standard atmosphere)

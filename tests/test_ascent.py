@@ -7,9 +7,7 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-from model.ascent import (
+from o2transit.model.ascent import (
     AscentDay,
     AscentError,
     AscentProfile,
@@ -22,7 +20,9 @@ from model.ascent import (
     run_ascent,
     run_ascents,
 )
-from model.cli import main
+from properties import budget
+
+from o2transit.cli import main
 
 ASCENTS = Path(__file__).resolve().parents[1] / "scenarios" / "ascents"
 FAST, SLOW = ASCENTS / "fast-to-5300m.toml", ASCENTS / "slow-to-5300m.toml"

@@ -21,9 +21,8 @@ from browser_session import (
     served_screens,
     wait_for,
 )
+from o2transit.dashboard.app import SCREENS
 from playwright.sync_api import expect
-
-from dashboard.app import SCREENS
 
 # Two cores are often shared with other work: allow a loaded machine time for each change.
 expect.set_options(timeout=20_000)

@@ -6,11 +6,8 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-import model
-from model.ascent import AscentDay, AscentProfile, load_ascent, run_ascent, run_ascents
-from model.ascent_report import (
+from o2transit.model.ascent import AscentDay, AscentProfile, load_ascent, run_ascent, run_ascents
+from o2transit.model.ascent_report import (
     CASE_KEYS,
     DAY_COLUMNS,
     day_rows,
@@ -19,6 +16,9 @@ from model.ascent_report import (
     night_case_inputs,
     nights_below,
 )
+from properties import budget
+
+from o2transit import model
 
 EXAMPLES = sorted((Path(__file__).resolve().parent.parent / "scenarios" / "ascents").glob("*.toml"))
 RESULTS = run_ascents([load_ascent(p) for p in EXAMPLES])

@@ -8,14 +8,14 @@ from urllib.parse import parse_qsl, urlsplit
 
 import pytest
 from bokeh.document import Document
+from o2transit.dashboard.ascent_export import comparison_csv, comparison_html
+from o2transit.dashboard.ascent_state import EXAMPLE_DIR, MAX_COMPARED, AscentWorkspace
+from o2transit.dashboard.state import CaseState
+from o2transit.dashboard.views import CAUTION
+from o2transit.model.ascent import days_to_csv, load_ascent, run_ascent
+from o2transit.model.ascent_report import hypoxic_burden, night_case_inputs, nights_below
 
-import model
-from dashboard.ascent_export import comparison_csv, comparison_html
-from dashboard.ascent_state import EXAMPLE_DIR, MAX_COMPARED, AscentWorkspace
-from dashboard.state import CaseState
-from dashboard.views import CAUTION
-from model.ascent import days_to_csv, load_ascent, run_ascent
-from model.ascent_report import hypoxic_burden, night_case_inputs, nights_below
+from o2transit import model
 
 
 @pytest.fixture
@@ -298,8 +298,8 @@ def test_comparison_html_is_standalone_and_holds_the_data(ws):
 
 # ---------------------------------------------------------------- views without a server
 def test_views_render_and_follow_the_state(ws):
-    from dashboard.ascent_app import create_ascent_app
-    from dashboard.ascent_views import ComparisonPlots, ScheduleEditor, SummaryTable
+    from o2transit.dashboard.ascent_app import create_ascent_app
+    from o2transit.dashboard.ascent_views import ComparisonPlots, ScheduleEditor, SummaryTable
 
     assert create_ascent_app(AscentWorkspace()).server_doc(Document()) is not None
     plots = ComparisonPlots(ws)

@@ -12,10 +12,8 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-from model import derive
-from model.batch import (
+from o2transit.model import derive
+from o2transit.model.batch import (
     ALL_OUTPUTS,
     BATCH_OUTPUTS,
     CAUTION,
@@ -25,8 +23,10 @@ from model.batch import (
     read_table,
     run_batch,
 )
-from model.bedside import DERIVED_FIELDS
-from model.cli import main
+from o2transit.model.bedside import DERIVED_FIELDS
+from properties import budget
+
+from o2transit.cli import main
 
 DATA = Path(__file__).parent / "data"
 CATEGORIES = ("pf_category_berlin", "pf_category_global2024", "sf_category_global2024")
@@ -205,7 +205,7 @@ def test_derive_columns_flags_each_bad_cell():
 def test_a_row_derive_refuses_is_isolated(monkeypatch):
     # Should derive ever refuse a row the cell checks let through, that row alone gets the
     # message and the others keep their values.
-    import model.batch as batch_module
+    import o2transit.model.batch as batch_module
 
     real = batch_module.derive
 

@@ -10,11 +10,8 @@ import numpy as np
 import pytest
 from hypothesis import example, given
 from hypothesis import strategies as st
-from properties import budget
-from scipy.integrate import solve_ivp
-
-from model import MEASURED_LIMITS, check_measured, derive, po2_from_saturation, saturation
-from model.bedside import (
+from o2transit.model import MEASURED_LIMITS, check_measured, derive, po2_from_saturation, saturation
+from o2transit.model.bedside import (
     DERIVED_FIELDS,
     PF_CATEGORIES,
     PF_CATEGORY_LABELS,
@@ -27,6 +24,8 @@ from model.bedside import (
     temperature_corrected_ph,
     temperature_corrected_po2,
 )
+from properties import budget
+from scipy.integrate import solve_ivp
 
 DATA = Path(__file__).parent / "data"
 FAST = budget(60)

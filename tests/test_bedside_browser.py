@@ -11,10 +11,9 @@ from urllib.parse import urlsplit
 
 import pytest
 from browser_session import ARTIFACTS, LOCAL_HOSTS, checked_context, require_chromium, served
+from o2transit.dashboard.app import create_app
+from o2transit.model.casebook import CASE_DIR_ENV
 from playwright.sync_api import expect
-
-from dashboard.app import create_app
-from model.casebook import CASE_DIR_ENV
 
 # Fit, ranking and the re-solve of the live case take a few seconds on a shared 2-core
 # machine; waits are for text to appear, never timing assertions.

@@ -7,12 +7,12 @@ them: units, refusals, wording, what becomes the live case and the baseline, and
 import datetime as dt
 
 import pytest
+from o2transit.dashboard.bedside_state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
+from o2transit.dashboard.state import CaseState
+from o2transit.dashboard.summary import BOKEH_JS, summary_html
+from o2transit.model import bedside
 
-import model
-from dashboard.bedside_state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
-from dashboard.state import CaseState
-from dashboard.summary import BOKEH_JS, summary_html
-from model import bedside
+from o2transit import model
 
 
 @pytest.fixture
@@ -264,8 +264,12 @@ def test_open_restores_entry_fit_and_notes_and_lists_damaged_files(st):
 
 def test_screen_renders_and_follows_state(st):
     from bokeh.document import Document
-
-    from dashboard.bedside_views import BedsideScreen, DerivedTable, MeasuredEntry, WhatIfTable
+    from o2transit.dashboard.bedside_views import (
+        BedsideScreen,
+        DerivedTable,
+        MeasuredEntry,
+        WhatIfTable,
+    )
 
     entry, table, levers = MeasuredEntry(st), DerivedTable(st), WhatIfTable(st)
     assert BedsideScreen(st).__panel__().get_root(Document()) is not None

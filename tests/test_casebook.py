@@ -10,9 +10,8 @@ import tomllib
 from pathlib import Path
 
 import pytest
-
-from model import casebook, fit_case
-from model.casebook import (
+from o2transit.model import casebook, fit_case
+from o2transit.model.casebook import (
     CASE_DIR_ENV,
     IDENTIFIER_WARNING,
     CaseFileError,
@@ -78,7 +77,7 @@ def test_round_trip(tmp_path, fit):
 
 
 def test_reopened_fit_gives_the_same_case(tmp_path, fit):
-    from model import solve_transport
+    from o2transit.model import solve_transport
 
     record = open_case(save_case(tmp_path, "teaching case", GAS, fit))
     again = solve_transport(**record.fit_inputs)
@@ -166,7 +165,7 @@ def test_process_killed_mid_write_leaves_old_file_and_a_temp_file_that_is_ignore
     before = path.read_bytes()
     child = textwrap.dedent(f"""
         import os
-        from model import casebook
+        from o2transit.model import casebook
 
         def die_halfway(handle, data):
             handle.write(data[: len(data) // 2])

@@ -6,9 +6,8 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
+from o2transit.model import oxygen_content
 from properties import budget
-
-from model import oxygen_content
 
 FAST = budget(100)
 

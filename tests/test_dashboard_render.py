@@ -7,10 +7,9 @@ import urllib.request
 import panel as pn
 import pytest
 from bokeh.document import Document
-
-from dashboard.app import _is_loopback, create_app, serve
-from dashboard.state import CaseState
-from dashboard.views import (
+from o2transit.dashboard.app import _is_loopback, create_app, serve
+from o2transit.dashboard.state import CaseState
+from o2transit.dashboard.views import (
     CAUTION,
     SCENARIO_PROMPT,
     CascadePlot,

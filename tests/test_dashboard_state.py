@@ -3,9 +3,9 @@
 from pathlib import Path
 
 import pytest
+from o2transit.dashboard.state import SCENARIO_DIR, CaseState
 
-import model
-from dashboard.state import SCENARIO_DIR, CaseState
+from o2transit import model
 
 
 def _num(state: CaseState, key: str) -> float:

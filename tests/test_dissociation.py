@@ -9,9 +9,8 @@ import numpy as np
 import pytest
 from hypothesis import example, given
 from hypothesis import strategies as st
+from o2transit.model import CURVES, NORMAL_DPG_MMOL_L, p50, po2_from_saturation, saturation
 from properties import budget
-
-from model import CURVES, NORMAL_DPG_MMOL_L, p50, po2_from_saturation, saturation
 
 DATA = Path(__file__).parent / "data"
 FAST = budget(100)

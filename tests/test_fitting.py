@@ -7,10 +7,9 @@ import math
 import pytest
 from hypothesis import assume, given
 from hypothesis import strategies as st
+from o2transit.model import STANDARD_P50_MMHG, derive, fit_case, oxygen_content, solve_transport
+from o2transit.model.fitting import SAO2_TOLERANCE, _to_37
 from properties import budget
-
-from model import STANDARD_P50_MMHG, derive, fit_case, oxygen_content, solve_transport
-from model.fitting import SAO2_TOLERANCE, _to_37
 
 P50_STD = STANDARD_P50_MMHG["severinghaus1979"]
 
@@ -195,7 +194,7 @@ def test_fit_agrees_with_fick_and_berggren_on_the_measurements():
 
 
 def test_inputs_are_a_live_case_for_the_dashboard():
-    from dashboard.state import CASE_INPUTS, CaseState
+    from o2transit.dashboard.state import CASE_INPUTS, CaseState
 
     fit = fit_case(synthesise())
     assert set(fit.inputs) <= set(CASE_INPUTS)

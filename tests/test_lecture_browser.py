@@ -19,11 +19,10 @@ from browser_session import (
     wait_for,
     wait_match,
 )
+from o2transit.dashboard.app import SCREENS
+from o2transit.dashboard.lecture_views import GLIDE_MS
+from o2transit.dashboard.views import CAUTION
 from playwright.sync_api import expect
-
-from dashboard.app import SCREENS
-from dashboard.lecture_views import GLIDE_MS
-from dashboard.views import CAUTION
 
 require_chromium()
 

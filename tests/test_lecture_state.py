@@ -5,11 +5,16 @@ from pathlib import Path
 
 import pytest
 from bokeh.document import Document
+from o2transit.dashboard.lecture_app import create_lecture_app
+from o2transit.dashboard.lecture_state import FACTORS, FETAL_P50_MMHG, LESSON_DIR, LectureState
+from o2transit.dashboard.lecture_views import (
+    LectureControls,
+    LecturePlot,
+    frame_data,
+    standalone_html,
+)
 
-import model
-from dashboard.lecture_app import create_lecture_app
-from dashboard.lecture_state import FACTORS, FETAL_P50_MMHG, LESSON_DIR, LectureState
-from dashboard.lecture_views import LectureControls, LecturePlot, frame_data, standalone_html
+from o2transit import model
 
 STANDARD_P50 = float(model.p50())  # the reference case's curve at pH 7.40, PCO2 40, 37 °C
 
@@ -238,8 +243,8 @@ def test_views_render_and_html_export_holds_the_view(state):
 
 
 def test_lecture_screen_is_registered():
-    from dashboard.app import SCREENS
-    from dashboard.nav import SCREEN_TITLES
+    from o2transit.dashboard.app import SCREENS
+    from o2transit.dashboard.nav import SCREEN_TITLES
 
     page = SCREENS["/lecture"]()
     assert isinstance(page, type(create_lecture_app()))

@@ -4,9 +4,7 @@ import textwrap
 from pathlib import Path
 
 import pytest
-
-import model
-from model.lesson import (
+from o2transit.model.lesson import (
     CAPTION_CHARS,
     DEFAULT_TISSUE_PO2_MMHG,
     MAX_STEPS,
@@ -15,6 +13,8 @@ from model.lesson import (
     lesson_from_mapping,
     load_lesson,
 )
+
+from o2transit import model
 
 LESSON_DIR = Path(__file__).resolve().parent.parent / "scenarios" / "lessons"
 EXAMPLE = LESSON_DIR / "rest-to-altitude.toml"

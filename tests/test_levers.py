@@ -8,11 +8,10 @@ import math
 import pytest
 from hypothesis import assume, given
 from hypothesis import strategies as st
+from o2transit.model import HUFNER_ML_G, NORMAL_DPG_MMOL_L, rank_levers, solve_transport
+from o2transit.model.circulation import VO2_Q10_PER_C
+from o2transit.model.levers import RANK_QUANTITIES, STORED_BLOOD_DPG_MMOL_L, sort_outcomes
 from properties import budget
-
-from model import HUFNER_ML_G, NORMAL_DPG_MMOL_L, rank_levers, solve_transport
-from model.circulation import VO2_Q10_PER_C
-from model.levers import RANK_QUANTITIES, STORED_BLOOD_DPG_MMOL_L, sort_outcomes
 
 FAST = budget(20)
 
@@ -220,7 +219,7 @@ def test_invalid_base_case_is_refused():
 
 
 def test_outcome_inputs_are_live_cases_for_the_dashboard(table):
-    from dashboard.state import CaseState
+    from o2transit.dashboard.state import CaseState
 
     state = CaseState()
     for o in table:

@@ -6,10 +6,9 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
+from o2transit.model import alveolar_po2, solve_transport
+from o2transit.model.lungs import end_capillary_po2
 from properties import budget
-
-from model import alveolar_po2, solve_transport
-from model.lungs import end_capillary_po2
 
 FAST = budget(100)
 

@@ -3,8 +3,7 @@
 import re
 
 from bokeh.plotting import figure
-
-from dashboard.offline import inline_resources, offline_file_html
+from o2transit.dashboard.offline import inline_resources, offline_file_html
 
 EXTERNAL = re.compile(r"""<(script|link|img|iframe)\b[^>]*(src|href)\s*=\s*["']?https?:""")
 
@@ -19,7 +18,7 @@ def test_offline_file_html_has_no_external_tags_and_keeps_bokeh():
 
 
 def test_external_tags_are_removed_inline_code_stays(monkeypatch):
-    from dashboard import offline
+    from o2transit.dashboard import offline
 
     injected = (
         '<head><link rel="stylesheet" href="https://cdn.example/x.css">\n'

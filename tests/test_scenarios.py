@@ -6,8 +6,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
-from model import ScenarioError, load_scenario, solve_transport
+from o2transit.model import ScenarioError, load_scenario, solve_transport
 
 SCENARIO_DIR = Path(__file__).resolve().parent.parent / "scenarios"
 SCENARIOS = sorted(SCENARIO_DIR.glob("*.toml"))

@@ -10,9 +10,7 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from properties import budget
-
-from model import (
+from o2transit.model import (
     INPUT_LIMITS,
     body_surface_area,
     extraction_ratio,
@@ -23,6 +21,7 @@ from model import (
     venous_content_fick,
     vo2_at_temperature,
 )
+from properties import budget
 
 FAST = budget(60)
 SOLVER_KEYS = set(inspect.signature(solve_transport).parameters)

@@ -3,9 +3,8 @@
 from urllib.parse import urlencode
 
 import pytest
-
-from dashboard.state import CaseState
-from dashboard.urlstate import (
+from o2transit.dashboard.state import CaseState
+from o2transit.dashboard.urlstate import (
     CASE_KEYS,
     case_link,
     case_query,

@@ -13,9 +13,8 @@ from browser_session import (
     served,
     wait_address,
 )
+from o2transit.dashboard.app import create_app
 from playwright.sync_api import expect
-
-from dashboard.app import create_app
 
 require_chromium()
 

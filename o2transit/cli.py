@@ -1,4 +1,6 @@
-"""The ``o2transit`` command: ``evaluate`` scenario files, ``batch`` blood gases, ``serve`` the dashboard."""
+"""The ``o2transit`` command: ``evaluate`` scenario files, ``ascent`` schedules, ``batch`` blood
+gases, ``serve`` the dashboard. The top of the layering: it imports the model and, for
+``serve`` only, the dashboard; nothing imports it."""
 
 from __future__ import annotations
 
@@ -6,8 +8,9 @@ import argparse
 import json
 import sys
 
-from .scenario import ScenarioError, load_scenario
-from .transport import solve_transport
+from .model.caution import CAUTION
+from .model.scenario import ScenarioError, load_scenario
+from .model.transport import solve_transport
 
 _ROWS = (
     ("Barometric pressure", "barometric_pressure_mmhg", "mmHg", "{:.1f}"),
@@ -32,8 +35,6 @@ _ROWS = (
     ("Gain from venous right shift", "venous_shift_gain_ml_per_l", "mL/L", "{:.2f}"),
 )
 
-CAUTION = ("o2transit is an aid for education and planning, not a medical device. Verify "
-           "against measurements; defer to local protocols and licensed clinical practice.")
 
 
 def _get(d: dict, dotted: str):
@@ -101,7 +102,7 @@ def main(argv=None) -> int:
             print(f"\n{CAUTION}")
         return 0
     if args.command == "ascent":
-        from .ascent import format_ascent, load_ascent, run_ascent
+        from .model.ascent import format_ascent, load_ascent, run_ascent
 
         results = []
         for f in args.profiles:
@@ -118,7 +119,7 @@ def main(argv=None) -> int:
             print(f"\n{CAUTION}")
         return 0
     if args.command == "batch":
-        from .batch import BatchError, run_batch
+        from .model.batch import BatchError, run_batch
 
         try:
             summary = run_batch(args.input, args.output, all_columns=args.all_columns,
@@ -131,7 +132,7 @@ def main(argv=None) -> int:
               "(see the error column)", file=sys.stderr)
         print(CAUTION, file=sys.stderr)
         return 0
-    from dashboard.app import serve
+    from .dashboard.app import serve
 
     serve(port=args.port, address=args.address, show=not args.no_show)
     return 0
