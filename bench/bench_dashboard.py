@@ -80,7 +80,7 @@ def wait_until_changed(page, selectors, old, timeout=10.0):
 def server_side_ms() -> float:
     """Median time of one altitude change in a CaseState (model work only) [ms]."""
     sys.path.insert(0, str(ROOT))
-    from o2transit.dashboard.state import CaseState
+    from o2transit.dashboard.case.state import CaseState
 
     state = CaseState()
     times = []

@@ -1,0 +1,1 @@
+"""o2transit's local Panel dashboard: one subpackage per screen (see :mod:`.app`)."""

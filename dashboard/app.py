@@ -1,4 +1,9 @@
-"""Build and serve the o2transit dashboard (one independent case state per browser session)."""
+"""Serve the o2transit dashboard: the screens by URL path, each a factory called once per session.
+
+Each screen lives in its own subpackage (``case``, ``bedside``, ``ascent``, ``lecture``), with its
+state and its views; ``look`` holds the palette and caution, ``widgets`` the shared figure frames,
+``urlstate`` the page address, ``nav`` the header links and ``offline`` the exported pages.
+"""
 
 from __future__ import annotations
 
@@ -6,76 +11,21 @@ import ipaddress
 
 import panel as pn
 
-from .bedside_state import BedsideState
-from .bedside_views import BedsideScreen
-from .nav import screen_links
-from .state import CaseState
-from .urlstate import bind_url
-from .views import (
-    ACCENT,
-    CascadePlot,
-    CaseControls,
-    CurvePlot,
-    InputPanel,
-    NumbersTable,
-    caution_pane,
-)
+from .case.app import TITLE, create_app
 
-TITLE = "o2transit · oxygen path"
-
-
-def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template.BootstrapTemplate:
-    """Page for one session: inputs in the sidebar, curves, cascade and numbers in the main area."""
-    pn.extension()
-    state = CaseState() if state is None else state
-    template = pn.template.BootstrapTemplate(
-        title=TITLE,
-        header_background=ACCENT,
-        sidebar_width=340,
-        collapsed_sidebar=False,
-    )
-    template.header.append(screen_links("/"))
-    bind_url(state, template)  # case from ?key=value on load; address follows every change
-    template.sidebar.append(InputPanel(state))
-    model_tab = pn.Column(
-        pn.Row(
-            pn.Column(CurvePlot(state), sizing_mode="stretch_width", min_width=420),
-            pn.Column(NumbersTable(state), sizing_mode="stretch_width", min_width=420),
-            sizing_mode="stretch_width",
-        ),
-        CascadePlot(state),
-        sizing_mode="stretch_width",
-    )
-    # Both tabs share the one CaseState; the measured-gas tab's case folder follows
-    # $O2TRANSIT_CASE_DIR, else the user's data folder (model.casebook.default_case_dir).
-    measured_tab = BedsideScreen(BedsideState(state))
-    tabs = pn.Tabs(
-        ("Model inputs", model_tab),
-        ("Measured gas", measured_tab),
-        css_classes=["o2-case-tabs"],
-        sizing_mode="stretch_width",
-    )
-    template.main.append(
-        pn.Column(
-            caution_pane(),
-            CaseControls(state, scenario_dir=scenario_dir),
-            tabs,
-            sizing_mode="stretch_width",
-        )
-    )
-    return template
+__all__ = ["SCREENS", "TITLE", "create_app", "serve"]
 
 
 def create_ascent_page() -> pn.template.BootstrapTemplate:
     """The planner page; its modules (and pandas, via the table widget) load on first visit."""
-    from .ascent_app import create_ascent_app
+    from .ascent.app import create_ascent_app
 
     return create_ascent_app()
 
 
 def create_lecture_page() -> pn.Column:
     """The lecture page; its modules load on first visit."""
-    from .lecture_app import create_lecture_app
+    from .lecture.app import create_lecture_app
 
     return create_lecture_app()
 

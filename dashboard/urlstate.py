@@ -25,7 +25,7 @@ import panel as pn
 import param
 
 from ..model.units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
-from .state import CASE_INPUTS, CURVE_LABELS, CaseState
+from .case.state import CASE_INPUTS, CURVE_LABELS, CaseState
 
 DISPLAY_KEYS = ("pressure_unit", "hb_unit")
 # Mode switches: apply_inputs infers them from which keys are given, so the address leaves

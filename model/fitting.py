@@ -137,7 +137,7 @@ class FitResult:
     ----------
     inputs : dict
         Keywords for :func:`model.solve_transport`; every key is also a
-        ``dashboard.state.CaseState`` input, so the dict can be given to
+        ``dashboard.case.state.CaseState`` input, so the dict can be given to
         ``CaseState.apply_inputs`` as it is. ``paco2_mmhg`` and ``ph`` are at the
         patient's temperature (the chain's frame), so they differ from the 37 degC
         readings when the patient is not at 37 degC.

@@ -8,10 +8,10 @@ from urllib.parse import parse_qsl, urlsplit
 
 import pytest
 from bokeh.document import Document
-from o2transit.dashboard.ascent_export import comparison_csv, comparison_html
-from o2transit.dashboard.ascent_state import EXAMPLE_DIR, MAX_COMPARED, AscentWorkspace
-from o2transit.dashboard.state import CaseState
-from o2transit.dashboard.views import CAUTION
+from o2transit.dashboard.ascent.export import comparison_csv, comparison_html
+from o2transit.dashboard.ascent.state import EXAMPLE_DIR, MAX_COMPARED, AscentWorkspace
+from o2transit.dashboard.case.state import CaseState
+from o2transit.dashboard.look import CAUTION
 from o2transit.model.ascent import days_to_csv, load_ascent, run_ascent
 from o2transit.model.ascent_report import hypoxic_burden, night_case_inputs, nights_below
 
@@ -298,8 +298,8 @@ def test_comparison_html_is_standalone_and_holds_the_data(ws):
 
 # ---------------------------------------------------------------- views without a server
 def test_views_render_and_follow_the_state(ws):
-    from o2transit.dashboard.ascent_app import create_ascent_app
-    from o2transit.dashboard.ascent_views import ComparisonPlots, ScheduleEditor, SummaryTable
+    from o2transit.dashboard.ascent.app import create_ascent_app
+    from o2transit.dashboard.ascent.views import ComparisonPlots, ScheduleEditor, SummaryTable
 
     assert create_ascent_app(AscentWorkspace()).server_doc(Document()) is not None
     plots = ComparisonPlots(ws)

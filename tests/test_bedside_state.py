@@ -7,9 +7,9 @@ them: units, refusals, wording, what becomes the live case and the baseline, and
 import datetime as dt
 
 import pytest
-from o2transit.dashboard.bedside_state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
-from o2transit.dashboard.state import CaseState
-from o2transit.dashboard.summary import BOKEH_JS, summary_html
+from o2transit.dashboard.bedside.state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
+from o2transit.dashboard.bedside.summary import BOKEH_JS, summary_html
+from o2transit.dashboard.case.state import CaseState
 from o2transit.model import bedside
 
 from o2transit import model
@@ -264,7 +264,7 @@ def test_open_restores_entry_fit_and_notes_and_lists_damaged_files(st):
 
 def test_screen_renders_and_follows_state(st):
     from bokeh.document import Document
-    from o2transit.dashboard.bedside_views import (
+    from o2transit.dashboard.bedside.views import (
         BedsideScreen,
         DerivedTable,
         MeasuredEntry,

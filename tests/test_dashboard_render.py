@@ -8,9 +8,8 @@ import panel as pn
 import pytest
 from bokeh.document import Document
 from o2transit.dashboard.app import _is_loopback, create_app, serve
-from o2transit.dashboard.state import CaseState
-from o2transit.dashboard.views import (
-    CAUTION,
+from o2transit.dashboard.case.state import CaseState
+from o2transit.dashboard.case.views import (
     SCENARIO_PROMPT,
     CascadePlot,
     CaseControls,
@@ -19,6 +18,7 @@ from o2transit.dashboard.views import (
     NumbersTable,
     _fmt,
 )
+from o2transit.dashboard.look import CAUTION
 
 
 @pytest.mark.parametrize("view", [InputPanel, CurvePlot, CascadePlot, NumbersTable, CaseControls])
@@ -88,10 +88,13 @@ def test_threaded_server_answers_200(capsys):
     server = serve(port=port, show=False, threaded=True)
     try:
         assert f"http://127.0.0.1:{port}/" in capsys.readouterr().out
-        deadline = time.monotonic() + 20
+        # Generous timeouts: a GET builds a whole session, which on 2 busy cores (a browser
+        # test or a build beside this run) can take several seconds; only a refused
+        # connection is retried, so a slow answer is waited for, not asked for again.
+        deadline = time.monotonic() + 60
         while True:
             try:
-                with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=5) as r:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=60) as r:
                     assert r.status == 200
                     assert "o2transit" in r.read().decode()
                     break

@@ -3,7 +3,7 @@
 from pathlib import Path
 
 import pytest
-from o2transit.dashboard.state import SCENARIO_DIR, CaseState
+from o2transit.dashboard.case.state import SCENARIO_DIR, CaseState
 
 from o2transit import model
 

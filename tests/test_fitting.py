@@ -194,7 +194,7 @@ def test_fit_agrees_with_fick_and_berggren_on_the_measurements():
 
 
 def test_inputs_are_a_live_case_for_the_dashboard():
-    from o2transit.dashboard.state import CASE_INPUTS, CaseState
+    from o2transit.dashboard.case.state import CASE_INPUTS, CaseState
 
     fit = fit_case(synthesise())
     assert set(fit.inputs) <= set(CASE_INPUTS)

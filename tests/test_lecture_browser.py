@@ -20,8 +20,8 @@ from browser_session import (
     wait_match,
 )
 from o2transit.dashboard.app import SCREENS
-from o2transit.dashboard.lecture_views import GLIDE_MS
-from o2transit.dashboard.views import CAUTION
+from o2transit.dashboard.lecture.views import GLIDE_MS
+from o2transit.dashboard.look import CAUTION
 from playwright.sync_api import expect
 
 require_chromium()

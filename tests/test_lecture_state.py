@@ -5,9 +5,9 @@ from pathlib import Path
 
 import pytest
 from bokeh.document import Document
-from o2transit.dashboard.lecture_app import create_lecture_app
-from o2transit.dashboard.lecture_state import FACTORS, FETAL_P50_MMHG, LESSON_DIR, LectureState
-from o2transit.dashboard.lecture_views import (
+from o2transit.dashboard.lecture.app import create_lecture_app
+from o2transit.dashboard.lecture.state import FACTORS, FETAL_P50_MMHG, LESSON_DIR, LectureState
+from o2transit.dashboard.lecture.views import (
     LectureControls,
     LecturePlot,
     frame_data,

@@ -219,7 +219,7 @@ def test_invalid_base_case_is_refused():
 
 
 def test_outcome_inputs_are_live_cases_for_the_dashboard(table):
-    from o2transit.dashboard.state import CaseState
+    from o2transit.dashboard.case.state import CaseState
 
     state = CaseState()
     for o in table:

@@ -3,7 +3,7 @@
 from urllib.parse import urlencode
 
 import pytest
-from o2transit.dashboard.state import CaseState
+from o2transit.dashboard.case.state import CaseState
 from o2transit.dashboard.urlstate import (
     CASE_KEYS,
     case_link,

@@ -1,7 +1,7 @@
 """Session state of lecture mode: a lesson's steps, or one factor moved alone.
 
 No Panel import here. Every number the lecture view shows is made here by the model: each
-step or factor setting becomes a :class:`~dashboard.state.CaseState` case solved by
+step or factor setting becomes a :class:`~dashboard.case.state.CaseState` case solved by
 :func:`model.solve_transport`; the faint reference is the default case (a resting adult at
 sea level, pH 7.40, PCO2 40 mmHg, 37 °C). Two derived numbers are written on the plot:
 
@@ -24,8 +24,8 @@ from pathlib import Path
 import numpy as np
 import param
 
-from .. import model
-from ..model.lesson import (
+from ... import model
+from ...model.lesson import (
     DEFAULT_TISSUE_PO2_MMHG,
     TISSUE_PO2_LIMITS_MMHG,
     Lesson,
@@ -33,8 +33,8 @@ from ..model.lesson import (
     lesson_files,
     load_lesson,
 )
-from ..model.scenario import LESSON_DIR
-from .state import CaseState
+from ...model.scenario import LESSON_DIR
+from ..case.state import CaseState
 
 FETAL_P50_MMHG = 19.0
 """Standard-state P50 of fetal blood [mmHg]. From memory: typical fetal values are about

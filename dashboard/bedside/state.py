@@ -1,7 +1,7 @@
 """Session state of the bedside screen: measured gas entry, derived picture, fit, levers, cases.
 
 No Panel import here. :class:`BedsideState` sits beside the session's
-:class:`dashboard.state.CaseState` and shares its display units (``pressure_unit``,
+:class:`dashboard.case.state.CaseState` and shares its display units (``pressure_unit``,
 ``hb_unit``). Typed values are kept as a *draft* in the model's units; :meth:`calculate`
 checks the whole draft and either accepts all of it (derived values computed) or none of
 it (a message per refused field). Fitting, ranking what-ifs, applying them to the live case
@@ -19,9 +19,9 @@ from pathlib import Path
 import numpy as np
 import param
 
-from .. import model
-from ..model import bedside, casebook, fitting, levers
-from .state import PO2_GRID_MMHG, CaseState
+from ... import model
+from ...model import bedside, casebook, fitting, levers
+from ..case.state import PO2_GRID_MMHG, CaseState
 
 # Groups of the entry form, in the order an arterial gas report is read.
 FORM_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (

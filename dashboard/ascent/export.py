@@ -14,8 +14,10 @@ import io
 
 from bokeh.embed import components
 
-from ..model.ascent_report import DAY_COLUMNS, day_rows
-from .ascent_figures import (
+from ...model.ascent_report import DAY_COLUMNS, day_rows
+from ..look import ACCENT, CAUTION, INK
+from ..offline import inline_resources
+from .figures import (
     LEGEND_CSS,
     SUMMARY_CSS,
     ComparisonFigures,
@@ -23,9 +25,7 @@ from .ascent_figures import (
     legend_html,
     summary_html,
 )
-from .ascent_state import AscentWorkspace
-from .offline import inline_resources
-from .views import ACCENT, CAUTION, INK
+from .state import AscentWorkspace
 
 
 def _key(fraction: float) -> str:

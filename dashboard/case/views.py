@@ -1,4 +1,4 @@
-"""Thin Panel views over :class:`dashboard.state.CaseState`.
+"""Thin Panel views over :class:`dashboard.case.state.CaseState`.
 
 Views build widgets and figures once and refresh them from the state; they format numbers
 and never compute physiology. Every interactive or read-back element carries a stable
@@ -15,31 +15,9 @@ from bokeh.core.properties import value as fixed_value
 from bokeh.models import ColumnDataSource, FactorRange, LabelSet, Range1d
 from bokeh.plotting import figure
 
-from ..model.caution import CAUTION
+from ..look import ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS
+from ..widgets import saturation_figure
 from .state import CaseState
-
-# Our palette: oxygenated ember, deoxygenated slate-violet, graphite for reference.
-ARTERIAL = "#c2410c"
-VENOUS = "#4c3f91"
-REFERENCE = "#8a8f98"
-INK = "#1f2a30"
-ACCENT = "#0f5257"
-
-TABLE_CSS = f"""
-table.o2t {{ border-collapse: collapse; font-family: 'Liberation Sans', Arial, sans-serif;
-  font-size: 15px; color: {INK}; width: 100%; }}
-table.o2t th {{ text-align: left; font-weight: 600; border-bottom: 2px solid {ACCENT};
-  padding: 4px 8px; font-size: 13px; text-transform: uppercase; letter-spacing: .04em; }}
-table.o2t td {{ padding: 4px 8px; border-bottom: 1px solid #e3e6e8; }}
-table.o2t td.val {{ font-variant-numeric: tabular-nums; font-weight: 700; font-size: 17px;
-  text-align: right; }}
-table.o2t td.delta {{ font-variant-numeric: tabular-nums; text-align: right; color: #46545c; }}
-table.o2t td.range {{ color: #5b6770; font-size: 13px; }}
-table.o2t tr.flag-high td.val, table.o2t tr.flag-low td.val {{ color: #9a1b1b; }}
-table.o2t span.flag {{ font-weight: 700; color: #9a1b1b; white-space: nowrap; }}
-table.o2t tr.flag-low span.flag {{ color: #1b4f9a; }}
-table.o2t tr.flag-low td.val {{ color: #1b4f9a; }}
-"""
 
 
 def _fmt(value: float | None, digits: int, signed: bool = False) -> str:
@@ -215,24 +193,6 @@ class InputPanel(pn.viewable.Viewer):
 
     def __panel__(self):
         return self._layout
-
-
-def saturation_figure(height: int, title: str, title_size: str) -> figure:
-    """An empty SO2-against-PO2 frame in the dashboard's look (0-150 mmHg, 0-102 %)."""
-    fig = figure(
-        height=height,
-        sizing_mode="stretch_width",
-        toolbar_location=None,
-        x_range=Range1d(0, 150),
-        y_range=Range1d(0, 102),
-        title=title,
-    )
-    fig.title.text_font_size = title_size
-    fig.title.text_color = INK
-    fig.yaxis.axis_label = "SO2 (%)"
-    fig.background_fill_color = "#fbfaf7"
-    fig.grid.grid_line_color = "#ebe7df"
-    return fig
 
 
 class CurvePlot(pn.viewable.Viewer):
@@ -642,19 +602,3 @@ class CaseControls(pn.viewable.Viewer):
 
     def __panel__(self):
         return self._layout
-
-
-def caution_pane() -> pn.pane.HTML:
-    """The caution shown on every page."""
-    return pn.pane.HTML(
-        f"<div>⚠ {html.escape(CAUTION)}</div>",
-        css_classes=["o2-caution"],
-        sizing_mode="stretch_width",
-        styles={
-            "background": "#fff6dc",
-            "border-left": "5px solid #b7791f",
-            "padding": "6px 12px",
-            "font-size": "14px",
-            "color": INK,
-        },
-    )

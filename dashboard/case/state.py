@@ -15,8 +15,8 @@ from pathlib import Path
 import numpy as np
 import param
 
-from .. import model
-from ..model.scenario import EXAMPLES_DIR
+from ... import model
+from ...model.scenario import EXAMPLES_DIR
 from .ranges import NORMAL_RANGES
 
 SCENARIO_DIR = EXAMPLES_DIR

@@ -12,11 +12,11 @@ import html
 
 import panel as pn
 
-from .lecture_state import LESSON_DIR, LectureState
-from .lecture_views import INK, PAPER, LectureControls, LecturePlot
-from .nav import screen_links
-from .urlstate import read_query, show_url_messages, url_message_pane, write_query
-from .views import ACCENT
+from ..look import ACCENT
+from ..nav import screen_links
+from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
+from .state import LESSON_DIR, LectureState
+from .views import INK, PAPER, LectureControls, LecturePlot
 
 TITLE = "o2transit · lecture"
 

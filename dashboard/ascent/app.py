@@ -8,8 +8,11 @@ from __future__ import annotations
 
 import panel as pn
 
-from .ascent_state import QUERY_KEY, AscentWorkspace
-from .ascent_views import (
+from ..look import ACCENT, caution_pane
+from ..nav import screen_links
+from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
+from .state import QUERY_KEY, AscentWorkspace
+from .views import (
     CaseLink,
     ComparisonPlots,
     ExportButtons,
@@ -20,9 +23,6 @@ from .ascent_views import (
     SummaryTable,
     Thresholds,
 )
-from .nav import screen_links
-from .urlstate import read_query, show_url_messages, url_message_pane, write_query
-from .views import ACCENT, caution_pane
 
 TITLE = "o2transit · ascent planner"
 

@@ -1,4 +1,4 @@
-"""Thin views of lecture mode over :class:`dashboard.lecture_state.LectureState`.
+"""Thin views of lecture mode over :class:`dashboard.lecture.state.LectureState`.
 
 Built for a projector: large type, thick lines, white ground and near-black ink. The two
 series that matter differ in colour *and* in line or marker (the reference is a thin grey
@@ -38,9 +38,9 @@ from bokeh.models import (
 )
 from bokeh.plotting import figure
 
-from .lecture_state import FACTORS, LectureState
-from .offline import offline_file_html
-from .views import CAUTION
+from ..look import CAUTION
+from ..offline import offline_file_html
+from .state import FACTORS, LectureState
 
 GLIDE_MS = 350
 

@@ -1,6 +1,6 @@
 """One printable page of a bedside case: standalone HTML that works without a network.
 
-Everything it shows is read from :class:`dashboard.bedside_state.BedsideState` (already in
+Everything it shows is read from :class:`dashboard.bedside.state.BedsideState` (already in
 display units and words); this module only lays it out. The curve is a Bokeh figure with
 BokehJS written into the file (inline resources, core library only), so the page opens from a USB
 stick on a unit computer with no internet; the print stylesheet fits it on A4 paper.
@@ -16,8 +16,8 @@ from bokeh.models import Range1d
 from bokeh.plotting import figure
 from bokeh.resources import Resources
 
-from .bedside_state import BedsideState
-from .views import ACCENT, ARTERIAL, CAUTION, INK, REFERENCE, VENOUS
+from ..look import ACCENT, ARTERIAL, CAUTION, INK, REFERENCE, VENOUS
+from .state import BedsideState
 
 BOKEH_JS = Resources(mode="inline", components=["bokeh"])
 """Only the core BokehJS library, written into the page (no widgets, tables, GL, MathJax)."""

@@ -1,4 +1,4 @@
-"""Thin Panel views over :class:`dashboard.ascent_state.AscentWorkspace`.
+"""Thin Panel views over :class:`dashboard.ascent.state.AscentWorkspace`.
 
 Every user action is handed to the state on the next tick under the document lock
 (``pn.state.execute(..., schedule=True)``), as the case screen's buttons do: the figures'
@@ -16,8 +16,9 @@ import pandas as pd
 import panel as pn
 from bokeh.models.widgets.tables import NumberFormatter
 
-from .ascent_export import comparison_csv, comparison_html
-from .ascent_figures import (
+from ..look import ACCENT, INK
+from .export import comparison_csv, comparison_html
+from .figures import (
     LEGEND_CSS,
     PANELS,
     SUMMARY_CSS,
@@ -26,8 +27,7 @@ from .ascent_figures import (
     legend_html,
     summary_html,
 )
-from .ascent_state import MAX_COMPARED, AscentWorkspace
-from .views import ACCENT, INK
+from .state import MAX_COMPARED, AscentWorkspace
 
 _WATCHED = ["schedules", "results", "compared", "threshold_high_pct", "threshold_low_pct"]
 MESSAGE_STYLE = {

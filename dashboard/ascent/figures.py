@@ -1,8 +1,8 @@
 """The planner's comparison drawn: day-by-day Bokeh figures (built once, data replaced),
 the legend, the side-by-side summary table and the list of flags, as HTML.
 
-Used by the live screen (:mod:`dashboard.ascent_views`) and by the offline HTML export
-(:mod:`dashboard.ascent_export`), so both show the same drawing. Schedules are told apart by
+Used by the live screen (:mod:`dashboard.ascent.views`) and by the offline HTML export
+(:mod:`dashboard.ascent.export`), so both show the same drawing. Schedules are told apart by
 colour and by line dash; a flagged day is a triangle, an ordinary night a circle, so neither
 depends on colour alone.
 """
@@ -22,7 +22,7 @@ from bokeh.models import (
 )
 from bokeh.plotting import figure
 
-from .views import ACCENT, INK
+from ..look import ACCENT, INK
 
 # Colour-blind-safe set (Okabe & Ito 2008, "Color universal design"), one per slot.
 SLOT_COLORS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
@@ -177,7 +177,7 @@ class ComparisonFigures:
 
     def update(self, compared: list[tuple[str, dict]], thresholds_pct=(90.0, 80.0)) -> None:
         """Replace the data: ``compared`` is ``[(key, series), ...]`` (at most four), each
-        series as :meth:`dashboard.ascent_state.AscentWorkspace.series` gives it (with its
+        series as :meth:`dashboard.ascent.state.AscentWorkspace.series` gives it (with its
         ``name`` and drawing ``slot``)."""
         for key, col, _title, unit, digits in PANELS:
             pts = {k: [] for k in _EMPTY_POINTS}

@@ -19,7 +19,7 @@ from urllib.parse import urlencode
 import numpy as np
 import param
 
-from ..model.ascent import (
+from ...model.ascent import (
     AscentDay,
     AscentError,
     AscentProfile,
@@ -30,8 +30,8 @@ from ..model.ascent import (
     load_ascent,
     run_ascent,
 )
-from ..model.ascent_report import CASE_KEYS, hypoxic_burden, night_case_inputs, nights_below
-from ..model.scenario import ASCENT_EXAMPLES_DIR
+from ...model.ascent_report import CASE_KEYS, hypoxic_burden, night_case_inputs, nights_below
+from ...model.scenario import ASCENT_EXAMPLES_DIR
 
 EXAMPLE_DIR = ASCENT_EXAMPLES_DIR
 MAX_COMPARED = 4

@@ -1,7 +1,7 @@
-"""Thin Panel views of the bedside screen over :class:`dashboard.bedside_state.BedsideState`.
+"""Thin Panel views of the bedside screen over :class:`dashboard.bedside.state.BedsideState`.
 
 They format; the state decides. Button actions run on the next tick under the document lock
-(``pn.state.execute(..., schedule=True)``), as in :class:`dashboard.views.CaseControls`,
+(``pn.state.execute(..., schedule=True)``), as in :class:`dashboard.case.views.CaseControls`,
 because they edit figures and panes. Stable ``o2-bs-*`` CSS classes are hooks for tests.
 """
 
@@ -13,9 +13,10 @@ import io
 import panel as pn
 from bokeh.models import ColumnDataSource, LabelSet
 
-from .bedside_state import FORM_GROUPS, BedsideState
+from ..look import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS
+from ..widgets import saturation_figure
+from .state import FORM_GROUPS, BedsideState
 from .summary import summary_html
-from .views import ACCENT, ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS, saturation_figure
 
 DERIVED_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
     (

@@ -1,0 +1,57 @@
+"""The case screen (``/``): the model inputs and the measured-gas tab, one case state per session."""
+
+from __future__ import annotations
+
+import panel as pn
+
+from ..bedside.state import BedsideState
+from ..bedside.views import BedsideScreen
+from ..look import ACCENT, caution_pane
+from ..nav import screen_links
+from ..urlstate import bind_url
+from .state import CaseState
+from .views import CascadePlot, CaseControls, CurvePlot, InputPanel, NumbersTable
+
+TITLE = "o2transit · oxygen path"
+
+
+def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template.BootstrapTemplate:
+    """Page for one session: inputs in the sidebar, curves, cascade and numbers in the main area."""
+    pn.extension()
+    state = CaseState() if state is None else state
+    template = pn.template.BootstrapTemplate(
+        title=TITLE,
+        header_background=ACCENT,
+        sidebar_width=340,
+        collapsed_sidebar=False,
+    )
+    template.header.append(screen_links("/"))
+    bind_url(state, template)  # case from ?key=value on load; address follows every change
+    template.sidebar.append(InputPanel(state))
+    model_tab = pn.Column(
+        pn.Row(
+            pn.Column(CurvePlot(state), sizing_mode="stretch_width", min_width=420),
+            pn.Column(NumbersTable(state), sizing_mode="stretch_width", min_width=420),
+            sizing_mode="stretch_width",
+        ),
+        CascadePlot(state),
+        sizing_mode="stretch_width",
+    )
+    # Both tabs share the one CaseState; the measured-gas tab's case folder follows
+    # $O2TRANSIT_CASE_DIR, else the user's data folder (model.casebook.default_case_dir).
+    measured_tab = BedsideScreen(BedsideState(state))
+    tabs = pn.Tabs(
+        ("Model inputs", model_tab),
+        ("Measured gas", measured_tab),
+        css_classes=["o2-case-tabs"],
+        sizing_mode="stretch_width",
+    )
+    template.main.append(
+        pn.Column(
+            caution_pane(),
+            CaseControls(state, scenario_dir=scenario_dir),
+            tabs,
+            sizing_mode="stretch_width",
+        )
+    )
+    return template
