@@ -274,14 +274,26 @@ def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
 
 
 def load_ascent(path) -> AscentProfile:
-    """Read and validate one ascent file (``scenarios/ascents/*.toml``).
+    """Read and validate one ascent file: a schedule (``.toml``) or a day table (``.csv``).
+
+    A ``.csv`` file is the day table of :func:`days_from_csv`; its person is the default
+    sea-level :class:`Baseline` and its name the file's stem. Any other ending is refused.
 
     Raises
     ------
     AscentError
-        Unreadable file, TOML syntax error, or any problem of :func:`ascent_from_mapping`.
+        Unreadable file, unknown ending, TOML or CSV problem, or any problem of
+        :func:`ascent_from_mapping`.
     """
     p = Path(path)
+    suffix = p.suffix.lower()
+    if suffix == ".csv":
+        return AscentProfile(name=p.stem, days=read_days_csv(p), path=str(p))
+    if suffix != ".toml":
+        raise AscentError(
+            f"{p}: unknown file type {p.suffix or '(none)'!r}; a schedule is a .toml file "
+            f"or a .csv day table ({','.join(CSV_COLUMNS)})"
+        )
     return ascent_from_mapping(read_toml(p, AscentError), str(p))
 
 
@@ -688,12 +700,12 @@ def format_ascent(record: dict) -> str:
     """A schedule's JSON-ready record (:meth:`AscentResult.to_dict`) as a text table."""
     head = (
         f"{'day':>3} {'sleep m':>7} {'high m':>7} {'FiO2':>5} {'PB':>6} {'PaCO2':>5} "
-        f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>5} {'high SaO2':>9}"
+        f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>6} {'high SaO2':>9}"
         "  flags"
     )
     units = (
         f"{'':>3} {'m':>7} {'m':>7} {'-':>5} {'mmHg':>6} {'mmHg':>5} {'-':>5} {'mmHg':>5} "
-        f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/m':>5} {'%':>9}"
+        f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/min':>6} {'%':>9}"
     )
     lines = [f"{record['name']}  ({record['file']})", head, units]
     for d in record["days"]:
@@ -701,7 +713,7 @@ def format_ascent(record: dict) -> str:
             f"{d['day']:>3} {d['sleep_altitude_m']:>7.0f} {d['high_altitude_m']:>7.0f} "
             f"{d['fio2']:>5.2f} {d['barometric_pressure_mmhg']:>6.1f} {d['paco2_mmhg']:>5.1f} "
             f"{d['ph']:>5.3f} {d['pao2_mmhg']:>5.1f} {100 * d['sao2']:>6.1f} {d['hb_g_dl']:>5.1f} "
-            f"{d['cao2_ml_dl']:>5.1f} {d['do2_ml_min']:>5.0f} {100 * d['high_point']['sao2']:>9.1f}"
+            f"{d['cao2_ml_dl']:>5.1f} {d['do2_ml_min']:>6.0f} {100 * d['high_point']['sao2']:>9.1f}"
             f"  {'; '.join(d['flags'])}"
         )
     s = record["summary"]

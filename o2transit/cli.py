@@ -7,7 +7,9 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import textwrap
 
+from . import __version__
 from .model.caution import CAUTION
 from .model.scenario import ScenarioError, load_scenario
 from .model.transport import solve_transport
@@ -36,7 +38,6 @@ _ROWS = (
 )
 
 
-
 def _get(d: dict, dotted: str):
     for part in dotted.split("."):
         d = d[part]
@@ -59,83 +60,225 @@ def format_table(record: dict) -> str:
     return "\n".join(lines)
 
 
-def main(argv=None) -> int:
-    parser = argparse.ArgumentParser(prog="o2transit", description="Oxygen transport from air to tissue. " + CAUTION)
-    sub = parser.add_subparsers(dest="command", required=True)
-    ev = sub.add_parser("evaluate", help="solve scenario files and print the chain")
-    ev.add_argument("files", nargs="+", metavar="FILE")
-    ev.add_argument("--json", action="store_true", help="print JSON instead of a table")
-    asc = sub.add_parser("ascent", help="compare ascent schedules day by day")
-    asc.add_argument("profiles", nargs="+", metavar="PROFILE")
-    asc.add_argument("--json", action="store_true", help="print JSON instead of tables")
-    bt = sub.add_parser("batch", help="derived blood-gas values for every row of a CSV file",
-                        description="Bedside derived values (P/F, A-a, CaO2, shunt, DO2, P50, "
-                                    "...) for a table of blood gases. Required columns: "
-                                    "pao2_mmhg, paco2_mmhg, ph, sao2, hb_g_dl, fio2, "
-                                    "temperature_c (kPa, g/L and percent variants: see README). "
-                                    + CAUTION)
-    bt.add_argument("input", metavar="IN.csv")
-    bt.add_argument("-o", "--output", required=True, metavar="OUT.csv",
-                    help="output CSV ('-' for standard output)")
-    bt.add_argument("--all-columns", action="store_true",
-                    help="add every derived value, not only the main ones")
-    bt.add_argument("--no-progress", action="store_true", help="never show the progress bar")
-    sv = sub.add_parser("serve", help="start the dashboard on this machine")
-    sv.add_argument("--port", type=int, default=5006)
-    sv.add_argument("--address", default="127.0.0.1",
-                    help="address to bind (default 127.0.0.1; anything else exposes the page to the network)")
-    sv.add_argument("--no-show", action="store_true", help="do not open a browser")
-    args = parser.parse_args(argv)
+def _batch_columns_help() -> str:
+    """The columns ``batch`` reads and writes, from the tables the reader itself uses."""
+    from .model.batch import BATCH_OUTPUTS, COLUMN_VARIANTS
+    from .model.bedside import MEASURED_LIMITS, REQUIRED_MEASURED
 
-    if args.command == "evaluate":
-        records = []
-        for f in args.files:
-            try:
-                records.append(evaluation(f))
-            except ScenarioError as exc:
-                print(f"error: {exc}", file=sys.stderr)
-                return 2
-        if args.json:
-            print(json.dumps(records[0] if len(records) == 1 else records, indent=2))
-        else:
-            print("\n\n".join(format_table(r) for r in records))
-            print(f"\n{CAUTION}")
-        return 0
-    if args.command == "ascent":
-        from .model.ascent import format_ascent, load_ascent, run_ascent
+    def column(key: str) -> str:
+        unit = MEASURED_LIMITS[key][2] or ("" if key == "ph" else "fraction 0-1")
+        names = [f"{key} [{unit}]" if unit else key]
+        names += [
+            f"{name} [{v[2]}]" for name, v in COLUMN_VARIANTS.items() if v[0] == key and name != key
+        ]
+        return " or ".join(names)
 
-        results = []
-        for f in args.profiles:
-            try:
-                results.append(run_ascent(load_ascent(f)).to_dict())
-            except ValueError as exc:
-                print(f"error: {exc}" if isinstance(exc, ScenarioError)
-                      else f"error: {f}: the schedule cannot be solved: {exc}", file=sys.stderr)
-                return 2
-        if args.json:
-            print(json.dumps(results, indent=2))
-        else:
-            print("\n\n".join(format_ascent(r) for r in results))
-            print(f"\n{CAUTION}")
-        return 0
-    if args.command == "batch":
-        from .model.batch import BatchError, run_batch
+    def wrap(items: list[str]) -> str:
+        return textwrap.fill(
+            "; ".join(items), width=88, initial_indent="    ", subsequent_indent="    "
+        )
 
+    optional = [k for k in MEASURED_LIMITS if k not in REQUIRED_MEASURED]
+    return "\n".join(
+        [
+            "columns read (header on line 1, any order; a blank cell is 'not given'; other",
+            "columns, such as a label or a time, are passed through unchanged):",
+            "  required, one column each:",
+            wrap([column(k) for k in REQUIRED_MEASURED]),
+            "  optional:",
+            wrap([column(k) for k in optional]),
+            "columns written: the input columns, then",
+            wrap(list(BATCH_OUTPUTS)),
+            "  ('error' says, per row, which cell could not be used; that row's outputs are blank).",
+        ]
+    )
+
+
+def _positive_port(text: str) -> int:
+    try:
+        port = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"port = {text!r} is not a whole number") from None
+    if not 1 <= port <= 65535:
+        raise argparse.ArgumentTypeError(f"port = {port} is outside 1-65535")
+    return port
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The ``o2transit`` argument parser (every option names what it takes and its default)."""
+    fmt = argparse.RawDescriptionHelpFormatter
+    parser = argparse.ArgumentParser(
+        prog="o2transit",
+        description="Oxygen transport from inspired air to the tissues: solve cases, compare "
+        "ascent schedules, derive blood-gas values, or serve the dashboard. " + CAUTION,
+    )
+    parser.add_argument("--version", action="version", version=f"o2transit {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    ev = sub.add_parser(
+        "evaluate",
+        help="solve scenario files and print the whole chain",
+        description="Solve each scenario file (TOML; schema in the package's scenarios/README.md) "
+        "from inspired air to venous blood and print the chain. Every good file is printed; "
+        "every bad one is reported on standard error; the exit status is 2 if any failed.",
+    )
+    ev.add_argument("files", nargs="+", metavar="FILE", help="scenario files (.toml)")
+    ev.add_argument(
+        "--json",
+        action="store_true",
+        help="print one JSON list (one object per good file) instead of tables",
+    )
+    asc = sub.add_parser(
+        "ascent",
+        help="compare ascent schedules day by day",
+        description="Run each ascent schedule night by night and print the comparison. A "
+        "schedule is a TOML file (name, baseline, [[day]] tables) or a CSV day table with the "
+        "header day,sleep_altitude_m,high_altitude_m,fio2 (altitudes in m, FiO2 as a fraction; "
+        "the person is the default sea-level baseline and the name is the file's).",
+    )
+    asc.add_argument(
+        "profiles", nargs="+", metavar="SCHEDULE", help="schedule files (.toml or .csv)"
+    )
+    asc.add_argument("--json", action="store_true", help="print one JSON list instead of tables")
+    bt = sub.add_parser(
+        "batch",
+        help="derived blood-gas values for every row of a table",
+        formatter_class=fmt,
+        description="Bedside derived values (P/F, A-a gradient, CaO2, shunt, DO2, in-situ P50, "
+        "...) for every row of a table of blood gases. " + CAUTION,
+        epilog=_batch_columns_help(),
+    )
+    bt.add_argument("input", metavar="IN", help="the blood gases (.csv)")
+    bt.add_argument(
+        "-o",
+        "--output",
+        required=True,
+        metavar="OUT",
+        help="where to write the derived values (.csv); '-' for standard output",
+    )
+    bt.add_argument(
+        "--all-columns",
+        action="store_true",
+        help="add every derived value, not only the main ones (default: main ones)",
+    )
+    bt.add_argument(
+        "--no-progress",
+        action="store_true",
+        help="never show the progress bar (default: shown on a terminal only)",
+    )
+    sv = sub.add_parser(
+        "serve",
+        help="start the dashboard on this machine",
+        description="Serve the dashboard (case screen /, ascent planner /ascent, lecture "
+        "/lecture) from this computer; it needs no internet connection.",
+    )
+    sv.add_argument(
+        "--port", type=_positive_port, default=5006, help="TCP port to listen on (default 5006)"
+    )
+    sv.add_argument(
+        "--address",
+        default="127.0.0.1",
+        help="address to listen on (default 127.0.0.1, this computer only; "
+        "0.0.0.0 or a network address lets other machines open the page)",
+    )
+    sv.add_argument(
+        "--no-show", action="store_true", help="do not open a browser tab (default: open one)"
+    )
+    return parser
+
+
+def _evaluate(files: list[str], as_json: bool) -> int:
+    records, failed = [], 0
+    for f in files:
         try:
-            summary = run_batch(args.input, args.output, all_columns=args.all_columns,
-                                progress=False if args.no_progress else None)
-        except (BatchError, OSError) as exc:
+            records.append(evaluation(f))
+        except ScenarioError as exc:
+            failed += 1
             print(f"error: {exc}", file=sys.stderr)
-            return 2
-        where = "standard output" if summary.output == "-" else summary.output
-        print(f"{summary.rows} rows -> {where}; {summary.rows_with_errors} with an error "
-              "(see the error column)", file=sys.stderr)
-        print(CAUTION, file=sys.stderr)
-        return 0
-    from .dashboard.app import serve
+    if as_json:
+        print(json.dumps(records, indent=2))
+    elif records:
+        print("\n\n".join(format_table(r) for r in records))
+        print(f"\n{CAUTION}")
+    if failed:
+        print(f"{failed} of {len(files)} files failed", file=sys.stderr)
+    return 2 if failed else 0
 
-    serve(port=args.port, address=args.address, show=not args.no_show)
+
+def _ascent(files: list[str], as_json: bool) -> int:
+    from .model.ascent import AscentError, format_ascent, load_ascent, run_ascent
+
+    results, failed = [], 0
+    for f in files:
+        try:
+            results.append(run_ascent(load_ascent(f)).to_dict())
+        except AscentError as exc:
+            failed += 1
+            print(f"error: {exc}", file=sys.stderr)
+        except ValueError as exc:
+            failed += 1
+            print(f"error: {f}: the schedule cannot be solved: {exc}", file=sys.stderr)
+    if as_json:
+        print(json.dumps(results, indent=2))
+    elif results:
+        print("\n\n".join(format_ascent(r) for r in results))
+        print(f"\n{CAUTION}")
+    if failed:
+        print(f"{failed} of {len(files)} files failed", file=sys.stderr)
+    return 2 if failed else 0
+
+
+def _batch(args) -> int:
+    from .model.batch import BatchError, run_batch
+
+    try:
+        summary = run_batch(
+            args.input,
+            args.output,
+            all_columns=args.all_columns,
+            progress=False if args.no_progress else None,
+        )
+    except (BatchError, OSError) as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    where = "standard output" if summary.output == "-" else summary.output
+    print(
+        f"{summary.rows} rows -> {where}; {summary.rows_with_errors} with an error "
+        "(see the error column)",
+        file=sys.stderr,
+    )
+    print(CAUTION, file=sys.stderr)
     return 0
+
+
+def _serve(args) -> int:
+    from .dashboard.app import PortBusyError, serve
+
+    try:
+        serve(port=args.port, address=args.address, show=not args.no_show)
+    except PortBusyError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    return 0
+
+
+def main(argv=None) -> int:
+    """Run the ``o2transit`` command; returns the exit status."""
+    args = build_parser().parse_args(argv)
+    try:
+        if args.command == "evaluate":
+            return _evaluate(args.files, args.json)
+        if args.command == "ascent":
+            return _ascent(args.profiles, args.json)
+        if args.command == "batch":
+            return _batch(args)
+        return _serve(args)
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        # the reader went away (`| head`): stop quietly, as other command-line tools do
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":

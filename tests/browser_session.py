@@ -40,11 +40,13 @@ def require_chromium() -> None:
 
 
 @contextmanager
-def served_screens(routes: dict, probe: str, *, startup_s: float = 20, request_s: float = 5):
+def served_screens(routes: dict, probe: str, *, startup_s: float = 90, request_s: float = 60):
     """Serve screens ``{path: factory}`` on a free port; yields the base URL (no path).
 
     Waits until ``probe`` (a path) answers HTTP 200: up to ``startup_s`` seconds in all,
-    ``request_s`` seconds per request.
+    ``request_s`` seconds per request. Both are generous on purpose: a GET builds a whole
+    session, which on two busy cores can take seconds, and a timed-out request would only
+    be asked again (and build another session).
     """
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))

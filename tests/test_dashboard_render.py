@@ -7,7 +7,7 @@ import urllib.request
 import panel as pn
 import pytest
 from bokeh.document import Document
-from o2transit.dashboard.app import _is_loopback, create_app, serve
+from o2transit.dashboard.app import PortBusyError, _is_loopback, create_app, serve
 from o2transit.dashboard.case.state import CaseState
 from o2transit.dashboard.case.views import (
     SCENARIO_PROMPT,
@@ -109,9 +109,24 @@ def test_threaded_server_answers_200(capsys):
 
 def test_non_loopback_address_warns(capsys, monkeypatch):
     monkeypatch.setattr(pn, "serve", lambda *a, **k: k)
-    kwargs = serve(port=5999, address="0.0.0.0", show=False)
+    port = _free_port()
+    kwargs = serve(port=port, address="0.0.0.0", show=False)
     assert "reachable from the network" in capsys.readouterr().out
-    assert kwargs["websocket_origin"] == ["0.0.0.0:5999", "localhost:5999"]
+    # other machines open the page under names this one cannot list: every origin is allowed
+    assert kwargs["websocket_origin"] == ["*"]
+    loopback = serve(port=port, address="127.0.0.1", show=False)
+    assert loopback["websocket_origin"] == [f"127.0.0.1:{port}", f"localhost:{port}"]
+
+
+def test_busy_port_is_one_line_before_anything_is_announced(capsys, monkeypatch):
+    monkeypatch.setattr(pn, "serve", lambda *a, **k: pytest.fail("served on a busy port"))
+    with socket.socket() as taken:
+        taken.bind(("127.0.0.1", 0))
+        taken.listen()
+        port = taken.getsockname()[1]
+        with pytest.raises(PortBusyError, match=f"port {port} on 127.0.0.1 is already in use"):
+            serve(port=port, show=False)
+    assert capsys.readouterr().out == ""
 
 
 def test_scenario_picker_opens_on_a_prompt_and_load_waits_for_a_choice():
