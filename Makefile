@@ -4,6 +4,8 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.o2transit-installed
 PORT ?= 5006
+# extra options for `make serve`, e.g. make serve ARGS="--no-show --address 0.0.0.0"
+ARGS ?=
 
 .PHONY: serve test fuzz evaluate bench lint format-check venv chromium clean-venv
 
@@ -39,7 +41,7 @@ chromium:
 	fi
 
 serve: $(STAMP)
-	$(BIN)/o2transit serve --port $(PORT)
+	$(BIN)/o2transit serve --port $(PORT) $(ARGS)
 
 # pytest exit 5 means nothing was collected: treated as a failure.
 test: $(STAMP) chromium

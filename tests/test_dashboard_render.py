@@ -8,16 +8,10 @@ import panel as pn
 import pytest
 from bokeh.document import Document
 from o2transit.dashboard.app import PortBusyError, _is_loopback, create_app, serve
+from o2transit.dashboard.case.figures import CascadePlot, CurvePlot
+from o2transit.dashboard.case.formatting import fmt
 from o2transit.dashboard.case.state import CaseState
-from o2transit.dashboard.case.views import (
-    SCENARIO_PROMPT,
-    CascadePlot,
-    CaseControls,
-    CurvePlot,
-    InputPanel,
-    NumbersTable,
-    _fmt,
-)
+from o2transit.dashboard.case.views import SCENARIO_PROMPT, CaseControls, InputPanel, NumbersTable
 from o2transit.dashboard.look import CAUTION
 
 
@@ -66,10 +60,10 @@ def test_template_builds_document_with_caution():
 
 
 def test_format_shows_no_negative_zero():
-    assert _fmt(-0.04, 1, signed=True) == "0.0"
-    assert _fmt(-0.06, 1, signed=True) == "−0.1"
-    assert _fmt(2.0, 0, signed=True) == "+2"
-    assert _fmt(None, 1) == ""
+    assert fmt(-0.04, 1, signed=True) == "0.0"
+    assert fmt(-0.06, 1, signed=True) == "−0.1"
+    assert fmt(2.0, 0, signed=True) == "+2"
+    assert fmt(None, 1) == ""
 
 
 def test_loopback_detection():

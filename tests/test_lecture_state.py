@@ -6,13 +6,10 @@ from pathlib import Path
 import pytest
 from bokeh.document import Document
 from o2transit.dashboard.lecture.app import create_lecture_app
+from o2transit.dashboard.lecture.export import standalone_html
+from o2transit.dashboard.lecture.figures import frame_data
 from o2transit.dashboard.lecture.state import FACTORS, FETAL_P50_MMHG, LESSON_DIR, LectureState
-from o2transit.dashboard.lecture.views import (
-    LectureControls,
-    LecturePlot,
-    frame_data,
-    standalone_html,
-)
+from o2transit.dashboard.lecture.views import LectureControls, LecturePlot
 
 from o2transit import model
 
@@ -149,6 +146,15 @@ def test_kpa_display(state):
     assert f["unit"] == "kPa"
     assert f["p50"] == pytest.approx(float(model.mmhg_to_kpa(state.case.result.arterial.p50_mmhg)))
     assert "kPa" in frame_data(f)["readout"]["text"][0]
+
+
+def test_unit_switch_in_factor_mode_writes_the_heading_in_the_new_unit(state):
+    state.choose_factor("paco2_mmhg")
+    assert state.frame["heading"] == "PCO2 40 mmHg"
+    state.pressure_unit = "kPa"
+    kpa = float(model.mmhg_to_kpa(40.0))  # 5.33 kPa; the heading once kept 40.0 in kPa
+    assert state.frame["heading"] == f"PCO2 {kpa:.1f} kPa"
+    assert state.factor_control()["value"] == pytest.approx(kpa)
 
 
 def test_refused_values_name_field_value_range_and_unit(state):

@@ -9,8 +9,9 @@ from ..bedside.views import BedsideScreen
 from ..look import ACCENT, caution_pane
 from ..nav import screen_links
 from ..urlstate import bind_url
+from .figures import CascadePlot, CurvePlot
 from .state import CaseState
-from .views import CascadePlot, CaseControls, CurvePlot, InputPanel, NumbersTable
+from .views import CaseControls, InputPanel, NumbersTable
 
 TITLE = "o2transit · oxygen path"
 

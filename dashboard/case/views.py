@@ -1,8 +1,8 @@
-"""Thin Panel views over :class:`dashboard.case.state.CaseState`.
+"""Thin Panel views over :class:`dashboard.case.state.CaseState`: inputs, numbers, controls.
 
-Views build widgets and figures once and refresh them from the state; they format numbers
-and never compute physiology. Every interactive or read-back element carries a stable
-``o2-*`` CSS class for tests.
+Views build widgets once and refresh them from the state; they format numbers and never
+compute physiology (the curve and cascade figures are in :mod:`.figures`). Every
+interactive or read-back element carries a stable ``o2-*`` CSS class for tests.
 """
 
 from __future__ import annotations
@@ -11,23 +11,10 @@ import html
 from pathlib import Path
 
 import panel as pn
-from bokeh.core.properties import value as fixed_value
-from bokeh.models import ColumnDataSource, FactorRange, LabelSet, Range1d
-from bokeh.plotting import figure
 
-from ..look import ARTERIAL, INK, REFERENCE, TABLE_CSS, VENOUS
-from ..widgets import saturation_figure
+from ..look import TABLE_CSS
+from .formatting import fmt
 from .state import CaseState
-
-
-def _fmt(value: float | None, digits: int, signed: bool = False) -> str:
-    if value is None:
-        return ""
-    if round(value, digits) == 0:
-        value = 0.0  # no "−0.0": a change too small to show is no change
-        signed = False
-    text = f"{value:+.{digits}f}" if signed else f"{value:.{digits}f}"
-    return text.replace("-", "−")
 
 
 class NumberInput(pn.viewable.Viewer):
@@ -195,265 +182,6 @@ class InputPanel(pn.viewable.Viewer):
         return self._layout
 
 
-class CurvePlot(pn.viewable.Viewer):
-    """Dissociation curves with loading and unloading points and the extraction."""
-
-    def __init__(self, state: CaseState, **params):
-        super().__init__(**params)
-        self._state = state
-        self._now = ColumnDataSource(data={"x": [], "arterial": [], "venous": [], "standard": []})
-        self._base = ColumnDataSource(data={"x": [], "arterial": [], "venous": []})
-        self._points = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": []})
-        self._base_points = ColumnDataSource(data={"x": [], "y": []})
-        self._p50 = ColumnDataSource(
-            data={
-                "x": [],
-                "y": [],
-                "color": [],
-                "label": [],
-                "dx": [],
-                "dy": [],
-                "align": [],
-                "label_y": [],
-            }
-        )
-        self._segment = ColumnDataSource(data={"x0": [], "y0": [], "x1": [], "y1": []})
-        self._bridge = ColumnDataSource(data={"x0": [], "y0": [], "x1": [], "y1": []})
-        self._note = ColumnDataSource(data={"x": [], "y": [], "text": []})
-
-        fig = saturation_figure(430, "Where blood loads and unloads O2", "15px")
-        self._standard_line = fig.line(
-            "x",
-            "standard",
-            source=self._now,
-            color=REFERENCE,
-            line_width=1.5,
-            line_dash="dotted",
-            legend_label="standard state",
-        )
-        fig.line("x", "arterial", source=self._base, color=ARTERIAL, line_width=2, alpha=0.25)
-        fig.line("x", "venous", source=self._base, color=VENOUS, line_width=2, alpha=0.25)
-        fig.scatter(
-            "x",
-            "y",
-            source=self._base_points,
-            size=10,
-            color=INK,
-            alpha=0.25,
-            legend_label="baseline",
-        )
-        fig.line(
-            "x",
-            "arterial",
-            source=self._now,
-            color=ARTERIAL,
-            line_width=3,
-            legend_label="arterial conditions",
-        )
-        fig.line(
-            "x",
-            "venous",
-            source=self._now,
-            color=VENOUS,
-            line_width=3,
-            legend_label="venous conditions",
-        )
-        fig.segment(
-            "x0", "y0", "x1", "y1", source=self._bridge, color=INK, line_dash="dashed", line_width=1
-        )
-        fig.segment("x0", "y0", "x1", "y1", source=self._segment, color=INK, line_width=4)
-        fig.segment(
-            "x", "y", "x", 0, source=self._p50, color="color", line_dash="dotted", line_width=1.5
-        )
-        fig.scatter(
-            "x", "y", source=self._p50, marker="diamond", size=13, color="color", line_color="white"
-        )
-        fig.scatter(
-            "x", "y", source=self._points, size=14, color="color", line_color="white", line_width=2
-        )
-        fig.add_layout(
-            LabelSet(
-                x="x",
-                y="y",
-                text="label",
-                source=self._points,
-                x_offset=10,
-                y_offset=-18,
-                text_font_size="13px",
-                text_color=INK,
-            )
-        )
-        fig.add_layout(
-            LabelSet(
-                x="x",
-                y="label_y",
-                text="label",
-                source=self._p50,
-                x_offset="dx",
-                y_offset="dy",
-                text_align="align",
-                text_font_size="12px",
-                text_color="color",
-                text_font_style="bold",
-            )
-        )
-        fig.add_layout(
-            LabelSet(
-                x="x",
-                y="y",
-                text="text",
-                source=self._note,
-                x_offset=8,
-                text_align="left",
-                text_baseline="middle",
-                text_font_size="14px",
-                text_font_style="bold",
-                text_color=INK,
-                background_fill_color="white",
-                background_fill_alpha=0.85,
-            )
-        )
-        fig.legend.location = "bottom_right"
-        fig.legend.background_fill_alpha = 0.8
-        fig.legend.label_text_font_size = "12px"
-        self._fig = fig
-        self._caption = pn.pane.HTML(
-            "", css_classes=["o2-curve-caption"], styles={"font-size": "13px", "color": "#46545c"}
-        )
-        self._layout = pn.Column(
-            pn.pane.Bokeh(fig, sizing_mode="stretch_width"),
-            self._caption,
-            css_classes=["o2-curve"],
-            sizing_mode="stretch_width",
-        )
-        state.param.watch(self._update, ["result", "baseline", "pressure_unit"])
-        self._update()
-
-    def _update(self, *_events) -> None:
-        st = self._state
-        view = st.curve_view()
-        if view is None:
-            return
-        unit = st.pressure_unit
-        self._fig.xaxis.axis_label = f"PO2 ({unit})"
-        for item in self._fig.legend.items:
-            if self._standard_line in item.renderers:
-                item.label = fixed_value(f"standard ({st.standard_conditions_text()})")
-        self._fig.x_range.end = st.x_max_display()
-        self._now.data = {k: view[k] for k in ("x", "arterial", "venous", "standard")}
-        (xa, ya), (xv, yv) = view["loading"], view["unloading"]
-        self._points.data = {
-            "x": [xa, xv],
-            "y": [ya, yv],
-            "color": [ARTERIAL, VENOUS],
-            "label": ["loading (arterial)", "unloading (venous)"],
-        }
-        d = st.pressure_digits
-        self._p50.data = {
-            "x": [view["arterial_p50"][0], view["venous_p50"][0]],
-            "y": [view["arterial_p50"][1], view["venous_p50"][1]],
-            "color": [ARTERIAL, VENOUS],
-            "dx": [-5, 5],
-            "dy": [0, 0],
-            "align": ["right", "left"],
-            "label_y": [9, 3],
-            "label": [
-                f"P50 {_fmt(view['arterial_p50'][0], d + 1)}",
-                f"P50 {_fmt(view['venous_p50'][0], d + 1)}",
-            ],
-        }
-        self._segment.data = {"x0": [xv], "y0": [yv], "x1": [xv], "y1": [ya]}
-        self._bridge.data = {"x0": [xv], "y0": [ya], "x1": [xa], "y1": [ya]}
-        self._note.data = {
-            "x": [xv],
-            "y": [(ya + yv) / 2],
-            "text": [f"{view['extracted_ml_per_l']:.0f} mL O2 extracted per L"],
-        }
-        base = st.curve_view(baseline=True)
-        if base is None:
-            self._base.data = {"x": [], "arterial": [], "venous": []}
-            self._base_points.data = {"x": [], "y": []}
-        else:
-            self._base.data = {k: base[k] for k in ("x", "arterial", "venous")}
-            self._base_points.data = {
-                "x": [base["loading"][0], base["unloading"][0]],
-                "y": [base["loading"][1], base["unloading"][1]],
-            }
-        self._caption.object = (
-            f"Black bar: O2 given up per litre of blood between arterial and venous points. "
-            f"The venous curve's shift frees {view['shift_gain_ml_per_l']:.1f} mL O2/L more than "
-            f"the arterial curve would at the same venous PO2."
-        )
-
-    def __panel__(self):
-        return self._layout
-
-
-class CascadePlot(pn.viewable.Viewer):
-    """PO2 at each stop from inspired gas to venous blood."""
-
-    def __init__(self, state: CaseState, **params):
-        super().__init__(**params)
-        self._state = state
-        stages = state.cascade()["stage"]
-        self._source = ColumnDataSource(
-            data={
-                "stage": stages,
-                "po2": [0.0] * len(stages),
-                "label": [""] * len(stages),
-                "color": ["#7fa7a3"] * 2 + ["#5c8f8a", ARTERIAL, VENOUS],
-            }
-        )
-        fig = figure(
-            x_range=FactorRange(*stages),
-            y_range=Range1d(0, 170),
-            height=300,
-            sizing_mode="stretch_width",
-            toolbar_location=None,
-            title="PO2 cascade: the drop at each step",
-        )
-        fig.title.text_font_size = "15px"
-        fig.title.text_color = INK
-        fig.vbar(x="stage", top="po2", width=0.62, source=self._source, color="color")
-        fig.add_layout(
-            LabelSet(
-                x="stage",
-                y="po2",
-                text="label",
-                source=self._source,
-                text_align="center",
-                y_offset=4,
-                text_font_size="14px",
-                text_font_style="bold",
-                text_color=INK,
-            )
-        )
-        fig.background_fill_color = "#fbfaf7"
-        fig.xgrid.grid_line_color = None
-        fig.xaxis.major_label_text_font_size = "13px"
-        self._fig = fig
-        self._layout = pn.Column(
-            pn.pane.Bokeh(fig, sizing_mode="stretch_width"),
-            css_classes=["o2-cascade"],
-            sizing_mode="stretch_width",
-        )
-        state.param.watch(self._update, ["result", "pressure_unit"])
-        self._update()
-
-    def _update(self, *_events) -> None:
-        st = self._state
-        data = st.cascade()
-        d = st.pressure_digits
-        self._fig.yaxis.axis_label = f"PO2 ({st.pressure_unit})"
-        self._fig.y_range.end = max(max(data["po2"]) * 1.15, 1.0)
-        self._source.data = dict(
-            self._source.data, po2=data["po2"], label=[_fmt(v, d) for v in data["po2"]]
-        )
-
-    def __panel__(self):
-        return self._layout
-
-
 class NumbersTable(pn.viewable.Viewer):
     """Reported numbers with unit, reference range, flag and change vs baseline."""
 
@@ -478,13 +206,13 @@ class NumbersTable(pn.viewable.Viewer):
         rows = []
         for r in self._state.readings():
             flag = {"high": "▲ high", "low": "▼ low"}.get(r.flag, "")
-            ref = f"{_fmt(r.low, r.digits)}–{_fmt(r.high, r.digits)}" if r.low is not None else ""
+            ref = f"{fmt(r.low, r.digits)}–{fmt(r.high, r.digits)}" if r.low is not None else ""
             rows.append(
                 f"<tr class='flag-{r.flag or 'none'}' data-key='{r.key}'>"
-                f"<td>{html.escape(r.label)}</td><td class='val'>{_fmt(r.value, r.digits)}</td>"
+                f"<td>{html.escape(r.label)}</td><td class='val'>{fmt(r.value, r.digits)}</td>"
                 f"<td>{html.escape(r.unit)}</td><td class='range'>{ref}</td>"
                 f"<td><span class='flag'>{flag}</span></td>"
-                f"<td class='delta'>{_fmt(r.delta, r.digits, signed=True)}</td></tr>"
+                f"<td class='delta'>{fmt(r.delta, r.digits, signed=True)}</td></tr>"
             )
         self._pane.object = f"<table class='o2t'>{head}{''.join(rows)}</table>"
 

@@ -15,8 +15,9 @@ import panel as pn
 from ..look import ACCENT
 from ..nav import screen_links
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
+from .figures import INK, PAPER
 from .state import LESSON_DIR, LectureState
-from .views import INK, PAPER, LectureControls, LecturePlot
+from .views import LectureControls, LecturePlot
 
 TITLE = "o2transit · lecture"
 

@@ -1,7 +1,11 @@
 """Session state of lecture mode: a lesson's steps, or one factor moved alone.
 
-No Panel import here. Every number the lecture view shows is made here by the model: each
-step or factor setting becomes a :class:`~dashboard.case.state.CaseState` case solved by
+No Panel import here. :class:`LectureState` steps through lessons and holds the one
+factor's setting; the factors themselves are in :mod:`.factors`, the frame the plot draws
+is made by :mod:`.frame`, and the page address is read and written by :mod:`.query`.
+
+Every number the lecture view shows is made by the model: each step or factor setting
+becomes a :class:`~dashboard.case.state.CaseState` case solved by
 :func:`model.solve_transport`; the faint reference is the default case (a resting adult at
 sea level, pH 7.40, PCO2 40 mmHg, 37 °C). Two derived numbers are written on the plot:
 
@@ -18,13 +22,10 @@ The curve drawn is the blood under the case's arterial conditions (pH, PCO2, tem
 
 from __future__ import annotations
 
-import dataclasses
 from pathlib import Path
 
-import numpy as np
 import param
 
-from ... import model
 from ...model.lesson import (
     DEFAULT_TISSUE_PO2_MMHG,
     TISSUE_PO2_LIMITS_MMHG,
@@ -35,115 +36,13 @@ from ...model.lesson import (
 )
 from ...model.scenario import LESSON_DIR
 from ..case.state import CaseState
+from .factors import FACTORS, FETAL_P50_MMHG, Factor
+from .frame import build_frame
+from .query import PRESSURE_UNITS, QUERY_KEYS, query_pairs, query_updates
 
-FETAL_P50_MMHG = 19.0
-"""Standard-state P50 of fetal blood [mmHg]. From memory: typical fetal values are about
-19-20 mmHg (the Siggaard-Andersen 1990 tanh model gives about 20 mmHg for all-fetal Hb)."""
-
-
-@dataclasses.dataclass(frozen=True)
-class Factor:
-    """One factor the lecturer can move alone; ``values`` are model units of ``name``."""
-
-    key: str
-    label: str
-    unit: str  # the model unit; "pressure" means mmHg shown in the display unit
-    reference: float
-    lo: float
-    hi: float
-    step: float
-    caption: str
-    percent: bool = False  # shown ×100 with a % sign
-    choices: tuple[tuple[str, float], ...] = ()  # a two-state factor instead of a range
-
-    def inputs(self, value: float, base_excess_mmol_l: float = 0.0) -> dict:
-        """CaseState inputs (scenario key names) that move this factor alone.
-
-        PCO2 moves at a constant base excess (the reference case's), so the pH follows it.
-        """
-        if self.key == "fetal":
-            return {"p50_mmhg": FETAL_P50_MMHG} if value >= 0.5 else {}
-        if self.key == "paco2_mmhg":
-            return {"paco2_mmhg": value, "base_excess_mmol_l": base_excess_mmol_l}
-        return {self.key: value}
-
-
-FACTORS: dict[str, Factor] = {
-    f.key: f
-    for f in (
-        Factor(
-            "ph",
-            "pH",
-            "",
-            7.40,
-            6.90,
-            7.70,
-            0.01,
-            "Only the pH moves; PCO2, temperature and everything else stay as at rest.",
-        ),
-        Factor(
-            "paco2_mmhg",
-            "PCO2",
-            "pressure",
-            40.0,
-            20.0,
-            80.0,
-            1.0,
-            "Only PCO2 moves, at the resting base excess, so the pH follows the CO2. In "
-            "the lung more CO2 also leaves less room for O2 in alveolar gas: the arterial "
-            "point falls.",
-        ),
-        Factor(
-            "temperature_c",
-            "Temperature",
-            "°C",
-            37.0,
-            33.0,
-            42.0,
-            0.1,
-            "Only the blood temperature moves; pH and PCO2 stay as given.",
-        ),
-        Factor(
-            "dpg_mmol_l",
-            "2,3-DPG",
-            "mmol/L",
-            model.NORMAL_DPG_MMOL_L,
-            0.0,
-            10.0,
-            0.1,
-            "Only red-cell 2,3-DPG moves; 5 mmol/L is normal, stored blood has little.",
-        ),
-        Factor(
-            "cohb_fraction",
-            "COHb",
-            "%",
-            0.0,
-            0.0,
-            0.5,
-            0.01,
-            "Only the COHb fraction moves: fewer sites carry O2, and those left hold it tighter.",
-            percent=True,
-        ),
-        Factor(
-            "fetal",
-            "Fetal Hb",
-            "",
-            0.0,
-            0.0,
-            1.0,
-            1.0,
-            f"Fetal blood, modelled as a standard P50 of {FETAL_P50_MMHG:g} mmHg (a typical "
-            "value); all else as in the adult.",
-            choices=(("adult", 0.0), ("fetal", 1.0)),
-        ),
-    )
-}
+__all__ = ["FACTORS", "FETAL_P50_MMHG", "LESSON_DIR", "MODES", "Factor", "LectureState"]
 
 MODES = ("lesson", "factor")
-
-
-def _p(x) -> float:
-    return float(np.asarray(x))
 
 
 class LectureState(param.Parameterized):
@@ -160,7 +59,7 @@ class LectureState(param.Parameterized):
         label="Tissue PO2 (mmHg)",
         doc="PO2 at which the unloading is read in factor mode [mmHg].",
     )
-    pressure_unit = param.Selector(default="mmHg", objects=["mmHg", "kPa"], label="Unit")
+    pressure_unit = param.Selector(default="mmHg", objects=list(PRESSURE_UNITS), label="Unit")
 
     frame = param.Dict(default={}, doc="Everything the plot shows, in display units.")
     message = param.String(default="", doc="Why the last request was not applied.")
@@ -252,68 +151,40 @@ class LectureState(param.Parameterized):
         self.param.update(mode="factor", factor=key, factor_value=FACTORS[key].reference)
         return True
 
-    def _to_shown(self, f: Factor, value: float) -> float:
-        if f.unit == "pressure":
-            return self.case.pressure_to_display(value)
-        return 100.0 * value if f.percent else value
-
-    def _from_shown(self, f: Factor, value: float) -> float:
-        if f.unit == "pressure":
-            return self.case.pressure_from_display(value)
-        return value / 100.0 if f.percent else value
-
     def factor_control(self, key: str | None = None) -> dict:
         """A factor's slider in display units: label, unit, lo, hi, step, value, reference.
 
         ``key`` defaults to the current factor; another factor shows its reference value.
         """
         f = FACTORS[key] if key else self.current_factor
-        current = f.key == self.factor
-        unit = self.pressure_unit if f.unit == "pressure" else f.unit
-        step = f.step
-        if f.unit == "pressure" and self.pressure_unit == "kPa":
-            step = 0.1
-        elif f.percent:
-            step = 100.0 * f.step
-        return {
-            "label": f.label,
-            "unit": unit,
-            "lo": self._to_shown(f, f.lo),
-            "hi": self._to_shown(f, f.hi),
-            "step": step,
-            "value": self._to_shown(f, self.factor_value if current else f.reference),
-            "reference": self._to_shown(f, f.reference),
-            "choices": f.choices,
-        }
+        return f.control(self.factor_value if f.key == self.factor else f.reference, self.case)
 
     def set_factor_value(self, shown: float) -> bool:
         """Set the factor from a value in display units; refuse it outside the range."""
         f = self.current_factor
         c = self.factor_control()
-        tol = 1e-9 * max(abs(c["lo"]), abs(c["hi"]), 1.0)
-        if not c["lo"] - tol <= shown <= c["hi"] + tol:
+        if not _within(shown, c["lo"], c["hi"]):
             unit = f" {c['unit']}" if c["unit"] else ""
             self.message = (
                 f"{f.label} = {shown:g} is outside the allowed range "
                 f"{c['lo']:.4g}–{c['hi']:.4g}{unit}; kept {c['value']:.4g}{unit}."
             )
             return False
-        value = min(max(self._from_shown(f, shown), f.lo), f.hi)
+        value = min(max(f.from_shown(shown, self.case), f.lo), f.hi)
         self.message = ""
         self.param.update(mode="factor", factor_value=value)
         return True
 
     def set_tissue_po2(self, shown: float) -> bool:
         """Set the tissue PO2 (factor mode) from display units; refuse it outside 5–100 mmHg."""
+        lo_mmhg, hi_mmhg = TISSUE_PO2_LIMITS_MMHG
         lo, hi = (self.case.pressure_to_display(v) for v in TISSUE_PO2_LIMITS_MMHG)
-        tol = 1e-9 * hi
-        if not lo - tol <= shown <= hi + tol:
+        if not _within(shown, lo, hi):
             self.message = (
                 f"Tissue PO2 = {shown:g} is outside the allowed range {lo:.3g}–{hi:.3g} "
                 f"{self.pressure_unit}; kept the last value."
             )
             return False
-        lo_mmhg, hi_mmhg = TISSUE_PO2_LIMITS_MMHG
         mmhg = min(max(self.case.pressure_from_display(shown), lo_mmhg), hi_mmhg)
         self.message = ""
         self.tissue_po2_mmhg = mmhg
@@ -328,19 +199,11 @@ class LectureState(param.Parameterized):
             tag = f"Step {s.number} of {len(lesson.steps)}"
             return s.inputs, s.tissue_po2_mmhg, s.title, s.caption, tag
         f = self.current_factor
-        c = self.factor_control()
-        if f.choices:
-            shown = {v: k for k, v in f.choices}[round(self.factor_value)]
-            heading = f"{f.label}: {shown} blood"
-        else:
-            digits = 2 if c["step"] < 0.1 else (1 if c["step"] < 1 else 0)
-            unit = f" {c['unit']}" if c["unit"] else ""
-            heading = f"{f.label} {c['value']:.{digits}f}{unit}"
-        be = _p(self.reference.result.arterial.base_excess_mmol_l)
+        be = float(self.reference.result.arterial.base_excess_mmol_l)
         return (
             f.inputs(self.factor_value, be),
             self.tissue_po2_mmhg,
-            heading,
+            f.heading(self.factor_value, self.case),
             f.caption,
             "One factor",
         )
@@ -359,171 +222,31 @@ class LectureState(param.Parameterized):
         if self.current_lesson and self.step > self.step_count:
             with param.parameterized.discard_events(self):
                 self.step = self.step_count
-        inputs, tissue, heading, caption, tag = self._target()
+        # The cases convert for the heading and the frame: give them the unit first.
         for s in (self.case, self.reference):
             s.pressure_unit = self.pressure_unit
+        inputs, tissue, heading, caption, tag = self._target()
         if not self.case.apply_inputs(inputs, name=heading):
             self.message = self.case.error_message
             return
-        self.frame = self._frame(tissue, heading, caption, tag)
-
-    def _unloaded_ml_per_l(self, result, tissue_mmhg: float) -> tuple[float, float]:
-        """(SO2 at the tissue PO2 [-], O2 given up per litre from arterial to tissue [mL/L])."""
-        cond = result.arterial_conditions
-        so2 = _p(model.saturation(tissue_mmhg, **cond))
-        content = _p(
-            model.oxygen_content(
-                result.hb_g_dl,
-                so2,
-                tissue_mmhg,
-                cohb_fraction=cond["cohb_fraction"],
-                methb_fraction=cond["methb_fraction"],
-            )
-        )
-        return so2, 10.0 * (_p(result.arterial.o2_content_ml_dl) - content)
-
-    def _frame(self, tissue_mmhg: float, heading: str, caption: str, tag: str) -> dict:
-        case, ref = self.case, self.reference
-        now, base = case.result, ref.result
-        view, ref_view = case.curve_view(), ref.curve_view()
-        so2_t, unloaded = self._unloaded_ml_per_l(now, tissue_mmhg)
-        so2_t_ref, unloaded_ref = self._unloaded_ml_per_l(base, tissue_mmhg)
-        p50_now = _p(now.arterial.p50_mmhg)
-        p50_ref = _p(base.arterial.p50_mmhg)
-        to = case.pressure_to_display
-        return {
-            "heading": heading,
-            "caption": caption,
-            "tag": tag,
-            "unit": self.pressure_unit,
-            "digits": case.pressure_digits,
-            "x": np.asarray(view["x"], dtype=float),
-            "current": np.asarray(view["arterial"], dtype=float),
-            "reference": np.asarray(ref_view["arterial"], dtype=float),
-            "x_max": case.x_max_display(),
-            "loading": view["loading"],
-            "reference_loading": ref_view["loading"],
-            "tissue_po2": to(tissue_mmhg),
-            "tissue_so2": 100.0 * so2_t,
-            "reference_tissue_so2": 100.0 * so2_t_ref,
-            "p50": to(p50_now),
-            "reference_p50": to(p50_ref),
-            "p50_shift": to(p50_now) - to(p50_ref),
-            "unloaded_ml_per_l": unloaded,
-            "reference_unloaded_ml_per_l": unloaded_ref,
-            "unloaded_change_ml_per_l": unloaded - unloaded_ref,
-            "arterial_so2": 100.0 * _p(now.arterial.so2),
-            "arterial_content_ml_dl": _p(now.arterial.o2_content_ml_dl),
-            "hb_g_dl": _p(now.hb_g_dl),
-            "do2_ml_min": _p(now.do2_ml_min),
-        }
+        self.frame = build_frame(self.case, self.reference, tissue, heading, caption, tag)
 
     # ------------------------------------------------------------------ page address
+    QUERY_KEYS = QUERY_KEYS
+
     def to_query(self) -> dict[str, str]:
         """Address pairs that give back this view (lesson and step, or factor and value)."""
-        out: dict[str, str] = {}
-        if self.mode == "lesson" and self.current_lesson:
-            out = {"lesson": self.lesson, "step": str(self.step)}
-        else:
-            f = self.current_factor
-            out["factor"] = f.key
-            if f.key == "fetal":
-                out["fetal"] = "true" if self.factor_value >= 0.5 else "false"
-            else:
-                out[f.key] = format(self.factor_value, ".10g")
-            if self.tissue_po2_mmhg != DEFAULT_TISSUE_PO2_MMHG:
-                out["tissue_po2_mmhg"] = format(self.tissue_po2_mmhg, ".10g")
-        if self.pressure_unit != "mmHg":
-            out["pressure_unit"] = self.pressure_unit
-        return out
-
-    QUERY_KEYS = ("lesson", "step", "factor", "tissue_po2_mmhg", "pressure_unit", *FACTORS)
+        return query_pairs(self)
 
     def restore_query(self, pairs: dict[str, str]) -> list[str]:
         """Apply address pairs; return a message for each value not used (its default kept)."""
-        messages: list[str] = []
-        updates: dict = {}
-        unit = pairs.get("pressure_unit")
-        if unit is not None:
-            if unit in ("mmHg", "kPa"):
-                updates["pressure_unit"] = unit
-            else:
-                messages.append(f"pressure_unit = {unit!r} is not one of mmHg, kPa; mmHg is used")
-        if "factor" in pairs:
-            key = pairs["factor"]
-            if key not in FACTORS:
-                messages.append(
-                    f"factor = {key!r} is not one of {', '.join(FACTORS)}; the lesson is shown"
-                )
-            else:
-                f = FACTORS[key]
-                updates.update(mode="factor", factor=key, factor_value=f.reference)
-                raw = pairs.get(key)
-                if raw is not None:
-                    value = self._parse_factor(f, raw, messages)
-                    if value is not None:
-                        updates["factor_value"] = value
-                raw = pairs.get("tissue_po2_mmhg")
-                if raw is not None:
-                    lo, hi = TISSUE_PO2_LIMITS_MMHG
-                    try:
-                        tissue = float(raw)
-                    except ValueError:
-                        tissue = float("nan")
-                    if lo <= tissue <= hi:
-                        updates["tissue_po2_mmhg"] = tissue
-                    else:
-                        messages.append(
-                            f"Tissue PO2 = {raw!r} is outside the allowed range {lo:g}–{hi:g} "
-                            f"mmHg; the default {DEFAULT_TISSUE_PO2_MMHG:g} mmHg is used"
-                        )
-        if updates.get("mode") != "factor":
-            key = pairs.get("lesson")
-            if key is not None and key not in self._lessons:
-                known = ", ".join(self._lessons) or "none"
-                messages.append(
-                    f"lesson = {key!r} not found (lessons: {known}); the first is shown"
-                )
-                key = None
-            if key is not None:
-                updates.update(mode="lesson", lesson=key)
-            lesson = self._lessons.get(updates.get("lesson", self.lesson))
-            raw = pairs.get("step")
-            if raw is not None and lesson is not None:
-                n = len(lesson.steps)
-                if raw.isdigit() and 1 <= int(raw) <= n:
-                    updates["step"] = int(raw)
-                else:
-                    messages.append(
-                        f"step = {raw!r} is outside the allowed range 1–{n}; step 1 is shown"
-                    )
-                    updates["step"] = 1
-        for key in pairs:
-            if key not in self.QUERY_KEYS:
-                messages.append(f"{key!r} is not a setting of the lecture page; ignored")
+        updates, messages = query_updates(self, pairs)
         if updates:
             self.param.update(**updates)
         return messages
 
-    def _parse_factor(self, f: Factor, raw: str, messages: list[str]) -> float | None:
-        if f.choices:
-            word = raw.strip().lower()
-            if word in ("true", "1", "yes", "fetal"):
-                return 1.0
-            if word in ("false", "0", "no", "adult"):
-                return 0.0
-            messages.append(f"{f.key} = {raw!r} must be true or false; adult blood is shown")
-            return None
-        unit = "mmHg" if f.unit == "pressure" else ("" if f.percent else f.unit)
-        span = f"{f.lo:g}–{f.hi:g}{' ' + unit if unit else ''}"
-        try:
-            value = float(raw)
-        except ValueError:
-            value = float("nan")
-        if not f.lo <= value <= f.hi:
-            messages.append(
-                f"{f.label}: {f.key} = {raw!r} is outside the allowed range {span}; the "
-                f"reference {f.reference:g}{' ' + unit if unit else ''} is used"
-            )
-            return None
-        return value
+
+def _within(shown: float, lo: float, hi: float) -> bool:
+    """``lo <= shown <= hi``, forgiving the rounding of a value converted for display."""
+    tol = 1e-9 * max(abs(lo), abs(hi), 1.0)
+    return lo - tol <= shown <= hi + tol

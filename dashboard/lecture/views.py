@@ -1,10 +1,7 @@
 """Thin views of lecture mode over :class:`dashboard.lecture.state.LectureState`.
 
-Built for a projector: large type, thick lines, white ground and near-black ink. The two
-series that matter differ in colour *and* in line or marker (the reference is a thin grey
-dotted line, the case a thick solid vermilion line; the arterial point a blue circle, the
-tissue point a vermilion square), so they stay apart for colour-blind viewers and in
-greyscale.
+The plot (drawn by :mod:`.figures`), the controls (step buttons and index, factor chooser
+and sliders, unit, the exports of :mod:`.export`) and the presenter's keys.
 
 Smooth motion: the server writes each new state, computed by the model, into a *target*
 ``ColumnDataSource`` that no glyph draws; a ``CustomJS`` on the target's ``data`` tweens the
@@ -18,38 +15,16 @@ from __future__ import annotations
 
 import html
 import io
-from typing import ClassVar
 
 import panel as pn
-import param
-from bokeh.core.properties import value
-from bokeh.layouts import column
-from bokeh.models import (
-    CDSView,
-    ColumnDataSource,
-    CustomJS,
-    Div,
-    IndexFilter,
-    LabelSet,
-    Legend,
-    LegendItem,
-    Range1d,
-    Title,
-)
-from bokeh.plotting import figure
+from bokeh.models import ColumnDataSource, CustomJS
 
-from ..look import CAUTION
-from ..offline import offline_file_html
+from .export import png_js, standalone_html
+from .figures import INK, build_figure, figure_title, frame_data
+from .keys import KeyCatcher
 from .state import FACTORS, LectureState
 
 GLIDE_MS = 350
-
-INK = "#111111"
-PAPER = "#ffffff"
-CASE = "#c2410c"  # vermilion: the case's curve and its tissue point
-REFERENCE = "#8d8d8d"  # mid grey, dotted, thinner: the standard curve
-POINT = "#1d4e89"  # deep blue: the arterial point and the tissue PO2 line
-FONT = "'Liberation Sans', Arial, sans-serif"
 
 _TWEEN_JS = (
     """
@@ -82,328 +57,6 @@ function tick(t) {
 shown._o2_raf = requestAnimationFrame(tick);
 """
 ).replace("GLIDE_MS", str(GLIDE_MS))
-
-_PNG_JS = """
-// The plot as drawn, with the step's caption (the caption source) wrapped
-// underneath, so the image says what the lecturer said.
-const view = Bokeh.index.find_one(fig);
-if (view === null) { return; }
-const plot = view.export("png").canvas;
-const scale = plot.width / view.bbox.width;
-const text = caption.data.text.length ? String(caption.data.text[0]) : "";
-const size = Math.round(24 * scale), line = Math.round(32 * scale), pad = Math.round(24 * scale);
-const probe = document.createElement("canvas").getContext("2d");
-probe.font = size + "px " + FONT_CSS;
-const lines = [];
-let current = "";
-for (const word of text.split(/\\s+/).filter((w) => w.length)) {
-  const trial = current ? current + " " + word : word;
-  if (current && probe.measureText(trial).width > plot.width - 2 * pad) {
-    lines.push(current);
-    current = word;
-  } else {
-    current = trial;
-  }
-}
-if (current) { lines.push(current); }
-const out = document.createElement("canvas");
-out.width = plot.width;
-out.height = plot.height + (lines.length ? lines.length * line + pad : 0);
-const ctx = out.getContext("2d");
-ctx.fillStyle = "#ffffff";
-ctx.fillRect(0, 0, out.width, out.height);
-ctx.drawImage(plot, 0, 0);
-ctx.fillStyle = INK_CSS;
-ctx.font = size + "px " + FONT_CSS;
-ctx.textBaseline = "top";
-lines.forEach((text, i) => ctx.fillText(text, pad, plot.height + i * line + pad / 2));
-out.toBlob((blob) => {
-  const a = document.createElement("a");
-  a.href = URL.createObjectURL(blob);
-  a.download = name;
-  document.body.appendChild(a);
-  a.click();
-  a.remove();
-  setTimeout(() => URL.revokeObjectURL(a.href), 10000);
-}, "image/png");
-"""
-
-
-SOURCE_NAMES = ("curves", "arterial", "tissue", "tissue_line", "p50", "readout")
-
-
-def _num(value: float, digits: int, signed: bool = False) -> str:
-    if round(value, digits) == 0:
-        value, signed = 0.0, False
-    text = f"{value:+.{digits}f}" if signed else f"{value:.{digits}f}"
-    return text.replace("-", "−")
-
-
-def frame_data(frame: dict) -> dict[str, dict]:
-    """Column data of each plot source from a state frame (formatting only)."""
-    unit, d = frame["unit"], frame["digits"] + 1
-    xt, yt, yt_ref = frame["tissue_po2"], frame["tissue_so2"], frame["reference_tissue_so2"]
-    x_right = 0.975 * frame["x_max"]
-    readout = [
-        (
-            f"P50 {_num(frame['p50'], d)} {unit}:  {_num(frame['p50_shift'], d, True)} {unit}"
-            "  vs reference"
-        ),
-        (
-            f"O2 unloaded at {_num(xt, d - 1)} {unit}:  "
-            f"{_num(frame['unloaded_ml_per_l'], 0)} mL/L,  "
-            f"{_num(frame['unloaded_change_ml_per_l'], 1, True)} vs reference"
-        ),
-    ]
-    return {
-        "curves": {
-            "x": frame["x"],
-            "reference": frame["reference"],
-            "current": frame["current"],
-        },
-        "arterial": {"x": [frame["loading"][0]], "y": [frame["loading"][1]]},
-        "tissue": {"x": [xt, xt], "y": [yt_ref, yt]},
-        "tissue_line": {
-            "x0": [xt],
-            "y0": [0.0],
-            "x1": [xt],
-            "y1": [100.0],
-            "label": [f"tissue PO2 {_num(xt, d - 1)}"],
-        },
-        "p50": {
-            "x": [frame["p50"]],
-            "y": [50.0],
-            "x0": [frame["reference_p50"]],
-            "label": [f"P50 {_num(frame['p50'], d)}"],
-        },
-        "readout": {"x": [x_right, x_right], "y": [0.0, 0.0], "dy": [58, 14], "text": readout},
-    }
-
-
-def figure_title(frame: dict) -> str:
-    return f"{frame['tag']} · {frame['heading']}" if frame["tag"] else frame["heading"]
-
-
-def build_figure(sources: dict[str, ColumnDataSource], frame: dict, **kwargs):
-    """The lecture plot drawn from ``sources`` (one per name in :data:`SOURCE_NAMES`)."""
-    fig = figure(
-        x_range=Range1d(0, frame["x_max"]),
-        y_range=Range1d(0, 102),
-        toolbar_location=None,
-        title=figure_title(frame),
-        background_fill_color=PAPER,
-        border_fill_color=PAPER,
-        outline_line_color=None,
-        min_border_left=90,
-        min_border_bottom=80,
-        **kwargs,
-    )
-    fig.title.text_font_size = "40px"
-    fig.title.text_color = INK
-    fig.title.text_font = FONT
-    fig.xaxis.axis_label = f"PO2 ({frame['unit']})"
-    fig.yaxis.axis_label = "SO2 (%)"
-    for axis in (fig.xaxis, fig.yaxis):
-        axis.axis_label_text_font_size = "28px"
-        axis.axis_label_text_font_style = "bold"
-        axis.axis_label_text_color = INK
-        axis.axis_label_text_font = FONT
-        axis.major_label_text_font_size = "24px"
-        axis.major_label_text_color = INK
-        axis.axis_line_width = 2
-        axis.major_tick_line_width = 2
-        axis.axis_line_color = INK
-        axis.major_tick_line_color = INK
-        axis.minor_tick_line_color = None
-    fig.grid.grid_line_color = "#e4e4e4"
-    fig.grid.grid_line_width = 1.5
-    fig.yaxis.ticker = [0, 25, 50, 75, 100]
-
-    c, t, p = sources["curves"], sources["tissue"], sources["p50"]
-    ref_line = fig.line("x", "reference", source=c, color=REFERENCE, line_width=4, line_dash=[3, 7])
-    fig.segment(
-        "x0",
-        "y0",
-        "x1",
-        "y1",
-        source=sources["tissue_line"],
-        color=POINT,
-        line_width=3,
-        line_dash=[14, 8],
-        alpha=0.8,
-    )
-    case_line = fig.line("x", "current", source=c, color=CASE, line_width=7)
-    fig.segment("x0", "y", "x", "y", source=p, color=INK, line_width=3)
-    fig.scatter("x", "y", source=p, marker="diamond", size=26, color=INK, line_color=PAPER)
-    fig.add_layout(
-        LabelSet(
-            x="x",
-            y="y",
-            text="label",
-            source=p,
-            x_offset=18,
-            y_offset=-34,
-            text_font_size="24px",
-            text_color=INK,
-            text_font_style="bold",
-            text_font=value(FONT),
-        )
-    )
-    fig.add_layout(
-        LabelSet(
-            x="x1",
-            y="y1",
-            text="label",
-            source=sources["tissue_line"],
-            x_offset=8,
-            y_offset=-2,
-            text_baseline="top",
-            background_fill_color=PAPER,
-            background_fill_alpha=0.85,
-            text_font_size="22px",
-            text_color=POINT,
-            text_font_style="bold",
-            text_font=value(FONT),
-        )
-    )
-    fig.scatter(
-        "x",
-        "y",
-        source=t,
-        view=CDSView(filter=IndexFilter([0])),
-        marker="square",
-        size=24,
-        line_width=3,
-        fill_color=PAPER,
-        line_color=REFERENCE,
-    )
-    tissue_marks = fig.scatter(
-        "x",
-        "y",
-        source=t,
-        view=CDSView(filter=IndexFilter([1])),
-        marker="square",
-        size=26,
-        line_width=3,
-        fill_color=CASE,
-        line_color=PAPER,
-    )
-    arterial_mark = fig.scatter(
-        "x",
-        "y",
-        source=sources["arterial"],
-        marker="circle",
-        size=28,
-        color=POINT,
-        line_color=PAPER,
-        line_width=3,
-    )
-    fig.add_layout(
-        LabelSet(
-            x="x",
-            y="y",
-            text="text",
-            source=sources["readout"],
-            y_offset="dy",
-            text_align="right",
-            text_baseline="bottom",
-            text_font_size="28px",
-            text_font_style="bold",
-            text_color=INK,
-            text_font=value(FONT),
-            background_fill_color=PAPER,
-            background_fill_alpha=0.9,
-        )
-    )
-    legend = Legend(
-        items=[
-            LegendItem(label="standard (reference)", renderers=[ref_line]),
-            LegendItem(label="this case", renderers=[case_line]),
-            LegendItem(label="arterial point", renderers=[arterial_mark]),
-            LegendItem(label="at the tissue PO2", renderers=[tissue_marks]),
-        ],
-        location="center_right",
-        label_text_font_size="24px",
-        label_text_color=INK,
-        label_text_font=FONT,
-        glyph_width=56,
-        glyph_height=30,
-        background_fill_alpha=0.9,
-        border_line_color=None,
-    )
-    fig.add_layout(legend)
-    fig.add_layout(
-        Title(
-            text=f"⚠ {CAUTION}",
-            text_font_size="15px",
-            text_color="#555555",
-            text_font_style="normal",
-            text_font=FONT,
-        ),
-        "below",
-    )
-    return fig
-
-
-def standalone_html(state: LectureState) -> str:
-    """The current view as one offline HTML page (Bokeh resources inlined, no links out)."""
-    frame = state.frame
-    data = frame_data(frame)
-    sources = {k: ColumnDataSource(data=v) for k, v in data.items()}
-    fig = build_figure(sources, frame, width=1280, height=720)
-    numbers = (
-        f"Arterial SO2 {frame['arterial_so2']:.1f} %, CaO2 {frame['arterial_content_ml_dl']:.1f} "
-        f"mL/dL, Hb {frame['hb_g_dl']:.1f} g/dL, DO2 {frame['do2_ml_min']:.0f} mL/min. "
-        f"Reference P50 {_num(frame['reference_p50'], frame['digits'] + 1)} {frame['unit']}; "
-        f"reference unloading {frame['reference_unloaded_ml_per_l']:.0f} mL/L."
-    )
-    caption = Div(
-        text=(
-            f'<p style="font: 26px {FONT}; color: {INK}; max-width: 1240px">'
-            f"{html.escape(frame['caption'])}</p>"
-            f'<p style="font: 20px {FONT}; color: {INK}">{html.escape(numbers)}</p>'
-        ),
-        width=1280,
-        margin=(0, 20),
-    )
-    # The caution is part of the figure (a line under the axis), as in the PNG.
-    return offline_file_html(column(fig, caption), title=f"o2transit · {frame['heading']}")
-
-
-class KeyCatcher(pn.reactive.ReactiveHTML):
-    """Turns a presenter's keys into ``action`` + ``presses`` (Python watches ``presses``).
-
-    ArrowRight, PageDown and Space mean next; ArrowLeft and PageUp mean back. Keys typed in
-    an input, a text area or a select, and keys on a focused slider, are left alone.
-    """
-
-    action = param.String(default="")
-    presses = param.Integer(default=0)
-
-    _template = '<div id="catcher" class="o2-keys" style="display:none"></div>'
-    _scripts: ClassVar[dict[str, str]] = {
-        "render": """
-if (window._o2_keys) { document.removeEventListener("keydown", window._o2_keys); }
-window._o2_keys = (e) => {
-  const el = e.composedPath ? e.composedPath()[0] : e.target;
-  const tag = el && el.tagName ? el.tagName.toUpperCase() : "";
-  const typing = tag === "INPUT" || tag === "TEXTAREA" || tag === "SELECT";
-  const sliding = el && el.getAttribute && el.getAttribute("role") === "slider";
-  if (typing || sliding || (el && el.isContentEditable)) {
-    return;
-  }
-  if (e.altKey || e.ctrlKey || e.metaKey) { return; }
-  const map = {ArrowRight: "next", PageDown: "next", " ": "next", ArrowLeft: "back",
-               PageUp: "back"};
-  const act = map[e.key];
-  if (!act) { return; }
-  e.preventDefault();
-  data.action = act;
-  data.presses = data.presses + 1;
-};
-document.addEventListener("keydown", window._o2_keys);
-"""
-    }
 
 
 TOOL_CSS = """
@@ -558,7 +211,7 @@ class LectureControls(pn.viewable.Viewer):
                 "caption": plot.caption_source,
                 "name": "o2transit-lecture.png",
             },
-            code=_PNG_JS.replace("FONT_CSS", repr(FONT)).replace("INK_CSS", repr(INK)),
+            code=png_js(),
         )
         self._html = pn.widgets.FileDownload(
             callback=self._html_file,

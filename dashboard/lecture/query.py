@@ -1,0 +1,111 @@
+"""The lecture page address: ``?lesson=rest-to-altitude&step=3`` or ``?factor=ph&ph=7.2``.
+
+No Panel import. :func:`query_pairs` writes what a :class:`~.state.LectureState` shows;
+:func:`query_updates` reads address pairs back into state updates, with a message for each
+value that cannot be used (its default is kept). Factor values are in model units.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from ...model.lesson import DEFAULT_TISSUE_PO2_MMHG, TISSUE_PO2_LIMITS_MMHG, Lesson
+from .factors import FACTORS
+
+if TYPE_CHECKING:
+    from .state import LectureState
+
+PRESSURE_UNITS = ("mmHg", "kPa")
+QUERY_KEYS = ("lesson", "step", "factor", "tissue_po2_mmhg", "pressure_unit", *FACTORS)
+
+
+def query_pairs(state: LectureState) -> dict[str, str]:
+    """Address pairs that give back this view (lesson and step, or factor and value)."""
+    if state.mode == "lesson" and state.current_lesson:
+        out = {"lesson": state.lesson, "step": str(state.step)}
+    else:
+        f = state.current_factor
+        out = {"factor": f.key, f.key: f.query_text(state.factor_value)}
+        if state.tissue_po2_mmhg != DEFAULT_TISSUE_PO2_MMHG:
+            out["tissue_po2_mmhg"] = format(state.tissue_po2_mmhg, ".10g")
+    if state.pressure_unit != "mmHg":
+        out["pressure_unit"] = state.pressure_unit
+    return out
+
+
+def _tissue(raw: str, messages: list[str]) -> float | None:
+    lo, hi = TISSUE_PO2_LIMITS_MMHG
+    try:
+        tissue = float(raw)
+    except ValueError:
+        tissue = float("nan")
+    if lo <= tissue <= hi:
+        return tissue
+    messages.append(
+        f"Tissue PO2 = {raw!r} is outside the allowed range {lo:g}–{hi:g} "
+        f"mmHg; the default {DEFAULT_TISSUE_PO2_MMHG:g} mmHg is used"
+    )
+    return None
+
+
+def _factor_updates(pairs: dict[str, str], messages: list[str]) -> dict:
+    key = pairs["factor"]
+    if key not in FACTORS:
+        messages.append(f"factor = {key!r} is not one of {', '.join(FACTORS)}; the lesson is shown")
+        return {}
+    f = FACTORS[key]
+    updates: dict = {"mode": "factor", "factor": key, "factor_value": f.reference}
+    if key in pairs:
+        value, why = f.parse(pairs[key])
+        if value is None:
+            messages.append(why)
+        else:
+            updates["factor_value"] = value
+    if "tissue_po2_mmhg" in pairs:
+        tissue = _tissue(pairs["tissue_po2_mmhg"], messages)
+        if tissue is not None:
+            updates["tissue_po2_mmhg"] = tissue
+    return updates
+
+
+def _lesson_updates(
+    pairs: dict[str, str], lessons: dict[str, Lesson], current: str | None, messages: list[str]
+) -> dict:
+    updates: dict = {}
+    key = pairs.get("lesson")
+    if key is not None and key not in lessons:
+        known = ", ".join(lessons) or "none"
+        messages.append(f"lesson = {key!r} not found (lessons: {known}); the first is shown")
+        key = None
+    if key is not None:
+        updates.update(mode="lesson", lesson=key)
+    lesson = lessons.get(updates.get("lesson", current))
+    raw = pairs.get("step")
+    if raw is not None and lesson is not None:
+        n = len(lesson.steps)
+        if raw.isdigit() and 1 <= int(raw) <= n:
+            updates["step"] = int(raw)
+        else:
+            messages.append(f"step = {raw!r} is outside the allowed range 1–{n}; step 1 is shown")
+            updates["step"] = 1
+    return updates
+
+
+def query_updates(state: LectureState, pairs: dict[str, str]) -> tuple[dict, list[str]]:
+    """(parameter updates for ``state``, a message for each value not used) from ``pairs``."""
+    messages: list[str] = []
+    updates: dict = {}
+    unit = pairs.get("pressure_unit")
+    if unit is not None:
+        if unit in PRESSURE_UNITS:
+            updates["pressure_unit"] = unit
+        else:
+            messages.append(f"pressure_unit = {unit!r} is not one of mmHg, kPa; mmHg is used")
+    if "factor" in pairs:
+        updates.update(_factor_updates(pairs, messages))
+    if updates.get("mode") != "factor":
+        updates.update(_lesson_updates(pairs, state.lessons, state.lesson, messages))
+    for key in pairs:
+        if key not in QUERY_KEYS:
+            messages.append(f"{key!r} is not a setting of the lecture page; ignored")
+    return updates, messages
