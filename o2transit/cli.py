@@ -38,6 +38,15 @@ _ROWS = (
 )
 
 
+def printable(text: str) -> str:
+    """``text`` safe for a terminal: control characters (escape sequences among them) shown
+    as ``\\x1b``-style escapes instead of being acted on."""
+    return "".join(
+        c if c.isprintable() or c == " " else c.encode("unicode_escape").decode("ascii")
+        for c in str(text)
+    )
+
+
 def _get(d: dict, dotted: str):
     for part in dotted.split("."):
         d = d[part]
@@ -53,7 +62,7 @@ def evaluation(path) -> dict:
 
 def format_table(record: dict) -> str:
     """The whole chain of one record as a readable text table."""
-    lines = [f"{record['scenario']}  ({record['file']})"]
+    lines = [f"{printable(record['scenario'])}  ({printable(record['file'])})"]
     for label, key, unit, fmt in _ROWS:
         vals = [_get(record, k) for k in (key if isinstance(key, tuple) else (key,))]
         lines.append(f"  {label:<30} {fmt.format(*vals):>16}  {unit}")
@@ -193,7 +202,7 @@ def _evaluate(files: list[str], as_json: bool) -> int:
             records.append(evaluation(f))
         except ScenarioError as exc:
             failed += 1
-            print(f"error: {exc}", file=sys.stderr)
+            print(f"error: {printable(exc)}", file=sys.stderr)
     if as_json:
         print(json.dumps(records, indent=2))
     elif records:
@@ -213,14 +222,15 @@ def _ascent(files: list[str], as_json: bool) -> int:
             results.append(run_ascent(load_ascent(f)).to_dict())
         except AscentError as exc:
             failed += 1
-            print(f"error: {exc}", file=sys.stderr)
+            print(f"error: {printable(exc)}", file=sys.stderr)
         except ValueError as exc:
             failed += 1
-            print(f"error: {f}: the schedule cannot be solved: {exc}", file=sys.stderr)
+            print(f"error: {printable(f)}: the schedule cannot be solved: {exc}", file=sys.stderr)
     if as_json:
         print(json.dumps(results, indent=2))
     elif results:
-        print("\n\n".join(format_ascent(r) for r in results))
+        shown = [{**r, "name": printable(r["name"]), "file": printable(r["file"])} for r in results]
+        print("\n\n".join(format_ascent(r) for r in shown))
         print(f"\n{CAUTION}")
     if failed:
         print(f"{failed} of {len(files)} files failed", file=sys.stderr)

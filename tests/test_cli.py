@@ -141,3 +141,11 @@ def test_broken_pipe_is_quiet():
         timeout=120,
     )
     assert "Traceback" not in run.stderr, run.stderr
+
+
+def test_names_with_terminal_escapes_are_shown_not_obeyed(tmp_path, capsys):
+    path = tmp_path / "x.toml"
+    path.write_text('name = "ward\\u001b[2J cleared"\ndescription = "d"\n')
+    assert main(["evaluate", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "\x1b" not in out and "ward\\x1b[2J cleared" in out
