@@ -96,7 +96,7 @@ def blood_co2_content(pco2_mmhg, ph, so2, hb_g_dl, temperature_c=37.0):
 
 
 def _blood_co2_content(pco2, ph, so2, hb, t):
-    # plain arithmetic: the same code serves arrays and the floats of the 0-d chain
+    # plain arithmetic: the same code serves arrays and the floats of one case
     cp = 2.226 * _co2_solubility(t) * pco2 * (1.0 + 10.0 ** (ph - _co2_pk(ph, t)))
     return cp * (1.0 - 0.0289 * hb / ((3.352 - 0.456 * so2) * (8.142 - ph)))
 
@@ -155,30 +155,16 @@ def ph_from_base_excess(base_excess_mmol_l, pco2_mmhg, hb_g_dl, so2=1.0):
     return _ph_from_base_excess(be, pco2, hb, s, np.full(be.shape, 7.4))
 
 
-def _ph_from_base_excess(be, pco2, hb, s, ph):
-    """Newton from the start ``ph`` (arrays). Steps end below 1e-12, where the error left is
-    far below rounding, so a start near the answer saves steps without changing it."""
+def _ph_from_base_excess(be, pco2, hb, s, ph, m=np):
+    """Newton from the start ``ph``; ``m`` numpy for arrays or :mod:`model.floats` for one
+    case of floats. Steps end below 1e-12, where the error left is far below rounding, so a
+    start near the answer saves steps without changing it."""
     z = 1.0 - 0.0143 * hb
     w = 1.63 * hb + 9.5
     for _ in range(40):
-        hco3 = _bicarbonate(ph, pco2)
-        f = z * ((hco3 - 24.26) + w * (ph - 7.4)) - 0.2 * hb * (1.0 - s) - be  # _base_excess
-        step = np.minimum(np.maximum(f / (z * (_LN10 * hco3 + w)), -0.5), 0.5)
+        f = _base_excess(ph, pco2, hb, s) - be
+        step = m.minimum(m.maximum(f / (z * (_LN10 * _bicarbonate(ph, pco2) + w)), -0.5), 0.5)
         ph = ph - step
-        if not (np.abs(step) > 1e-12).any():
-            break
-    return ph
-
-
-def _ph_from_base_excess_scalar(be, pco2, hb, s, ph=7.4):
-    """:func:`_ph_from_base_excess` for floats (same Newton steps, same stopping rule)."""
-    z = 1.0 - 0.0143 * hb
-    w = 1.63 * hb + 9.5
-    for _ in range(40):
-        hco3 = _bicarbonate(ph, pco2)
-        f = z * ((hco3 - 24.26) + w * (ph - 7.4)) - 0.2 * hb * (1.0 - s) - be
-        step = min(max(f / (z * (_LN10 * hco3 + w)), -0.5), 0.5)
-        ph = ph - step
-        if not abs(step) > 1e-12:
+        if not m.any(abs(step) > 1e-12):
             break
     return ph

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .units import MMHG_PER_KPA
+
 PRESSURE_MODELS = ("standard", "mountain")
 
 _R0_M = 6356766.0  # Earth radius used by ICAO to convert geometric to geopotential height [m]
@@ -50,8 +52,8 @@ def barometric_pressure(altitude_m, *, model: str = "standard"):
     h = np.asarray(altitude_m, dtype=float)
     if model == "standard":
         geo = _R0_M * h / (_R0_M + h)
-        pa = 101325.0 * (1.0 - 0.0065 * geo / 288.15) ** 5.255876
-        return pa * (760.0 / 101325.0)  # clinical mmHg taken equal to the torr
+        kpa = 101.325 * (1.0 - 0.0065 * geo / 288.15) ** 5.255876
+        return kpa * MMHG_PER_KPA
     if model == "mountain":
         km = h / 1000.0
         return np.exp(6.63268 - 0.1112 * km - 0.00149 * km**2)
@@ -88,7 +90,7 @@ def water_vapour_pressure(temperature_c):
     47.1
     """
     t = np.asarray(temperature_c, dtype=float)
-    return 0.61121 * np.exp(17.502 * t / (240.97 + t)) * (760.0 / 101.325)
+    return 0.61121 * np.exp(17.502 * t / (240.97 + t)) * MMHG_PER_KPA
 
 
 def inspired_po2(fio2, pb_mmhg, temperature_c=37.0):

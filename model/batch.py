@@ -35,24 +35,26 @@ import tempfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
 from .bedside import DERIVED_FIELDS, MEASURED_LIMITS, REQUIRED_MEASURED, derive
 from .caution import CAUTION
-from .units import MMHG_PER_KPA
+from .units import UnitVariant, unit_variants
 
-COLUMN_VARIANTS: dict[str, tuple[str, float, str]] = {
-    "pb_mmhg": ("barometric_pressure_mmhg", 1.0, "mmHg"),
-    "pb_kpa": ("barometric_pressure_mmhg", MMHG_PER_KPA, "kPa"),
-    "pao2_kpa": ("pao2_mmhg", MMHG_PER_KPA, "kPa"),
-    "paco2_kpa": ("paco2_mmhg", MMHG_PER_KPA, "kPa"),
-    "pvo2_kpa": ("pvo2_mmhg", MMHG_PER_KPA, "kPa"),
-    "pvco2_kpa": ("pvco2_mmhg", MMHG_PER_KPA, "kPa"),
-    "hb_g_l": ("hb_g_dl", 0.1, "g/L"),
-    "sao2_percent": ("sao2", 0.01, "%"),
-    "svo2_percent": ("svo2", 0.01, "%"),
-    "fio2_percent": ("fio2", 0.01, "%"),
+COLUMN_VARIANTS: dict[str, UnitVariant] = {
+    # pb_* are the short column names of the barometric pressure
+    "pb_mmhg": UnitVariant("barometric_pressure_mmhg", 1.0, "mmHg"),
+    "pb_kpa": unit_variants("pb_mmhg")["pb_kpa"]._replace(key="barometric_pressure_mmhg"),
+    **unit_variants("pao2_mmhg"),
+    **unit_variants("paco2_mmhg"),
+    **unit_variants("pvo2_mmhg"),
+    **unit_variants("pvco2_mmhg"),
+    **unit_variants("hb_g_dl", ("_g_l",)),
+    **unit_variants("sao2", ("_percent",)),
+    **unit_variants("svo2", ("_percent",)),
+    **unit_variants("fio2", ("_percent",)),
 }
 """Input column -> (measured key, factor to the model's unit, the column's unit)."""
 
@@ -221,13 +223,13 @@ def derive_columns(
         with np.errstate(invalid="ignore"):
             out_of_range = (values < lo) | (values > hi)
         u = f" {unit}" if unit else ""
-        for i in np.flatnonzero(not_number):
+        for i in np.flatnonzero(not_number).tolist():
             errors[i] = _join(
                 errors[i],
                 f"{name} = {cells[i].strip()!r} is not a number ({label}; allowed range "
                 f"{_range_text(key, factor, unit)})",
             )
-        for i in np.flatnonzero(out_of_range):
+        for i in np.flatnonzero(out_of_range).tolist():
             hint = ""
             if unit == "" and hi <= 1.0 and raw[i] > 1.0:
                 hint = f"; give a fraction, or use a {name}_percent column"
@@ -238,7 +240,7 @@ def derive_columns(
             )
         if key in REQUIRED_MEASURED:
             missing = np.isnan(values) & ~not_number
-            for i in np.flatnonzero(missing):
+            for i in np.flatnonzero(missing).tolist():
                 errors[i] = _join(
                     errors[i],
                     f"{name} is missing ({label}, required; allowed range "
@@ -251,10 +253,10 @@ def derive_columns(
         total = np.nan_to_num(measured.get("cohb_fraction", np.zeros(n))) + np.nan_to_num(
             measured.get("methb_fraction", np.zeros(n))
         )
-        for i in np.flatnonzero((total >= 1.0) & ~row_bad):
+        for i in np.flatnonzero((total >= 1.0) & ~row_bad).tolist():
             errors[i] = _join(errors[i], "cohb_fraction + methb_fraction must stay below 1")
         row_bad |= total >= 1.0
-    clean = {k: np.where(row_bad, np.nan, v) for k, v in measured.items()}
+    clean: dict[str, Any] = {k: np.where(row_bad, np.nan, v) for k, v in measured.items()}
     try:
         derived = derive(**clean)
     except ValueError:  # a combination derive refuses that the checks above missed
@@ -268,7 +270,7 @@ def _join(old: str, new: str) -> str:
 
 def _derive_row_by_row(clean: dict[str, np.ndarray], errors: np.ndarray):
     n = len(errors)
-    nan_row = {k: np.nan for k in clean}
+    nan_row: dict[str, Any] = dict.fromkeys(clean, np.nan)
     parts = []
     for i in range(n):
         row = {k: v[i] for k, v in clean.items()}

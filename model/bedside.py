@@ -51,6 +51,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import SupportsFloat, SupportsIndex
 
 import numpy as np
 
@@ -217,6 +219,10 @@ TEMPERATURE_STRATEGIES = {
 """What each temperature strategy means for the displayed PO2, PCO2 and pH."""
 
 _PCO2_TEMP_LOG10_PER_C = 0.019
+_DYSHAEMOGLOBIN_MESSAGE = (
+    "cohb_fraction + methb_fraction must stay below 1 (COHb and MetHb fractions of total "
+    "haemoglobin)"
+)
 _PH_TEMP_PER_C = -0.0147
 
 
@@ -224,6 +230,16 @@ def _out_of_range_message(name: str, value: float) -> str:
     lo, hi, unit, label = MEASURED_LIMITS[name]
     u = f" {unit}" if unit else ""
     return f"{name} = {value:g}{u} is outside the allowed range {lo:g}-{hi:g}{u} ({label})"
+
+
+def _not_a_number(name: str, raw: object) -> ValueError:
+    lo, hi, unit, label = MEASURED_LIMITS[name]
+    u = f" {unit}" if unit else ""
+    return ValueError(f"{name} = {raw!r} is not a number ({label}; allowed range {lo:g}-{hi:g}{u})")
+
+
+_FLOAT_LIKE = (str, bytes, bytearray, SupportsFloat, SupportsIndex)
+"""What ``float()`` may read."""
 
 
 def _missing_message(name: str) -> str:
@@ -274,19 +290,13 @@ def check_measured(mapping: Mapping[str, object]) -> dict[str, float | None]:
         raw = mapping.get(name)
         if raw is None or (isinstance(raw, str) and not raw.strip()):
             value = None
-        elif isinstance(raw, bool):
-            u = f" {unit}" if unit else ""
-            raise ValueError(
-                f"{name} = {raw!r} is not a number ({label}; allowed range {lo:g}-{hi:g}{u})"
-            )
+        elif isinstance(raw, bool) or not isinstance(raw, _FLOAT_LIKE):
+            raise _not_a_number(name, raw)
         else:
             try:
                 value = float(raw)
             except (TypeError, ValueError):
-                u = f" {unit}" if unit else ""
-                raise ValueError(
-                    f"{name} = {raw!r} is not a number ({label}; allowed range {lo:g}-{hi:g}{u})"
-                ) from None
+                raise _not_a_number(name, raw) from None
             if math.isnan(value):
                 value = None
         if value is None:
@@ -296,10 +306,7 @@ def check_measured(mapping: Mapping[str, object]) -> dict[str, float | None]:
             raise ValueError(_out_of_range_message(name, value))
         out[name] = value
     if (out["cohb_fraction"] or 0.0) + (out["methb_fraction"] or 0.0) >= 1.0:
-        raise ValueError(
-            "cohb_fraction + methb_fraction must stay below 1 (COHb and MetHb "
-            "fractions of total haemoglobin)"
-        )
+        raise ValueError(_DYSHAEMOGLOBIN_MESSAGE)
     return out
 
 
@@ -465,12 +472,275 @@ class _Messages:
         return strings[inverse.ravel()]
 
 
-def _append(messages: _Messages, mask, message: str) -> None:
-    messages.add(mask, message)
-
-
 def _given(x):
     return np.isfinite(x)
+
+
+@dataclass
+class _Work:
+    """One :func:`derive` call in progress: the measured values as flat arrays (NaN where
+    not given), the messages gathered so far and the outputs made so far."""
+
+    m: dict[str, np.ndarray]
+    cohb: np.ndarray
+    """COHb fraction, 0 where not given [-]."""
+    methb: np.ndarray
+    """MetHb fraction, 0 where not given [-]."""
+    notes: _Messages
+    reasons: _Messages
+    out: dict[str, np.ndarray] = field(default_factory=dict)
+
+
+def _measured(given: dict) -> tuple[_Work, tuple[int, ...]]:
+    """The measured values broadcast and flattened, checked against ``MEASURED_LIMITS``
+    (ValueError naming field, value, range and unit); and the broadcast shape."""
+    arrays = {k: np.asarray(np.nan if v is None else v, dtype=float) for k, v in given.items()}
+    shape = np.broadcast_shapes(*(a.shape for a in arrays.values()))
+    m = {k: np.broadcast_to(a, shape).ravel() for k, a in arrays.items()}
+    for name, v in m.items():
+        lo, hi, _, _ = MEASURED_LIMITS[name]
+        bad = (v < lo) | (v > hi)
+        if bad.any():
+            raise ValueError(_out_of_range_message(name, float(v[bad][0])))
+    cohb = np.where(_given(m["cohb_fraction"]), m["cohb_fraction"], 0.0)
+    methb = np.where(_given(m["methb_fraction"]), m["methb_fraction"], 0.0)
+    if np.any(cohb + methb >= 1.0):
+        raise ValueError(_DYSHAEMOGLOBIN_MESSAGE)
+    n = cohb.size
+    return _Work(m, cohb, methb, _Messages(n), _Messages(n)), shape
+
+
+def _barometric_pressure(w: _Work) -> None:
+    """PB: measured, else the ICAO standard atmosphere at the altitude, else 760 (noted)."""
+    m = w.m
+    pb_given, alt_given = _given(m["barometric_pressure_mmhg"]), _given(m["altitude_m"])
+    pb_alt = barometric_pressure(np.where(alt_given, m["altitude_m"], 0.0))
+    pb = np.where(
+        pb_given, m["barometric_pressure_mmhg"], np.where(alt_given, pb_alt, DEFAULT_PB_MMHG)
+    )
+    w.notes.add(
+        ~pb_given & ~alt_given,
+        f"barometric pressure not given: {DEFAULT_PB_MMHG:g} mmHg assumed",
+    )
+    w.notes.add(
+        ~pb_given & alt_given, "barometric pressure from altitude (ICAO standard atmosphere)"
+    )
+    w.out["barometric_pressure_used_mmhg"] = pb
+
+
+def _alveolar_gas(w: _Work, rq: float, aa_expected_model: str) -> None:
+    """PAO2 by the alveolar gas equation at 37 degC (NaN where <= 0, with the reason), the
+    A-a gradient and its age-expected value."""
+    m, out = w.m, w.out
+    pa_o2 = alveolar_po2(
+        fio2=m["fio2"],
+        pb_mmhg=out["barometric_pressure_used_mmhg"],
+        paco2_mmhg=m["paco2_mmhg"],
+        rq=rq,
+        temperature_c=37.0,
+    )
+    pa_bad = pa_o2 <= 0
+    w.reasons.add(pa_bad, "PAO2 <= 0: FiO2 and PB cannot hold this PaCO2")
+    pa_o2 = np.where(pa_bad, np.nan, pa_o2)
+    out["alveolar_po2_mmhg"] = pa_o2
+    out["aa_gradient_mmhg"] = aa_gradient(pa_o2, m["pao2_mmhg"])
+    out["aa_gradient_expected_mmhg"] = expected_aa_gradient(m["age_years"], model=aa_expected_model)
+
+
+def _oxygenation_ratios(w: _Work) -> None:
+    """P/F (plain and x PB/760), S/F, their ARDS categories and the oxygenation index."""
+    m, out = w.m, w.out
+    pao2, sa, fio2 = m["pao2_mmhg"], m["sao2"], m["fio2"]
+    pb = out["barometric_pressure_used_mmhg"]
+    pf = pao2 / fio2
+    pf_corr = pf * pb / 760.0
+    use_corr = pb < float(barometric_pressure(PB_CORRECTION_ALTITUDE_M))
+    pf_cat_input = np.where(use_corr, pf_corr, pf)
+    w.notes.add(
+        use_corr & np.isfinite(pf),
+        "P/F category from P/F x PB/760 (above 1000 m: Berlin definition)",
+    )
+    out["pao2_fio2_ratio"] = pf
+    out["pao2_fio2_ratio_pb_corrected"] = pf_corr
+    out["pf_category_berlin"] = _category(pf_cat_input, (300.0, 200.0, 100.0))
+    out["pf_category_global2024"] = _category(pf_cat_input, (300.0, 200.0, 100.0))
+    sf = np.where(sa <= 0.97, 100.0 * sa / fio2, np.nan)
+    out["sao2_fio2_ratio"] = sf
+    out["sf_category_global2024"] = _category(sf, (315.0, 235.0, 148.0))
+    out["oxygenation_index"] = fio2 * m["mean_airway_pressure_cmh2o"] * 100.0 / pao2
+
+
+def _venous_point(w: _Work, venous_kw: dict) -> tuple[np.ndarray, np.ndarray]:
+    """SvO2 and PvO2, the missing one of the two from the standard curve (noted)."""
+    m = w.m
+    sv_given, pv_given = _given(m["svo2"]), _given(m["pvo2_mmhg"])
+    sv, pv = m["svo2"], m["pvo2_mmhg"]
+    if np.any(sv_given & ~pv_given):
+        pv = np.where(
+            pv_given,
+            pv,
+            po2_from_saturation(np.where(sv_given, np.minimum(sv, 0.999), np.nan), **venous_kw),
+        )
+        w.notes.add(
+            sv_given & ~pv_given,
+            "PvO2 not given: taken from SvO2 by the standard curve (dissolved O2 only)",
+        )
+    if np.any(pv_given & ~sv_given):
+        sv = np.where(sv_given, sv, saturation(np.where(pv_given, pv, np.nan), **venous_kw))
+        w.notes.add(
+            pv_given & ~sv_given,
+            "SvO2 not given: taken from PvO2 by the standard curve at the arterial pH",
+        )
+    return sv, pv
+
+
+def _contents_and_shunt(w: _Work, capillary_saturation: str) -> np.ndarray:
+    """CaO2, CcO2, CvO2 and Berggren's shunt fraction (NaN with the reason where the venous
+    sample cannot be right). Returns where the venous content is not below the arterial."""
+    m, out = w.m, w.out
+    pao2, paco2, sa, hb = m["pao2_mmhg"], m["paco2_mmhg"], m["sao2"], m["hb_g_dl"]
+    dyshb = {"cohb_fraction": w.cohb, "methb_fraction": w.methb}
+    curve_kw = {"ph": m["ph"], "pco2_mmhg": paco2, "temperature_c": 37.0, **dyshb}
+    pa_o2 = out["alveolar_po2_mmhg"]
+    out["sao2_from_curve"] = saturation(pao2, **curve_kw)
+    cao2 = oxygen_content(hb, sa, pao2, **dyshb)
+    full = np.ones(pao2.size)
+    sc = saturation(pa_o2, **curve_kw) if capillary_saturation == "curve" else full
+    cco2 = oxygen_content(hb, sc, pa_o2, **dyshb)
+    pvco2 = np.where(_given(m["pvco2_mmhg"]), m["pvco2_mmhg"], paco2)
+    sv, pv = _venous_point(w, {**curve_kw, "pco2_mmhg": pvco2})
+    cvo2 = oxygen_content(hb, sv, pv, **dyshb)
+    out["cao2_ml_dl"], out["cco2_ml_dl"], out["cvo2_ml_dl"] = cao2, cco2, cvo2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        shunt = (cco2 - cao2) / (cco2 - cvo2)
+    venous_high = np.isfinite(cvo2) & (cvo2 >= cao2)
+    w.reasons.add(
+        venous_high,
+        "CvO2 >= CaO2: the venous sample holds as much O2 as the arterial one (sample "
+        "mix-up or arterialised venous sample?); shunt, VO2 and extraction not computed",
+    )
+    no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2) & ~venous_high
+    w.reasons.add(no_gap, "shunt: CcO2 <= CvO2 (the venous sample cannot be right)")
+    shunt = np.where(no_gap | venous_high, np.nan, shunt)
+    w.reasons.add(
+        np.isfinite(shunt) & (shunt < 0),
+        "shunt < 0: SaO2 is above the curve's end-capillary saturation (patient's curve "
+        "left of the standard one, or a measurement error)",
+    )
+    out["shunt_fraction"] = shunt
+    return venous_high
+
+
+def _flow_and_uptake(w: _Work, venous_high: np.ndarray) -> None:
+    """Cardiac output (measured, else index x BSA), DO2, DO2I, Fick VO2, O2ER, PCO2 gap."""
+    m, out = w.m, w.out
+    bsa = body_surface_area(m["height_cm"], m["weight_kg"])
+    co_given, ci_given = _given(m["cardiac_output_l_min"]), _given(m["cardiac_index_l_min_m2"])
+    co = np.where(co_given, m["cardiac_output_l_min"], m["cardiac_index_l_min_m2"] * bsa)
+    w.notes.add(
+        ~co_given & ci_given & np.isfinite(bsa),
+        "cardiac output from cardiac index x BSA (Mosteller)",
+    )
+    w.notes.add(
+        ~co_given & ci_given & ~np.isfinite(bsa),
+        "cardiac index without height and weight: DO2I only, no DO2",
+    )
+    ci = np.where(ci_given & ~(co_given & np.isfinite(bsa)), m["cardiac_index_l_min_m2"], co / bsa)
+    w.notes.add(
+        co_given & ci_given,
+        "cardiac output and cardiac index both given: cardiac output used",
+    )
+    cao2, cvo2 = out["cao2_ml_dl"], out["cvo2_ml_dl"]
+    out["bsa_m2"], out["cardiac_output_used_l_min"] = bsa, co
+    out["cardiac_index_used_l_min_m2"] = ci
+    out["do2_ml_min"] = oxygen_delivery(co, cao2)
+    out["do2i_ml_min_m2"] = oxygen_delivery(ci, cao2)
+    av_diff = np.where(venous_high, np.nan, cao2 - cvo2)
+    out["vo2_ml_min"] = 10.0 * co * av_diff
+    out["vo2i_ml_min_m2"] = 10.0 * ci * av_diff
+    out["extraction_ratio"] = extraction_ratio(cao2, cao2 - av_diff)
+    out["pco2_gap_mmhg"] = m["pvco2_mmhg"] - m["paco2_mmhg"]
+
+
+def _p50(w: _Work, hill_n: float) -> _Messages:
+    """In-situ P50 by the single-point Hill method and the standard P50; returns why each
+    element was refused (outside ``SINGLE_POINT_SO2_RANGE``, or COHb above 0.10)."""
+    m, out = w.m, w.out
+    pao2, sa = m["pao2_mmhg"], m["sao2"]
+    lo_s, hi_s = SINGLE_POINT_SO2_RANGE
+    p50_reason = _Messages(pao2.size)
+    p50_reason.add(
+        sa > hi_s,
+        f"SaO2 above {hi_s:g}: the single-point method is unreliable near full saturation",
+    )
+    p50_reason.add(
+        sa < lo_s,
+        f"SaO2 below {lo_s:g}: outside the single-point method's validated range",
+    )
+    p50_reason.add(w.cohb > 0.10, "COHb above 0.10: the curve is no longer Hill-shaped")
+    refused = p50_reason.mask()
+    p50_insitu = np.where(refused, np.nan, single_point_p50(pao2, sa, hill_n=hill_n))
+    factor = p50(ph=m["ph"], pco2_mmhg=m["paco2_mmhg"], temperature_c=37.0) / p50()
+    out["p50_insitu_mmhg"] = p50_insitu
+    out["p50_standard_mmhg"] = p50_insitu / factor
+    w.reasons.add(refused & np.isfinite(pao2), "P50 refused (see p50_insitu_reason)")
+    return p50_reason
+
+
+def _temperature_frames(w: _Work) -> None:
+    """The gases as measured at 37 degC (alpha-stat) and at the patient's (pH-stat)."""
+    m, out = w.m, w.out
+    t = m["temperature_c"]
+    out["alpha_stat_pao2_mmhg"] = m["pao2_mmhg"].copy()
+    out["alpha_stat_paco2_mmhg"] = m["paco2_mmhg"].copy()
+    out["alpha_stat_ph"] = m["ph"].copy()
+    out["ph_stat_pao2_mmhg"] = temperature_corrected_po2(m["pao2_mmhg"], t)
+    out["ph_stat_paco2_mmhg"] = temperature_corrected_pco2(m["paco2_mmhg"], t)
+    out["ph_stat_ph"] = temperature_corrected_ph(m["ph"], t)
+
+
+def _flags(w: _Work) -> _Messages:
+    """Values outside ``USUAL_RANGES``, P/F in the ARDS range, and A-a gradient checks."""
+    m, out = w.m, w.out
+    flags = _Messages(m["pao2_mmhg"].size)
+    for key, (low, high, label, _source) in USUAL_RANGES.items():
+        v = (
+            out["cardiac_index_used_l_min_m2"]
+            if key == "cardiac_index_l_min_m2"
+            else (m[key] if key in m else out[key])
+        )
+        if low is not None:
+            flags.add(v < low, f"{label} below {low:g}")
+        if high is not None:
+            flags.add(v > high, f"{label} above {high:g}")
+    flags.add(
+        np.isin(out["pf_category_berlin"], PF_CATEGORIES[1:]),
+        "P/F in the ARDS oxygenation range (<= 300 by Berlin 2012)",
+    )
+    flags.add(
+        out["aa_gradient_mmhg"] < 0,
+        "A-a gradient negative: PaO2 above the alveolar PO2 (check FiO2 and barometric "
+        "pressure; an air bubble in the sample raises PaO2 toward room air)",
+    )
+    flags.add(
+        out["aa_gradient_mmhg"] > out["aa_gradient_expected_mmhg"],
+        "A-a gradient above the age-expected value (room-air norm)",
+    )
+    return flags
+
+
+def _finish(w: _Work, shape, p50_reason: _Messages, flags: _Messages) -> dict[str, np.ndarray]:
+    """Outputs in the input shape, blank (NaN or "") wherever a required input is missing."""
+    complete = np.all([np.isfinite(w.m[k]) for k in REQUIRED_MEASURED], axis=0)
+    result = {
+        k: np.reshape(np.where(complete, v, "" if v.dtype == object else np.nan), shape)
+        for k, v in w.out.items()
+    }
+    result["notes"] = w.notes.text(complete).reshape(shape)
+    result["reasons"] = w.reasons.text(complete).reshape(shape)
+    result["p50_insitu_reason"] = p50_reason.text(complete).reshape(shape)
+    result["flags"] = flags.text(complete).reshape(shape)
+    return result
 
 
 def derive(
@@ -580,251 +850,19 @@ def derive(
     >>> str(d["notes"])
     'barometric pressure not given: 760 mmHg assumed'
     """
+    arguments = dict(locals())
     if capillary_saturation not in ("curve", "full"):
         raise ValueError(
             f"capillary_saturation {capillary_saturation!r} is unknown; choose 'curve' or 'full'"
         )
     expected_aa_gradient(0.0, model=aa_expected_model)  # rejects an unknown model early
-    given = {
-        "pao2_mmhg": pao2_mmhg,
-        "paco2_mmhg": paco2_mmhg,
-        "ph": ph,
-        "sao2": sao2,
-        "hb_g_dl": hb_g_dl,
-        "fio2": fio2,
-        "temperature_c": temperature_c,
-        "cohb_fraction": cohb_fraction,
-        "methb_fraction": methb_fraction,
-        "lactate_mmol_l": lactate_mmol_l,
-        "barometric_pressure_mmhg": barometric_pressure_mmhg,
-        "altitude_m": altitude_m,
-        "mean_airway_pressure_cmh2o": mean_airway_pressure_cmh2o,
-        "pvo2_mmhg": pvo2_mmhg,
-        "svo2": svo2,
-        "pvco2_mmhg": pvco2_mmhg,
-        "cardiac_output_l_min": cardiac_output_l_min,
-        "cardiac_index_l_min_m2": cardiac_index_l_min_m2,
-        "height_cm": height_cm,
-        "weight_kg": weight_kg,
-        "age_years": age_years,
-    }
-    arrays = {k: np.asarray(np.nan if v is None else v, dtype=float) for k, v in given.items()}
-    shape = np.broadcast_shapes(*(a.shape for a in arrays.values()))
-    m = {k: np.broadcast_to(a, shape).ravel() for k, a in arrays.items()}
-    for name, v in m.items():
-        lo, hi, _, _ = MEASURED_LIMITS[name]
-        bad = (v < lo) | (v > hi)
-        if bad.any():
-            raise ValueError(_out_of_range_message(name, float(v[bad][0])))
-    cohb = np.where(_given(m["cohb_fraction"]), m["cohb_fraction"], 0.0)
-    methb = np.where(_given(m["methb_fraction"]), m["methb_fraction"], 0.0)
-    if np.any(cohb + methb >= 1.0):
-        raise ValueError(
-            "cohb_fraction + methb_fraction must stay below 1 (COHb and MetHb "
-            "fractions of total haemoglobin)"
-        )
-    n = cohb.size
-    notes, reasons = _Messages(n), _Messages(n)
-    out: dict[str, np.ndarray] = {}
-
-    pao2, paco2, ph_a, sa = m["pao2_mmhg"], m["paco2_mmhg"], m["ph"], m["sao2"]
-    hb, fio2_, t = m["hb_g_dl"], m["fio2"], m["temperature_c"]
-
-    # Barometric pressure
-    pb_given, alt_given = _given(m["barometric_pressure_mmhg"]), _given(m["altitude_m"])
-    pb_alt = barometric_pressure(np.where(alt_given, m["altitude_m"], 0.0))
-    pb = np.where(
-        pb_given, m["barometric_pressure_mmhg"], np.where(alt_given, pb_alt, DEFAULT_PB_MMHG)
-    )
-    _append(
-        notes,
-        ~pb_given & ~alt_given,
-        f"barometric pressure not given: {DEFAULT_PB_MMHG:g} mmHg assumed",
-    )
-    _append(
-        notes, ~pb_given & alt_given, "barometric pressure from altitude (ICAO standard atmosphere)"
-    )
-    out["barometric_pressure_used_mmhg"] = pb
-
-    # Alveolar gas and A-a gradient
-    pa_o2 = alveolar_po2(fio2=fio2_, pb_mmhg=pb, paco2_mmhg=paco2, rq=rq, temperature_c=37.0)
-    pa_bad = pa_o2 <= 0
-    _append(reasons, pa_bad, "PAO2 <= 0: FiO2 and PB cannot hold this PaCO2")
-    pa_o2 = np.where(pa_bad, np.nan, pa_o2)
-    out["alveolar_po2_mmhg"] = pa_o2
-    out["aa_gradient_mmhg"] = aa_gradient(pa_o2, pao2)
-    out["aa_gradient_expected_mmhg"] = expected_aa_gradient(m["age_years"], model=aa_expected_model)
-
-    # P/F, S/F and categories
-    pf = pao2 / fio2_
-    pf_corr = pf * pb / 760.0
-    use_corr = pb < float(barometric_pressure(PB_CORRECTION_ALTITUDE_M))
-    pf_cat_input = np.where(use_corr, pf_corr, pf)
-    _append(
-        notes,
-        use_corr & np.isfinite(pf),
-        "P/F category from P/F x PB/760 (above 1000 m: Berlin definition)",
-    )
-    out["pao2_fio2_ratio"] = pf
-    out["pao2_fio2_ratio_pb_corrected"] = pf_corr
-    out["pf_category_berlin"] = _category(pf_cat_input, (300.0, 200.0, 100.0))
-    out["pf_category_global2024"] = _category(pf_cat_input, (300.0, 200.0, 100.0))
-    sf = np.where(sa <= 0.97, 100.0 * sa / fio2_, np.nan)
-    out["sao2_fio2_ratio"] = sf
-    out["sf_category_global2024"] = _category(sf, (315.0, 235.0, 148.0))
-    out["oxygenation_index"] = fio2_ * m["mean_airway_pressure_cmh2o"] * 100.0 / pao2
-
-    # Contents and shunt
-    curve_kw = {
-        "ph": ph_a,
-        "pco2_mmhg": paco2,
-        "temperature_c": 37.0,
-        "cohb_fraction": cohb,
-        "methb_fraction": methb,
-    }
-    out["sao2_from_curve"] = saturation(pao2, **curve_kw)
-    cao2 = oxygen_content(hb, sa, pao2, cohb_fraction=cohb, methb_fraction=methb)
-    sc = saturation(pa_o2, **curve_kw) if capillary_saturation == "curve" else np.ones(n)
-    cco2 = oxygen_content(hb, sc, pa_o2, cohb_fraction=cohb, methb_fraction=methb)
-    sv_given, pv_given = _given(m["svo2"]), _given(m["pvo2_mmhg"])
-    venous_kw = {**curve_kw, "pco2_mmhg": np.where(_given(m["pvco2_mmhg"]), m["pvco2_mmhg"], paco2)}
-    sv = m["svo2"]
-    pv = m["pvo2_mmhg"]
-    if np.any(sv_given & ~pv_given):
-        pv = np.where(
-            pv_given,
-            pv,
-            po2_from_saturation(np.where(sv_given, np.minimum(sv, 0.999), np.nan), **venous_kw),
-        )
-        _append(
-            notes,
-            sv_given & ~pv_given,
-            "PvO2 not given: taken from SvO2 by the standard curve (dissolved O2 only)",
-        )
-    if np.any(pv_given & ~sv_given):
-        sv = np.where(sv_given, sv, saturation(np.where(pv_given, pv, np.nan), **venous_kw))
-        _append(
-            notes,
-            pv_given & ~sv_given,
-            "SvO2 not given: taken from PvO2 by the standard curve at the arterial pH",
-        )
-    cvo2 = oxygen_content(hb, sv, pv, cohb_fraction=cohb, methb_fraction=methb)
-    out["cao2_ml_dl"], out["cco2_ml_dl"], out["cvo2_ml_dl"] = cao2, cco2, cvo2
-    with np.errstate(divide="ignore", invalid="ignore"):
-        shunt = (cco2 - cao2) / (cco2 - cvo2)
-    venous_high = np.isfinite(cvo2) & (cvo2 >= cao2)
-    _append(
-        reasons,
-        venous_high,
-        "CvO2 >= CaO2: the venous sample holds as much O2 as the arterial one (sample "
-        "mix-up or arterialised venous sample?); shunt, VO2 and extraction not computed",
-    )
-    no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2) & ~venous_high
-    _append(reasons, no_gap, "shunt: CcO2 <= CvO2 (the venous sample cannot be right)")
-    shunt = np.where(no_gap | venous_high, np.nan, shunt)
-    _append(
-        reasons,
-        np.isfinite(shunt) & (shunt < 0),
-        "shunt < 0: SaO2 is above the curve's end-capillary saturation (patient's curve "
-        "left of the standard one, or a measurement error)",
-    )
-    out["shunt_fraction"] = shunt
-
-    # Flow, delivery, consumption
-    bsa = body_surface_area(m["height_cm"], m["weight_kg"])
-    co_given, ci_given = _given(m["cardiac_output_l_min"]), _given(m["cardiac_index_l_min_m2"])
-    co = np.where(co_given, m["cardiac_output_l_min"], m["cardiac_index_l_min_m2"] * bsa)
-    _append(
-        notes,
-        ~co_given & ci_given & np.isfinite(bsa),
-        "cardiac output from cardiac index x BSA (Mosteller)",
-    )
-    _append(
-        notes,
-        ~co_given & ci_given & ~np.isfinite(bsa),
-        "cardiac index without height and weight: DO2I only, no DO2",
-    )
-    ci = np.where(ci_given & ~(co_given & np.isfinite(bsa)), m["cardiac_index_l_min_m2"], co / bsa)
-    _append(
-        notes,
-        co_given & ci_given,
-        "cardiac output and cardiac index both given: cardiac output used",
-    )
-    out["bsa_m2"], out["cardiac_output_used_l_min"] = bsa, co
-    out["cardiac_index_used_l_min_m2"] = ci
-    out["do2_ml_min"] = oxygen_delivery(co, cao2)
-    out["do2i_ml_min_m2"] = oxygen_delivery(ci, cao2)
-    av_diff = np.where(venous_high, np.nan, cao2 - cvo2)
-    out["vo2_ml_min"] = 10.0 * co * av_diff
-    out["vo2i_ml_min_m2"] = 10.0 * ci * av_diff
-    out["extraction_ratio"] = extraction_ratio(cao2, cao2 - av_diff)
-    out["pco2_gap_mmhg"] = m["pvco2_mmhg"] - paco2
-
-    # P50
-    lo_s, hi_s = SINGLE_POINT_SO2_RANGE
-    p50_reason = _Messages(n)
-    _append(
-        p50_reason,
-        sa > hi_s,
-        f"SaO2 above {hi_s:g}: the single-point method is unreliable near full saturation",
-    )
-    _append(
-        p50_reason,
-        sa < lo_s,
-        f"SaO2 below {lo_s:g}: outside the single-point method's validated range",
-    )
-    _append(p50_reason, cohb > 0.10, "COHb above 0.10: the curve is no longer Hill-shaped")
-    refused = p50_reason.mask()
-    p50_insitu = np.where(refused, np.nan, single_point_p50(pao2, sa, hill_n=hill_n))
-    factor = p50(ph=ph_a, pco2_mmhg=paco2, temperature_c=37.0) / p50()
-    out["p50_insitu_mmhg"] = p50_insitu
-    out["p50_standard_mmhg"] = p50_insitu / factor
-    _append(reasons, refused & np.isfinite(pao2), "P50 refused (see p50_insitu_reason)")
-
-    # Temperature block
-    out["alpha_stat_pao2_mmhg"] = pao2.copy()
-    out["alpha_stat_paco2_mmhg"] = paco2.copy()
-    out["alpha_stat_ph"] = ph_a.copy()
-    out["ph_stat_pao2_mmhg"] = temperature_corrected_po2(pao2, t)
-    out["ph_stat_paco2_mmhg"] = temperature_corrected_pco2(paco2, t)
-    out["ph_stat_ph"] = temperature_corrected_ph(ph_a, t)
-
-    # Flags
-    flags = _Messages(n)
-    for key, (low, high, label, _source) in USUAL_RANGES.items():
-        v = (
-            out["cardiac_index_used_l_min_m2"]
-            if key == "cardiac_index_l_min_m2"
-            else (m[key] if key in m else out[key])
-        )
-        if low is not None:
-            _append(flags, v < low, f"{label} below {low:g}")
-        if high is not None:
-            _append(flags, v > high, f"{label} above {high:g}")
-    _append(
-        flags,
-        np.isin(out["pf_category_berlin"], PF_CATEGORIES[1:]),
-        "P/F in the ARDS oxygenation range (<= 300 by Berlin 2012)",
-    )
-    _append(
-        flags,
-        out["aa_gradient_mmhg"] < 0,
-        "A-a gradient negative: PaO2 above the alveolar PO2 (check FiO2 and barometric "
-        "pressure; an air bubble in the sample raises PaO2 toward room air)",
-    )
-    _append(
-        flags,
-        out["aa_gradient_mmhg"] > out["aa_gradient_expected_mmhg"],
-        "A-a gradient above the age-expected value (room-air norm)",
-    )
-
-    complete = np.all([np.isfinite(m[k]) for k in REQUIRED_MEASURED], axis=0)
-    result = {
-        k: np.reshape(np.where(complete, v, "" if v.dtype == object else np.nan), shape)
-        for k, v in out.items()
-    }
-    result["notes"] = notes.text(complete).reshape(shape)
-    result["reasons"] = reasons.text(complete).reshape(shape)
-    result["p50_insitu_reason"] = p50_reason.text(complete).reshape(shape)
-    result["flags"] = flags.text(complete).reshape(shape)
-    return result
+    w, shape = _measured({k: v for k, v in arguments.items() if k in MEASURED_LIMITS})
+    _barometric_pressure(w)
+    _alveolar_gas(w, rq, aa_expected_model)
+    _oxygenation_ratios(w)
+    venous_high = _contents_and_shunt(w, capillary_saturation)
+    _flow_and_uptake(w, venous_high)
+    p50_reason = _p50(w, hill_n)
+    _temperature_frames(w)
+    flags = _flags(w)
+    return _finish(w, shape, p50_reason, flags)

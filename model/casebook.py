@@ -54,7 +54,8 @@ from pathlib import Path
 import tomli_w
 
 from .bedside import check_measured
-from .limits import INPUT_LIMITS, check_range
+from .limits import INPUT_CHOICES, INPUT_LIMITS, check_range
+from .transport import CASE_INPUTS
 
 FORMAT_VERSION = 1
 CASE_DIR_ENV = "O2TRANSIT_CASE_DIR"
@@ -76,7 +77,6 @@ _FILE_HEADER = (
     "# No names or identifiers belong here.\n\n"
 )
 _TMP_SUFFIX = ".tmp"
-_FIT_INPUT_CHOICES = {"curve", "pressure_model", "vo2_temperature_scaling"}
 
 
 class CaseFileError(ValueError):
@@ -211,7 +211,8 @@ def _plain(value, digits: int | None = None):
 def _fit_table(fit) -> dict:
     rows = []
     for r in fit.residuals:
-        row = dataclasses.asdict(r) if dataclasses.is_dataclass(r) else dict(r)
+        is_record = dataclasses.is_dataclass(r) and not isinstance(r, type)
+        row = dataclasses.asdict(r) if is_record else dict(r)
         rows.append(
             {k: row[k] for k in ("quantity", "measured", "model", "difference", "unit") if k in row}
         )
@@ -369,7 +370,7 @@ def _numbers(table: dict, where: Path, name: str, allowed=None) -> dict:
     for key, value in table.items():
         if allowed is not None and key not in allowed:
             raise CaseFileError(f"{where}: [{name}] unknown key {key!r}")
-        if key in _FIT_INPUT_CHOICES and name == "fit.inputs":
+        if key in INPUT_CHOICES and name == "fit.inputs":
             out[key] = value
             continue
         if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -423,7 +424,7 @@ def open_case(path) -> CaseRecord:
         _table(fit, "inputs", p, required=False),
         p,
         "fit.inputs",
-        set(INPUT_LIMITS) | _FIT_INPUT_CHOICES,
+        set(CASE_INPUTS),
     )
     for key, value in fit_inputs.items():
         if key in INPUT_LIMITS:

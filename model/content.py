@@ -56,16 +56,12 @@ def oxygen_content(
     >>> round(float(oxygen_content(15.0, 0.98, 100.0)), 3)
     19.998
     """
-    return _oxygen_content(
-        *(
-            np.asarray(v, dtype=float)
-            for v in (hb_g_dl, so2, po2_mmhg, cohb_fraction, methb_fraction)
-        ),
-        hufner_ml_g,
-        o2_solubility_ml_dl_mmhg,
+    hb, s, p, cohb, methb = (
+        np.asarray(v, dtype=float) for v in (hb_g_dl, so2, po2_mmhg, cohb_fraction, methb_fraction)
     )
+    return _oxygen_content(hb, s, p, cohb, methb, hufner_ml_g, o2_solubility_ml_dl_mmhg)
 
 
 def _oxygen_content(hb, so2, po2, cohb, methb, hufner, solubility):
-    # plain arithmetic: the same code serves arrays and the floats of the 0-d chain
+    # plain arithmetic: the same code serves arrays and the floats of one case
     return hufner * hb * (1.0 - cohb - methb) * so2 + solubility * po2

@@ -47,16 +47,13 @@ import math
 
 import numpy as np
 
-CURVES = (
-    "severinghaus",
-    "severinghaus1979",
-    "dash",
-    "dash2016",
-    "siggaard_andersen1990",
-    "hill",
-    "hill1910",
-)
-_ALIASES = {"severinghaus": "severinghaus1979", "dash": "dash2016", "hill": "hill1910"}
+from .units import MMHG_PER_KPA
+
+CURVE_ALIASES = {"severinghaus": "severinghaus1979", "dash": "dash2016", "hill": "hill1910"}
+"""Short name -> canonical curve name (author and year), for the curves that have one."""
+
+SHORT_NAMES = {canonical: short for short, canonical in CURVE_ALIASES.items()}
+"""Canonical curve name -> its short name: :data:`CURVE_ALIASES` read the other way."""
 
 NORMAL_DPG_MMOL_L = 5.0
 """Normal red-cell 2,3-DPG [mmol/L] (Siggaard-Andersen 1990 reference value)."""
@@ -71,6 +68,12 @@ STANDARD_P50_MMHG = {
     "hill1910": 26.8,
 }
 """Each curve's own P50 at pH 7.40, PCO2 40 mmHg, 37 degC, normal DPG [mmHg]."""
+
+CURVES = tuple(
+    n for canonical in STANDARD_P50_MMHG for n in (SHORT_NAMES.get(canonical), canonical) if n
+)
+"""Every accepted curve name: each canonical name of :data:`STANDARD_P50_MMHG`, after its
+short name where it has one."""
 
 DASH2016 = {
     "alpha": 2.82,
@@ -87,7 +90,6 @@ HILL_N = 2.7
 _SA_DLNP50_DA = 1.121  # p50 = 3.578 kPa exp(1.121 a), [5]
 _DPG_LN_PER_MMOL = 0.06 * _SA_DLNP50_DA  # DPG term of the tanh model's a, [5]
 _METHB_LN = -0.7 * _SA_DLNP50_DA  # MetHb term of the tanh model's a, [6]
-_MMHG_PER_KPA = 760.0 / 101.325
 _LN10 = math.log(10.0)
 _LN7 = math.log(7.0)
 _DASH_K = DASH2016["beta"] * _LN10 / DASH2016["gamma_mmhg"]  # dnH/dp = _DASH_K 10^(-p/gamma)
@@ -105,56 +107,64 @@ _LIMITS = {
 }
 
 
-def _check(name, value):
+def _check(name, value, m=np):
     lo, hi, unit = _LIMITS[name]
     bad = (value < lo) | (value > hi)
-    if bad.any():
-        v = np.asarray(value)[bad].ravel()[0]
+    if m.any(bad):
+        v = np.asarray(value)[np.asarray(bad)].ravel()[0]
         raise ValueError(
             f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g} {unit}".rstrip()
         )
 
 
-def _canonical(curve: str) -> str:
-    name = _ALIASES.get(curve, curve)
-    if name not in STANDARD_P50_MMHG:
-        raise ValueError(f"curve {curve!r} is unknown; choose one of {CURVES}")
-    return name
+def canonical_curve(name: str) -> str:
+    """The canonical name (author and year) of a curve given by either of its names.
+
+    Raises
+    ------
+    ValueError
+        An unknown name; the message lists :data:`CURVES`.
+
+    Examples
+    --------
+    >>> canonical_curve("dash"), canonical_curve("siggaard_andersen1990")
+    ('dash2016', 'siggaard_andersen1990')
+    """
+    canonical = CURVE_ALIASES.get(name, name)
+    if canonical not in STANDARD_P50_MMHG:
+        raise ValueError(f"curve {name!r} is unknown; choose one of {CURVES}")
+    return canonical
 
 
 def _conditions(
-    ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+    ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve, m=np
 ):
-    name = _canonical(curve)
+    """Canonical name and validated conditions (keys of :data:`_CONDITION_KEYS`).
+
+    ``m`` is numpy for arrays or :mod:`model.floats` for one case of floats.
+    """
+    name = canonical_curve(curve)
     dpg = NORMAL_DPG_MMOL_L if dpg_mmol_l is None else dpg_mmol_l
     p50_std = STANDARD_P50_MMHG[name] if p50_mmhg is None else p50_mmhg
     vals = [
-        np.asarray(v, dtype=float)
+        m.asarray(v, dtype=float)
         for v in (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)
     ]
-    for key, v in zip(
-        (
-            "ph",
-            "pco2_mmhg",
-            "temperature_c",
-            "dpg_mmol_l",
-            "cohb_fraction",
-            "methb_fraction",
-            "p50_mmhg",
-        ),
-        vals,
-    ):
-        _check(key, v)
-    if np.any(vals[4] + vals[5] >= 1.0):
+    for key, v in zip(_LIMITS, vals):
+        _check(key, v, m)
+    if m.any(vals[4] + vals[5] >= 1.0):
         raise ValueError("cohb_fraction + methb_fraction must stay below 1")
-    keys = ("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std")
-    return name, dict(zip(keys, vals))
+    return name, dict(zip(_CONDITION_KEYS, vals))
+
+
+_CONDITION_KEYS = ("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std")
+"""Short names of the conditions inside this module, in the order of :data:`_LIMITS`."""
 
 
 def _ln_shift(name, c, m=np):
     """ln of the factor by which the curve's P50 moves away from its standard value.
 
-    ``m`` is numpy for arrays or :mod:`math` for the floats of :class:`ScalarCurve`.
+    ``m`` is numpy for arrays or :mod:`model.floats` for one case of floats.
     """
     fmet = _METHB_LN * c["fmet"]
     override = m.log(c["p50std"] / STANDARD_P50_MMHG[name])
@@ -187,7 +197,7 @@ def _dash_p50(c):
 def _sa_a_b(c, m=np):
     a = (
         -0.88 * (c["ph"] - 7.40)
-        + 0.048 * m.log(c["pco2"] / _MMHG_PER_KPA / 5.33)
+        + 0.048 * m.log(c["pco2"] / MMHG_PER_KPA / 5.33)
         - 0.7 * c["fmet"]
         + 0.06 * (c["dpg"] - NORMAL_DPG_MMOL_L)
     )
@@ -195,17 +205,9 @@ def _sa_a_b(c, m=np):
     return a, b
 
 
-def _clip(x, lo, hi):
-    if isinstance(x, float):
-        return min(max(x, lo), hi)
-    return np.minimum(np.maximum(x, lo), hi)
-
-
-def _converged(step, tol):
+def _converged(step, tol, m):
     """True when no step is above tol (NaN counts as converged)."""
-    if isinstance(step, float):
-        return not abs(step) > tol
-    return not (np.abs(step) > tol).any()
+    return not m.any(abs(step) > tol)
 
 
 def _constants(name, c, shift, m):
@@ -220,7 +222,8 @@ def _constants(name, c, shift, m):
 
 
 def _total_formula(name, p, k, m):
-    """Total-ligand saturation at p [mmHg]; ``k`` from :func:`_constants`, ``m`` numpy or math."""
+    """Total-ligand saturation at p [mmHg]; ``k`` from :func:`_constants`, ``m`` numpy or
+    :mod:`model.floats`."""
     if name == "severinghaus1979":
         x = p * k["e"]
         cubic = x * (x * x + 150.0)
@@ -233,7 +236,7 @@ def _total_formula(name, p, k, m):
         nh = DASH2016["alpha"] - DASH2016["beta"] * 10.0 ** (-p / DASH2016["gamma_mmhg"])
         xn = (p / k["p50"]) ** nh
         return xn / (1.0 + xn)
-    x = m.log(p / _MMHG_PER_KPA) - k["shift"]
+    x = m.log(p / MMHG_PER_KPA) - k["shift"]
     x0 = k["x0"]
     y = 1.8747 + (x - x0) + k["h"] * m.tanh(0.5343 * (x - x0))
     return 1.0 / (1.0 + m.exp(-y))
@@ -252,14 +255,14 @@ def _total_slope(name, p, s, k, m):
         decay = 10.0 ** (-p / DASH2016["gamma_mmhg"])
         nh = DASH2016["alpha"] - DASH2016["beta"] * decay
         return s * (1.0 - s) * (nh / p + _DASH_K * decay * (m.log(p) - k["lp50"]))
-    th = m.tanh(0.5343 * (m.log(p / _MMHG_PER_KPA) - k["shift"] - k["x0"]))
+    th = m.tanh(0.5343 * (m.log(p / MMHG_PER_KPA) - k["shift"] - k["x0"]))
     return s * (1.0 - s) * (1.0 + k["h"] * 0.5343 * (1.0 - th * th)) / p
 
 
-def _total_inverse(name, s, c, shift):
-    """Pressure [mmHg] at which the curve's total-ligand saturation equals s."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        return _inverse_formula(name, s, c, shift, np)
+def _total_inverse(name, s, c, shift, m=np):
+    """Pressure [mmHg] at which the curve's total-ligand saturation equals s (0 < s < 1)."""
+    with m.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        return _inverse_formula(name, s, c, shift, m)
 
 
 def _inverse_formula(name, s, c, shift, m):
@@ -283,9 +286,9 @@ def _inverse_formula(name, s, c, shift, m):
             f = u + h * th - (y - 1.8747)
             du = f / (1.0 + h * 0.5343 * (1.0 - th**2))
             u = u - du
-            if _converged(du, 1e-13):
+            if _converged(du, 1e-13, m):
                 break
-        return m.exp(u + x0 + shift) * _MMHG_PER_KPA
+        return m.exp(u + x0 + shift) * MMHG_PER_KPA
     # dash2016: Newton in ln p on y(ln p) = nH(p) (ln p - ln p50)
     p50 = DASH2016["p50_mmhg"] * m.exp(shift)
     lp50 = m.log(p50)
@@ -296,9 +299,9 @@ def _inverse_formula(name, s, c, shift, m):
         nh = DASH2016["alpha"] - DASH2016["beta"] * decay
         f = nh * (lp - lp50) - y
         df = nh + _DASH_K * decay * p * (lp - lp50)
-        step = _clip(f / df, -2.0, 2.0)
+        step = m.clip(f / df, -2.0, 2.0)
         lp = lp - step
-        if _converged(step, 1e-13):
+        if _converged(step, 1e-13, m):
             break
     return m.exp(lp)
 
@@ -382,194 +385,107 @@ def saturation(
 class PreparedCurve:
     """A curve with its conditions validated once, for inner loops of the chain.
 
-    Use :func:`prepare_curve`; evaluation skips validation and broadcasting checks.
+    Use :func:`prepare_curve`; evaluation skips validation and broadcasting checks. ``m``
+    is numpy for arrays or :mod:`model.floats` for one case of floats (the same equations
+    and Newton steps either way).
     """
 
-    def __init__(self, name, c):
-        self.name, self.c = name, c
-        self.shift = _ln_shift(name, c)
-        self.k = _constants(name, c, self.shift, np)
+    def __init__(self, name, c, m=np):
+        self.name, self.c, self.m = name, c, m
+        self.shift = _ln_shift(name, c, m)
+        self.k = _constants(name, c, self.shift, m)
         self.sco = c["fco"] / (1.0 - c["fmet"])
-        self.has_co = bool(np.any(self.sco > 0))
+        self.has_co = bool(m.any(self.sco > 0))
+        self._last = None  # (PO2, total saturation) of the last CO solve
 
     def saturation(self, p):
         """Functional saturation at p [mmHg] (see :func:`saturation`)."""
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        with self.m.errstate(divide="ignore", invalid="ignore", over="ignore"):
             return self._saturation(p)
 
     def _saturation(self, p):
-        # callers hold np.errstate(divide, invalid, over = "ignore")
-        name, k, sco = self.name, self.k, self.sco
+        # callers hold errstate(divide, invalid, over = "ignore")
+        name, k, sco, m = self.name, self.k, self.sco, self.m
         if not self.has_co:
-            return _total_formula(name, p, k, np)
+            return _total_formula(name, p, k, m)
         # Haldane: total saturation u solves F(u) = u - S(PO2 u / (u - sCO)) = 0 on (sCO, 1];
         # F rises with u, so Newton is kept inside a bisection bracket.
-        p = np.asarray(p, dtype=float)
-        lo, hi = sco * np.ones_like(p), np.ones_like(p * sco)
-        u = sco + (1.0 - sco) * _total_formula(name, p, k, np)
-        u = np.where((u > lo) & (u < hi), u, 0.5 * (lo + hi))
-        skip = np.isnan(p) | (p <= 0) | (sco <= 0)
+        p = m.asarray(p, dtype=float)
+        lo, hi = sco * m.ones_like(p), m.ones_like(p * sco)
+        last = self._last
+        if last is not None and (m is not np or last[0].shape == p.shape):
+            # inner loops ask at nearby pressures: start there (Newton ends at the same root)
+            near = abs(p - last[0]) <= 0.25 * p
+            if m.all(near):
+                u = last[1]
+            else:
+                u = m.where(near, last[1], sco + (1.0 - sco) * _total_formula(name, p, k, m))
+        else:
+            u = sco + (1.0 - sco) * _total_formula(name, p, k, m)
+        u = m.where((u > lo) & (u < hi), u, 0.5 * (lo + hi))
+        moves = m.where(m.isnan(p) | (p <= 0) | (sco <= 0), 0.0, 1.0)  # 0: answered below
         for _ in range(_HALDANE_ITERATIONS):
             d = u - sco
             q = p * u / d
-            t = _total_formula(name, q, k, np)
+            t = _total_formula(name, q, k, m)
             f = u - t
-            hi = np.where(f > 0, u, hi)
-            lo = np.where(f > 0, lo, u)
+            above = f > 0
+            hi = m.where(above, u, hi)
+            lo = m.where(above, lo, u)
             # (p / d) (sCO / d), not p sCO / d^2: d^2 underflows to 0 when PO2 and sCO are tiny
-            df = 1.0 + _total_slope(name, q, t, k, np) * (p / d) * (sco / d)
-            new = np.where(f == 0, u, u - f / df)
-            out = (new < lo) | (new > hi) | ~np.isfinite(new)
-            new = np.where(out, 0.5 * (lo + hi), new)
-            step = np.where(skip, 0.0, new - u)
+            # df >= 1 wherever the case moves (the curve rises), so f = 0 gives new = u
+            df = 1.0 + _total_slope(name, q, t, k, m) * (p / d) * (sco / d)
+            new = u - f / df
+            inside = (new >= lo) & (new <= hi)  # False for NaN too
+            new = m.where(inside, new, 0.5 * (lo + hi))
+            step = (new - u) * moves  # NaN where not moving counts as converged too
             u = new
-            if _converged(step, _HALDANE_TOL):
+            if not m.any(abs(step) > _HALDANE_TOL):
                 break
-        so2 = np.where(sco > 0, (u - sco) / (1.0 - sco), _total_formula(name, p, k, np))
-        so2 = np.where(p <= 0, 0.0, so2)
-        return np.where(np.isnan(p), np.nan, so2)
+        self._last = (p, u)
+        so2 = (u - sco) / (1.0 - sco)
+        if not m.all(sco > 0):
+            so2 = m.where(sco > 0, so2, _total_formula(name, p, k, m))
+        if m.any((p <= 0) | m.isnan(p)):
+            so2 = m.where(p <= 0, 0.0, m.where(m.isnan(p), m.nan, so2))
+        return so2
 
     def slope(self, p):
         """dS/dPO2 by a central difference [1/mmHg]."""
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        with self.m.errstate(divide="ignore", invalid="ignore", over="ignore"):
             return self._slope(p)
 
     def _slope(self, p):
-        # callers hold np.errstate(divide, invalid, over = "ignore")
-        h = np.maximum(1e-4 * p, 1e-6)
-        lo = np.maximum(p - h, 0.0)
+        # callers hold errstate(divide, invalid, over = "ignore")
+        m = self.m
+        h = m.maximum(1e-4 * p, 1e-6)
+        lo = m.maximum(p - h, 0.0)
         return (self._saturation(p + h) - self._saturation(lo)) / (p + h - lo)
 
     def inverse(self, s):
         """PO2 [mmHg] at functional saturation s (exact inverse of :meth:`saturation`)."""
-        sco = self.sco
+        m, sco = self.m, self.sco
+        ends = (s == 0) | (s == 1)
+        inner = m.where(ends, 0.5, s)  # the formulas divide by s and 1 - s
         if self.has_co:
-            total = s * (1.0 - sco) + sco
-            p_eq = _total_inverse(self.name, total, self.c, self.shift)
-            with np.errstate(invalid="ignore", divide="ignore"):
-                po2 = np.where(sco > 0, p_eq * (total - sco) / total, p_eq)
+            total = inner * (1.0 - sco) + sco
+            p_eq = _total_inverse(self.name, total, self.c, self.shift, m)
+            po2 = m.where(sco > 0, p_eq * (total - sco) / total, p_eq)
         else:
-            po2 = _total_inverse(self.name, s, self.c, self.shift)
-        if np.any(s == 0) or np.any(s == 1):
-            po2 = np.where(s == 0, 0.0, np.where(s == 1, np.inf, po2))
+            po2 = _total_inverse(self.name, inner, self.c, self.shift, m)
+        if m.any(ends):
+            po2 = m.where(s == 0, 0.0, m.where(s == 1, m.inf, po2))
         return po2
 
 
-class ScalarCurve:
-    """:class:`PreparedCurve` for one set of float conditions, evaluated on floats.
-
-    The same equations through :mod:`math` (no array overhead), for the 0-d path of the
-    chain; use :func:`prepare_scalar_curve`.
-    """
-
-    __slots__ = ("_last", "c", "has_co", "k", "name", "sco", "shift")
-
-    def __init__(self, name, c):
-        self.name, self.c = name, c
-        self.shift = _ln_shift(name, c, math)
-        self.k = _constants(name, c, self.shift, math)
-        self.sco = c["fco"] / (1.0 - c["fmet"])
-        self.has_co = self.sco > 0.0
-        self._last = (math.nan, math.nan)  # last (PO2, total saturation) of the CO solve
-
-    def _total(self, p):
-        try:
-            return _total_formula(self.name, p, self.k, math)
-        except ValueError:  # log(0) of the tanh curve at p = 0
-            return 0.0
-        except OverflowError:  # exp(-y) as p -> 0, or x**n as p -> inf
-            return 0.0 if p < 1.0 else 1.0
-
-    def saturation(self, p):
-        """Functional saturation at p [mmHg] (float)."""
-        if not self.has_co:
-            return self._total(p)
-        if not p > 0.0:
-            return 0.0 if p == 0.0 else math.nan
-        name, k, sco = self.name, self.k, self.sco
-        lo, hi = sco, 1.0
-        last_p, u = self._last
-        # inner loops ask at nearby pressures: start there (Newton ends at the same root)
-        if not abs(p - last_p) <= 0.25 * p:
-            u = sco + (1.0 - sco) * self._total(p)
-        if not lo < u < hi:
-            u = 0.5 * (lo + hi)
-        for _ in range(_HALDANE_ITERATIONS):
-            d = u - sco
-            q = p * u / d
-            t = self._total(q)
-            f = u - t
-            if f > 0:
-                hi = u
-            else:
-                lo = u
-            if f == 0.0:
-                break
-            new = u - f / (1.0 + _total_slope(name, q, t, k, math) * (p / d) * (sco / d))
-            if not lo <= new <= hi:
-                new = 0.5 * (lo + hi)
-            step = new - u
-            u = new
-            if not abs(step) > _HALDANE_TOL:
-                break
-        self._last = (p, u)
-        return (u - sco) / (1.0 - sco)
-
-    def slope(self, p):
-        """dS/dPO2 by a central difference [1/mmHg] (as :meth:`PreparedCurve.slope`)."""
-        h = max(1e-4 * p, 1e-6)
-        lo = max(p - h, 0.0)
-        return (self.saturation(p + h) - self.saturation(lo)) / (p + h - lo)
-
-    def inverse(self, s):
-        """PO2 [mmHg] at functional saturation s (float)."""
-        if s == 0.0:
-            return 0.0
-        if s == 1.0:
-            return math.inf
-        if self.has_co:
-            sco = self.sco
-            total = s * (1.0 - sco) + sco
-            return (
-                _inverse_formula(self.name, total, self.c, self.shift, math) * (total - sco) / total
-            )
-        return _inverse_formula(self.name, s, self.c, self.shift, math)
-
-
-_LIMIT_KEYS = (
-    "ph",
-    "pco2_mmhg",
-    "temperature_c",
-    "dpg_mmol_l",
-    "cohb_fraction",
-    "methb_fraction",
-    "p50_mmhg",
-)
-
-
-def prepare_scalar_curve(
-    name, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg
+def _prepare_curve(
+    m, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
 ):
-    """Validate float conditions as :func:`prepare_curve` does and return a :class:`ScalarCurve`.
-
-    ``name`` is a canonical curve name; ``dpg_mmol_l`` and ``p50_mmhg`` may be None.
-
-    Examples
-    --------
-    >>> s = prepare_scalar_curve("severinghaus1979", 7.2, 40.0, 37.0, None, 0.0, 0.0, None)
-    >>> abs(s.saturation(40.0) - float(saturation(40.0, ph=7.2))) < 1e-15
-    True
-    """
-    dpg = NORMAL_DPG_MMOL_L if dpg_mmol_l is None else dpg_mmol_l
-    p50_std = STANDARD_P50_MMHG[name] if p50_mmhg is None else p50_mmhg
-    vals = (ph, pco2_mmhg, temperature_c, dpg, cohb_fraction, methb_fraction, p50_std)
-    for key, v in zip(_LIMIT_KEYS, vals):
-        lo, hi, _ = _LIMITS[key]
-        if not lo <= v <= hi:
-            _check(key, np.asarray(v, dtype=float))
-    if cohb_fraction + methb_fraction >= 1.0:
-        raise ValueError("cohb_fraction + methb_fraction must stay below 1")
-    return ScalarCurve(name, dict(zip(("ph", "pco2", "t", "dpg", "fco", "fmet", "p50std"), vals)))
+    """:func:`prepare_curve` for numpy (``m=np``) or one case of floats (:mod:`model.floats`)."""
+    name, c = _conditions(
+        ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve, m
+    )
+    return PreparedCurve(name, c, m)
 
 
 def prepare_curve(
@@ -590,10 +506,9 @@ def prepare_curve(
     >>> round(float(prepare_curve(ph=7.2).saturation(40.0)), 4) == round(float(saturation(40.0, ph=7.2)), 4)
     True
     """
-    name, c = _conditions(
-        ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
+    return _prepare_curve(
+        np, ph, pco2_mmhg, temperature_c, dpg_mmol_l, cohb_fraction, methb_fraction, p50_mmhg, curve
     )
-    return PreparedCurve(name, c)
 
 
 def po2_from_saturation(

@@ -63,7 +63,7 @@ from .bedside import (
 )
 from .circulation import body_surface_area
 from .content import oxygen_content
-from .dissociation import STANDARD_P50_MMHG, _canonical, po2_from_saturation, saturation
+from .dissociation import STANDARD_P50_MMHG, canonical_curve, po2_from_saturation, saturation
 from .limits import INPUT_LIMITS, check_range
 from .lungs import alveolar_po2
 from .transport import TransportResult, solve_transport
@@ -293,7 +293,7 @@ def _fit_p50(
     pao2, sao2 = mt["pao2_mmhg"], mt["sao2"]
     shown = m37["pao2_mmhg"]
     cond = _arterial_conditions(inputs)
-    standard = STANDARD_P50_MMHG[_canonical(inputs["curve"])]
+    standard = STANDARD_P50_MMHG[canonical_curve(inputs["curve"])]
 
     def gap(p50_std):
         return float(saturation(pao2, **{**cond, "p50_mmhg": p50_std})) - sao2
@@ -652,7 +652,7 @@ def fit_case(
     >>> abs(float(fit.result.arterial.po2_mmhg) - 70.0) < 0.01
     True
     """
-    _canonical(curve)
+    canonical_curve(curve)
     if not 0.0 < sao2_tolerance < 0.2:
         raise ValueError(
             f"sao2_tolerance = {sao2_tolerance:g} is outside the allowed range 0-0.2 (fraction)"

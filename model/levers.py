@@ -53,6 +53,7 @@ import inspect
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 
@@ -92,15 +93,17 @@ _PRESENT = (
     "paco2_mmhg",
 )  # read from the case, else solve_transport's default
 
-_OUTCOMES = (
-    "do2_ml_min",
-    "pao2_mmhg",
-    "sao2",
-    "cao2_ml_dl",
-    "svo2",
-    "pvo2_mmhg",
-    "extraction_ratio",
-)
+_OUTCOME_READERS = {
+    "do2_ml_min": lambda r: r.do2_ml_min,
+    "pao2_mmhg": lambda r: r.arterial.po2_mmhg,
+    "sao2": lambda r: r.arterial.so2,
+    "cao2_ml_dl": lambda r: r.arterial.o2_content_ml_dl,
+    "svo2": lambda r: r.venous.so2,
+    "pvo2_mmhg": lambda r: r.venous.po2_mmhg,
+    "extraction_ratio": lambda r: r.extraction_ratio,
+}
+"""Outcome of a what-if -> how to read it from a :class:`model.transport.TransportResult`."""
+_OUTCOMES = tuple(_OUTCOME_READERS)
 
 
 @dataclass(frozen=True)
@@ -151,21 +154,22 @@ def _number(name: str, value, lo: float, hi: float, unit: str, label: str) -> fl
     return v
 
 
+def _cardiac_output_factor(value) -> float:
+    """The factor on cardiac output, 1 < factor <= 3 [-]."""
+    label = "multiple of the present cardiac output"
+    factor = _number("cardiac_output_factor", value, 1.0, 3.0, "", label)
+    if factor == 1.0:
+        raise _range_error("cardiac_output_factor", value, 1.0, 3.0, "", f"{label}, above 1")
+    return factor
+
+
 def _limit(name: str, lever: str, value) -> float:
     lo, hi, unit, label = INPUT_LIMITS[name]
     return _number(lever, value, lo, hi, unit, label)
 
 
 def _outcome_values(result) -> dict:
-    return {
-        "do2_ml_min": float(result.do2_ml_min),
-        "pao2_mmhg": float(result.arterial.po2_mmhg),
-        "sao2": float(result.arterial.so2),
-        "cao2_ml_dl": float(result.arterial.o2_content_ml_dl),
-        "svo2": float(result.venous.so2),
-        "pvo2_mmhg": float(result.venous.po2_mmhg),
-        "extraction_ratio": float(result.extraction_ratio),
-    }
+    return {k: float(read(result)) for k, read in _OUTCOME_READERS.items()}
 
 
 def _solve_one(case: dict) -> tuple[dict, str]:
@@ -186,8 +190,165 @@ def _check_base(inputs: Mapping) -> dict:
     return base
 
 
-def _fmt(x: float, digits: int) -> str:
-    return f"{x:.{digits}f}"
+def _check_rank_by(rank_by: str) -> None:
+    if rank_by not in RANK_QUANTITIES:
+        raise ValueError(
+            f"rank_by {rank_by!r} is unknown; choose one of {', '.join(RANK_QUANTITIES)}"
+        )
+
+
+class _Lever(NamedTuple):
+    """One what-if before it is solved: the inputs it changes and how it reads."""
+
+    key: str
+    label: str
+    changes: dict
+    note: str
+
+
+def _fio2_levers(now: dict, steps: list[float]) -> list[_Lever]:
+    """Each FiO2 step above the present FiO2, nothing else changed."""
+    return [
+        _Lever(f"fio2_{step:.2f}", f"FiO2 {now['fio2']:.2f} → {step:.2f}", {"fio2": step}, "")
+        for step in sorted(set(steps))
+        if step > now["fio2"] + 0.005
+    ]
+
+
+def _transfusion_lever(base: dict, now: dict, hb_target: float, dpg_depleted: bool) -> list[_Lever]:
+    """Hb to the target, Q and VO2 unchanged; with depleted donor cells the DPG of the
+    mixture is the Hb-weighted mean (module docstring). None when Hb is at the target."""
+    if not hb_target > now["hb_g_dl"] + 0.05:
+        return []
+    changes = {"hb_g_dl": hb_target}
+    label = f"Transfuse: Hb {now['hb_g_dl']:.1f} → {hb_target:.1f} g/dL"
+    note = "Cardiac output and VO2 unchanged." + (
+        " The fitted P50 is kept for the mixed blood." if "p50_mmhg" in base else ""
+    )
+    if dpg_depleted:
+        dpg0 = float(base.get("dpg_mmol_l", NORMAL_DPG_MMOL_L))
+        share = now["hb_g_dl"] / hb_target
+        dpg = share * dpg0 + (1.0 - share) * STORED_BLOOD_DPG_MMOL_L
+        changes["dpg_mmol_l"] = dpg
+        label += ", stored blood low in 2,3-DPG"
+        note = (
+            f"2,3-DPG {dpg0:.1f} → {dpg:.1f} mmol/L: donor cells at "
+            f"{STORED_BLOOD_DPG_MMOL_L:g} mmol/L mixed by Hb. " + note
+        )
+    return [_Lever("transfusion", label, changes, note)]
+
+
+def _cardiac_output_lever(now: dict, factor: float) -> _Lever:
+    """Cardiac output times ``factor``, VO2 unchanged (the new flow must be in range)."""
+    q_new = now["cardiac_output_l_min"] * factor
+    check_range("cardiac_output_l_min", q_new)
+    return _Lever(
+        "cardiac_output",
+        f"Cardiac output ×{factor:g}: {now['cardiac_output_l_min']:.1f} → {q_new:.1f} L/min",
+        {"cardiac_output_l_min": q_new},
+        "VO2 unchanged.",
+    )
+
+
+def _cooling_lever(base: dict, now: dict, cool_to: float, rule: str) -> list[_Lever]:
+    """Temperature to ``cool_to`` with VO2 by Q10, PaCO2 and pH by the alpha- or pH-stat
+    rule; none unless cooler than the case."""
+    if not cool_to < now["temperature_c"] - 0.05:
+        return []
+    dt = cool_to - now["temperature_c"]
+    changes = {"temperature_c": cool_to}
+    if base.get("vo2_temperature_scaling"):
+        note = "VO2 follows temperature (the case scales VO2 with temperature)."
+    else:
+        changes["vo2_ml_min"] = now["vo2_ml_min"] * VO2_Q10_PER_C**dt
+        note = (
+            f"VO2 {now['vo2_ml_min']:.0f} → {changes['vo2_ml_min']:.0f} mL/min "
+            f"({(VO2_Q10_PER_C - 1) * 100:.0f} % per °C)."
+        )
+    if rule == "alpha_stat":
+        changes["paco2_mmhg"] = float(temperature_corrected_pco2(now["paco2_mmhg"], 37.0 + dt))
+        if "ph" in base:
+            changes["ph"] = float(temperature_corrected_ph(base["ph"], 37.0 + dt))
+        note += " Alpha-stat: ventilation keeps the 37 °C readings, so PaCO2 falls."
+    else:
+        note += " pH-stat: PaCO2 and pH held at the patient's temperature."
+    return [
+        _Lever("cooling", f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C", changes, note)
+    ]
+
+
+def _ph_lever(base: dict, now: dict, ph_to: float) -> list[_Lever]:
+    """Arterial pH to ``ph_to`` as read at 37 degC, PaCO2 held; none within 0.005 of it."""
+    if "ph" in base:
+        ph_now = float(base["ph"])
+    elif "base_excess_mmol_l" in base:
+        ph_now = float(solve_transport(**base).arterial.ph)
+    else:
+        ph_now = 7.40  # solve_transport's pH when neither pH nor base excess is given
+    t_case = now["temperature_c"]
+    ph_now_37 = float(temperature_corrected_ph(ph_now, 74.0 - t_case))  # as read at 37 degC
+    if not abs(ph_now_37 - ph_to) > 0.005:
+        return []
+    ph_chain = float(temperature_corrected_ph(ph_to, t_case))
+    note = "Metabolic correction: PaCO2 held."
+    if abs(t_case - 37.0) > 0.05:
+        note += f" pH read at 37 °C; {ph_chain:.2f} at the patient's {t_case:.1f} °C."
+    return [_Lever("ph", f"Correct pH: {ph_now_37:.2f} → {ph_to:.2f}", {"ph": ph_chain}, note)]
+
+
+def _shunt_lever(now: dict, shunt_change: float | None) -> list[_Lever]:
+    """The shunt fraction changed by the entered amount (validated); none when not given."""
+    if shunt_change is None:
+        return []
+    change = _number("shunt_change", shunt_change, -0.8, 0.8, "", "change in shunt fraction")
+    lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
+    new = now["shunt_fraction"] + change
+    if not lo <= new <= hi:
+        raise ValueError(
+            f"shunt_change = {change:g} would take the shunt fraction from "
+            f"{now['shunt_fraction']:.2f} to {new:.2f}, outside the allowed range "
+            f"{lo:g}-{hi:g} (Shunt fraction)"
+        )
+    if change == 0.0:
+        return []
+    return [
+        _Lever(
+            "shunt",
+            f"Shunt {now['shunt_fraction']:.2f} → {new:.2f}",
+            {"shunt_fraction": new},
+            "Entered change (e.g. after recruitment).",
+        )
+    ]
+
+
+def _outcomes(base: dict, levers: list[_Lever]) -> list[LeverOutcome]:
+    """Solve the base case and every what-if; each outcome against the base."""
+    cases = [base]
+    for lever in levers:
+        case = dict(base, **lever.changes)
+        if "ph" in lever.changes:
+            case.pop("base_excess_mmol_l", None)
+        cases.append(case)
+    solved = [_solve_one(case) for case in cases]
+    ref, base_error = solved[0]
+    if base_error:
+        raise ValueError(f"inputs: the base case cannot be solved: {base_error}")
+    table = []
+    for lever, case, (values, error) in zip(levers, cases[1:], solved[1:]):
+        deltas = {f"delta_{k}": values[k] - ref[k] for k in _OUTCOMES}
+        table.append(
+            LeverOutcome(
+                key=lever.key,
+                label=lever.label,
+                changes=lever.changes,
+                note=lever.note,
+                inputs=case,
+                error=error,
+                **values,
+                **deltas,
+            )
+        )
+    return table
 
 
 def rank_levers(
@@ -249,10 +410,7 @@ def rank_levers(
     >>> all(o.delta_pao2_mmhg > 0 for o in table if o.key.startswith("fio2"))
     True
     """
-    if rank_by not in RANK_QUANTITIES:
-        raise ValueError(
-            f"rank_by {rank_by!r} is unknown; choose one of {', '.join(RANK_QUANTITIES)}"
-        )
+    _check_rank_by(rank_by)
     if cooling_rule not in COOLING_RULES:
         raise ValueError(
             f"cooling_rule {cooling_rule!r} is unknown; choose one of {', '.join(COOLING_RULES)}"
@@ -263,147 +421,20 @@ def rank_levers(
         )
     steps = [_limit("fio2", "fio2_steps", s) for s in np.atleast_1d(fio2_steps).tolist()]
     hb_target = _limit("hb_g_dl", "target_hb_g_dl", target_hb_g_dl)
-    factor = _number(
-        "cardiac_output_factor",
-        cardiac_output_factor,
-        1.0,
-        3.0,
-        "",
-        "multiple of the present cardiac output",
-    )
-    if factor == 1.0:
-        raise _range_error(
-            "cardiac_output_factor",
-            cardiac_output_factor,
-            1.0,
-            3.0,
-            "",
-            "multiple of the present cardiac output, above 1",
-        )
+    factor = _cardiac_output_factor(cardiac_output_factor)
     cool_to = _limit("temperature_c", "cooling_to_c", cooling_to_c)
     ph_to = _limit("ph", "ph_target", ph_target)
     base = _check_base(inputs)
     now = {k: float(base.get(k, _SOLVER_DEFAULTS[k])) for k in _PRESENT}
-    levers: list[tuple[str, str, dict, str]] = []
-
-    for step in sorted(set(steps)):
-        if step > now["fio2"] + 0.005:
-            levers.append(
-                (f"fio2_{step:.2f}", f"FiO2 {now['fio2']:.2f} → {step:.2f}", {"fio2": step}, "")
-            )
-
-    if hb_target > now["hb_g_dl"] + 0.05:
-        changes = {"hb_g_dl": hb_target}
-        label = f"Transfuse: Hb {now['hb_g_dl']:.1f} → {hb_target:.1f} g/dL"
-        note = "Cardiac output and VO2 unchanged." + (
-            " The fitted P50 is kept for the mixed blood." if "p50_mmhg" in base else ""
-        )
-        if stored_blood_dpg_depleted:
-            dpg0 = float(base.get("dpg_mmol_l", NORMAL_DPG_MMOL_L))
-            share = now["hb_g_dl"] / hb_target
-            dpg = share * dpg0 + (1.0 - share) * STORED_BLOOD_DPG_MMOL_L
-            changes["dpg_mmol_l"] = dpg
-            label += ", stored blood low in 2,3-DPG"
-            note = (
-                f"2,3-DPG {dpg0:.1f} → {dpg:.1f} mmol/L: donor cells at "
-                f"{STORED_BLOOD_DPG_MMOL_L:g} mmol/L mixed by Hb. " + note
-            )
-        levers.append(("transfusion", label, changes, note))
-
-    q_new = now["cardiac_output_l_min"] * factor
-    check_range("cardiac_output_l_min", q_new)
-    levers.append(
-        (
-            "cardiac_output",
-            f"Cardiac output ×{factor:g}: {now['cardiac_output_l_min']:.1f} → {q_new:.1f} L/min",
-            {"cardiac_output_l_min": q_new},
-            "VO2 unchanged.",
-        )
-    )
-
-    if cool_to < now["temperature_c"] - 0.05:
-        dt = cool_to - now["temperature_c"]
-        changes = {"temperature_c": cool_to}
-        if base.get("vo2_temperature_scaling"):
-            note = "VO2 follows temperature (the case scales VO2 with temperature)."
-        else:
-            changes["vo2_ml_min"] = now["vo2_ml_min"] * VO2_Q10_PER_C**dt
-            note = (
-                f"VO2 {now['vo2_ml_min']:.0f} → {changes['vo2_ml_min']:.0f} mL/min "
-                f"({(VO2_Q10_PER_C - 1) * 100:.0f} % per °C)."
-            )
-        if cooling_rule == "alpha_stat":
-            changes["paco2_mmhg"] = float(temperature_corrected_pco2(now["paco2_mmhg"], 37.0 + dt))
-            if "ph" in base:
-                changes["ph"] = float(temperature_corrected_ph(base["ph"], 37.0 + dt))
-            note += " Alpha-stat: ventilation keeps the 37 °C readings, so PaCO2 falls."
-        else:
-            note += " pH-stat: PaCO2 and pH held at the patient's temperature."
-        levers.append(
-            ("cooling", f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C", changes, note)
-        )
-
-    if "ph" in base:
-        ph_now = float(base["ph"])
-    elif "base_excess_mmol_l" in base:
-        ph_now = float(solve_transport(**base).arterial.ph)
-    else:
-        ph_now = 7.40  # solve_transport's pH when neither pH nor base excess is given
-    t_case = now["temperature_c"]
-    ph_now_37 = float(temperature_corrected_ph(ph_now, 74.0 - t_case))  # as read at 37 degC
-    if abs(ph_now_37 - ph_to) > 0.005:
-        ph_chain = float(temperature_corrected_ph(ph_to, t_case))
-        note = "Metabolic correction: PaCO2 held."
-        if abs(t_case - 37.0) > 0.05:
-            note += f" pH read at 37 °C; {ph_chain:.2f} at the patient's {t_case:.1f} °C."
-        levers.append(("ph", f"Correct pH: {ph_now_37:.2f} → {ph_to:.2f}", {"ph": ph_chain}, note))
-
-    if shunt_change is not None:
-        change = _number("shunt_change", shunt_change, -0.8, 0.8, "", "change in shunt fraction")
-        lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
-        new = now["shunt_fraction"] + change
-        if not lo <= new <= hi:
-            raise ValueError(
-                f"shunt_change = {change:g} would take the shunt fraction from "
-                f"{now['shunt_fraction']:.2f} to {new:.2f}, outside the allowed range "
-                f"{lo:g}-{hi:g} (Shunt fraction)"
-            )
-        if change != 0.0:
-            levers.append(
-                (
-                    "shunt",
-                    f"Shunt {now['shunt_fraction']:.2f} → {new:.2f}",
-                    {"shunt_fraction": new},
-                    "Entered change (e.g. after recruitment).",
-                )
-            )
-
-    cases = [base]
-    for _, _, changes, _ in levers:
-        case = dict(base, **changes)
-        if "ph" in changes:
-            case.pop("base_excess_mmol_l", None)
-        cases.append(case)
-    solved = [_solve_one(case) for case in cases]
-    ref, base_error = solved[0]
-    if base_error:
-        raise ValueError(f"inputs: the base case cannot be solved: {base_error}")
-    table = []
-    for (key, label, changes, note), case, (values, error) in zip(levers, cases[1:], solved[1:]):
-        deltas = {f"delta_{k}": values[k] - ref[k] for k in _OUTCOMES}
-        table.append(
-            LeverOutcome(
-                key=key,
-                label=label,
-                changes=changes,
-                note=note,
-                inputs=case,
-                error=error,
-                **values,
-                **deltas,
-            )
-        )
-    return sort_outcomes(table, rank_by)
+    levers = [
+        *_fio2_levers(now, steps),
+        *_transfusion_lever(base, now, hb_target, bool(stored_blood_dpg_depleted)),
+        _cardiac_output_lever(now, factor),
+        *_cooling_lever(base, now, cool_to, cooling_rule),
+        *_ph_lever(base, now, ph_to),
+        *_shunt_lever(now, shunt_change),
+    ]
+    return sort_outcomes(_outcomes(base, levers), rank_by)
 
 
 def sort_outcomes(outcomes: list[LeverOutcome], rank_by: str = "do2") -> list[LeverOutcome]:
@@ -414,10 +445,7 @@ def sort_outcomes(outcomes: list[LeverOutcome], rank_by: str = "do2") -> list[Le
     >>> [o.key for o in sort_outcomes(rank_levers({"hb_g_dl": 8.0}), "pao2")][:2]
     ['fio2_1.00', 'fio2_0.80']
     """
-    if rank_by not in RANK_QUANTITIES:
-        raise ValueError(
-            f"rank_by {rank_by!r} is unknown; choose one of {', '.join(RANK_QUANTITIES)}"
-        )
+    _check_rank_by(rank_by)
     name, sign, _ = RANK_QUANTITIES[rank_by]
 
     def order(o: LeverOutcome):

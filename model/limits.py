@@ -4,6 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from .air import PRESSURE_MODELS
+from .dissociation import CURVES
+
 INPUT_LIMITS: dict[str, tuple[float, float, str, str]] = {
     "altitude_m": (-500.0, 9000.0, "m", "Altitude"),
     "barometric_pressure_mmhg": (150.0, 1100.0, "mmHg", "Barometric pressure"),
@@ -27,6 +30,17 @@ INPUT_LIMITS: dict[str, tuple[float, float, str, str]] = {
 """name -> (lowest, highest, unit, label). Ranges are common practice: wide enough for
 any patient or climber, narrow enough to keep every published equation near its data."""
 
+MAX_COHB_PLUS_METHB = 0.9
+"""cohb_fraction + methb_fraction must stay below this in the chain [-] (a bound of the model;
+common practice, no source)."""
+
+INPUT_CHOICES: dict[str, tuple] = {
+    "pressure_model": PRESSURE_MODELS,
+    "curve": CURVES,
+    "vo2_temperature_scaling": (False, True),
+}
+"""name -> allowed values, for the inputs of the chain that are not numbers."""
+
 
 def check_range(name: str, value) -> np.ndarray:
     """Return ``value`` as a float array, or raise ValueError naming field, range and unit.
@@ -44,5 +58,7 @@ def check_range(name: str, value) -> np.ndarray:
     if np.any(bad):
         v = arr[bad].ravel()[0]
         unit_txt = f" {unit}" if unit else ""
-        raise ValueError(f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g}{unit_txt} ({label})")
+        raise ValueError(
+            f"{name} = {v:g} is outside the allowed range {lo:g}-{hi:g}{unit_txt} ({label})"
+        )
     return arr

@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
-from .air import water_vapour_pressure
+from .air import inspired_po2
 from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG
 from .dissociation import prepare_curve
 
@@ -46,7 +44,7 @@ def alveolar_po2(*, fio2, pb_mmhg, paco2_mmhg, rq=0.8, temperature_c=37.0):
     """
     fio2 = np.asarray(fio2, dtype=float)
     rq = np.asarray(rq, dtype=float)
-    pio2 = fio2 * (np.asarray(pb_mmhg, dtype=float) - water_vapour_pressure(temperature_c))
+    pio2 = inspired_po2(fio2, pb_mmhg, temperature_c)
     return pio2 - np.asarray(paco2_mmhg, dtype=float) * (fio2 + (1.0 - fio2) / rq)
 
 
@@ -123,33 +121,20 @@ def end_capillary_po2(
 
 
 def _end_capillary_po2(pa, pv, hb, carrying, k, dt, curve, hufner, solubility, steps=24):
-    """:func:`end_capillary_po2` on arrays: ``k = DLO2 / 60 / Vc``, ``dt`` one step [s],
-    ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a :class:`model.dissociation.PreparedCurve`."""
-    p = np.minimum(pv, pa)
+    """:func:`end_capillary_po2` on prepared values: ``k = DLO2 / 60 / Vc``, ``dt`` one step
+    [s], ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a
+    :class:`model.dissociation.PreparedCurve` (on arrays or on the floats of one case)."""
+    m = curve.m
+    p = m.minimum(pv, pa)
     kh = hufner * hb * carrying
     mkdt = -k * dt
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+    with m.errstate(divide="ignore", invalid="ignore", over="ignore"):
         b = (kh * curve._slope(p) + solubility) / 100.0
         for _ in range(steps):
             # predictor with the previous midpoint's beta, corrector at the new midpoint
-            trial = pa - (pa - p) * np.exp(mkdt / b)
+            trial = pa - (pa - p) * m.exp(mkdt / b)
             b = (kh * curve._slope(0.5 * (p + trial)) + solubility) / 100.0
-            p = pa - (pa - p) * np.exp(mkdt / b)
-    return p
-
-
-def _end_capillary_po2_scalar(pa, pv, hb, carrying, k, dt, curve, hufner, solubility, steps=24):
-    """:func:`end_capillary_po2` for floats: ``k = DLO2 / 60 / Vc``, ``dt`` one step [s],
-    ``carrying`` = 1 - FCOHb - FMetHb, ``curve`` a :class:`model.dissociation.ScalarCurve`."""
-    p = min(pv, pa)
-    kh = hufner * hb * carrying
-    mkdt = -k * dt
-    exp = math.exp
-    b = (kh * curve.slope(p) + solubility) / 100.0
-    for _ in range(steps):
-        trial = pa - (pa - p) * exp(mkdt / b)
-        b = (kh * curve.slope(0.5 * (p + trial)) + solubility) / 100.0
-        p = pa - (pa - p) * exp(mkdt / b)
+            p = pa - (pa - p) * m.exp(mkdt / b)
     return p
 
 
@@ -215,62 +200,33 @@ def po2_from_content(
 
 
 def _po2_from_content(c, carrying, solubility, curve, p0=None):
-    """:func:`po2_from_content` on arrays; ``carrying`` = k Hb (1 - FCOHb - FMetHb)
-    [mL O2/dL], ``curve`` a :class:`model.dissociation.PreparedCurve`; ``p0`` an optional
-    start near the answer (the chain's previous pass), which saves steps: Newton ends where
-    the error left is below 1e-10 of PO2 either way."""
-    lo = np.zeros(c.shape)
-    hi = np.maximum(c / solubility, 1e-9)
+    """:func:`po2_from_content` on prepared values; ``carrying`` = k Hb (1 - FCOHb - FMetHb)
+    [mL O2/dL], ``curve`` a :class:`model.dissociation.PreparedCurve` (on arrays or on the
+    floats of one case); ``p0`` an optional start near the answer (the chain's previous
+    pass), which saves steps: Newton ends where the error left is below 1e-10 of PO2 either
+    way."""
+    m = curve.m
+    lo = m.zeros_like(c)
+    hi = m.maximum(c / solubility, 1e-9)
     if p0 is not None:
-        p = np.where(np.isnan(p0), 0.5 * hi, np.minimum(np.maximum(p0, lo), hi))
+        p = m.where(m.isnan(p0), 0.5 * hi, m.minimum(m.maximum(p0, lo), hi))
     else:
-        p = np.zeros(c.shape)
+        p = m.zeros_like(c)
         for _ in range(3):  # fixed-point start: contracts fast where the curve is steep
-            s0 = np.clip((c - solubility * p) / np.maximum(carrying, 1e-9), 1e-6, 0.9995)
-            p = np.clip(curve.inverse(s0), lo, hi)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            s0 = m.clip((c - solubility * p) / m.maximum(carrying, 1e-9), 1e-6, 0.9995)
+            p = m.clip(curve.inverse(s0), lo, hi)
+    with m.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for _ in range(80):
             f = carrying * curve._saturation(p) + solubility * p - c
-            hi = np.where(f > 0, p, hi)
-            lo = np.where(f > 0, lo, p)
+            hi = m.where(f > 0, p, hi)
+            lo = m.where(f > 0, lo, p)
             df = carrying * curve._slope(p) + solubility
             new = p - f / df
-            outside = (new < lo) | (new > hi) | ~np.isfinite(new)
-            new = np.where(outside, 0.5 * (lo + hi), new)
-            hit = np.abs(f) <= 1e-12 * np.maximum(c, 1e-3)
-            done = hit | (~outside & (np.abs(new - p) <= 1e-10 * np.maximum(p, 1.0)))
-            p = np.where(hit, p, new)
-            if (done | np.isnan(c)).all():
+            inside = (new >= lo) & (new <= hi)  # False for NaN too
+            new = m.where(inside, new, 0.5 * (lo + hi))
+            hit = abs(f) <= 1e-12 * m.maximum(c, 1e-3)
+            done = hit | (inside & (abs(new - p) <= 1e-10 * m.maximum(p, 1.0)))
+            p = m.where(hit, p, new)
+            if m.all(done | m.isnan(c)):
                 break
-    return p
-
-
-def _po2_from_content_scalar(c, carrying, solubility, curve, p0=None):
-    """:func:`_po2_from_content` for floats, ``curve`` a
-    :class:`model.dissociation.ScalarCurve`. Same steps and stops."""
-    lo = 0.0
-    hi = max(c / solubility, 1e-9)
-    if p0 is not None:
-        p = 0.5 * hi if math.isnan(p0) else min(max(p0, lo), hi)
-    else:
-        p = 0.0
-        for _ in range(3):
-            s0 = min(max((c - solubility * p) / max(carrying, 1e-9), 1e-6), 0.9995)
-            p = min(max(curve.inverse(s0), lo), hi)
-    for _ in range(80):
-        f = carrying * curve.saturation(p) + solubility * p - c
-        if f > 0:
-            hi = p
-        else:
-            lo = p
-        new = p - f / (carrying * curve.slope(p) + solubility)
-        outside = not lo <= new <= hi  # also NaN
-        if outside:
-            new = 0.5 * (lo + hi)
-        if abs(f) <= 1e-12 * max(c, 1e-3):
-            break
-        done = not outside and abs(new - p) <= 1e-10 * max(p, 1.0)
-        p = new
-        if done:
-            break
     return p

@@ -10,9 +10,8 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .dissociation import CURVES
-from .limits import INPUT_LIMITS
-from .units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
+from .limits import INPUT_CHOICES, INPUT_LIMITS, MAX_COHB_PLUS_METHB
+from .units import UnitVariant, unit_variants
 
 #: The example files shipped with o2transit: ``scenarios/`` at the top of the repository,
 #: installed as the package data ``o2transit/scenarios`` (a sibling of this package either way).
@@ -20,45 +19,54 @@ EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "scenarios"
 ASCENT_EXAMPLES_DIR = EXAMPLES_DIR / "ascents"
 LESSON_DIR = EXAMPLES_DIR / "lessons"
 
-# table -> key -> (solver keyword, factor to the solver's unit or None)
-_KEYS: dict[str, dict[str, tuple[str, float | None]]] = {
-    "air": {
-        "altitude_m": ("altitude_m", 1.0),
-        "barometric_pressure_mmhg": ("barometric_pressure_mmhg", 1.0),
-        "barometric_pressure_kpa": ("barometric_pressure_mmhg", MMHG_PER_KPA),
-        "pressure_model": ("pressure_model", None),
-        "fio2": ("fio2", 1.0),
-    },
-    "lungs": {
-        "paco2_mmhg": ("paco2_mmhg", 1.0),
-        "paco2_kpa": ("paco2_mmhg", MMHG_PER_KPA),
-        "shunt_fraction": ("shunt_fraction", 1.0),
-        "diffusing_capacity_ml_min_mmhg": ("diffusing_capacity_ml_min_mmhg", 1.0),
-        "capillary_volume_ml": ("capillary_volume_ml", 1.0),
-        "rq": ("rq", 1.0),
-    },
-    "blood": {
-        "hb_g_dl": ("hb_g_dl", 1.0),
-        "hb_g_l": ("hb_g_dl", 0.1),
-        "hb_mmol_l": ("hb_g_dl", 1.0 / HB_MMOL_L_PER_G_DL),
-        "temperature_c": ("temperature_c", 1.0),
-        "ph": ("ph", 1.0),
-        "base_excess_mmol_l": ("base_excess_mmol_l", 1.0),
-        "dpg_mmol_l": ("dpg_mmol_l", 1.0),
-        "cohb_fraction": ("cohb_fraction", 1.0),
-        "methb_fraction": ("methb_fraction", 1.0),
-        "p50_mmhg": ("p50_mmhg", 1.0),
-        "p50_kpa": ("p50_mmhg", MMHG_PER_KPA),
-        "curve": ("curve", None),
-    },
-    "circulation": {
-        "cardiac_output_l_min": ("cardiac_output_l_min", 1.0),
-        "vo2_ml_min": ("vo2_ml_min", 1.0),
-        "vo2_temperature_scaling": ("vo2_temperature_scaling", None),
-    },
+_TABLES = {
+    "air": ("altitude_m", "barometric_pressure_mmhg", "pressure_model", "fio2"),
+    "lungs": (
+        "paco2_mmhg",
+        "shunt_fraction",
+        "diffusing_capacity_ml_min_mmhg",
+        "capillary_volume_ml",
+        "rq",
+    ),
+    "blood": (
+        "hb_g_dl",
+        "temperature_c",
+        "ph",
+        "base_excess_mmol_l",
+        "dpg_mmol_l",
+        "cohb_fraction",
+        "methb_fraction",
+        "p50_mmhg",
+        "curve",
+    ),
+    "circulation": ("cardiac_output_l_min", "vo2_ml_min", "vo2_temperature_scaling"),
 }
-_CHOICES = {"pressure_model": ("standard", "mountain"), "curve": CURVES}
+_IN_OTHER_UNITS = ("barometric_pressure_mmhg", "paco2_mmhg", "hb_g_dl", "p50_mmhg")
+"""The quantities a scenario file may also give in kPa, g/L or mmol/L."""
+
+
+def _table_keys(keys: tuple[str, ...]) -> dict[str, UnitVariant | None]:
+    """Key -> how it reads: a number (canonical or a unit variant) or None (choice, flag)."""
+    out: dict[str, UnitVariant | None] = {}
+    for key in keys:
+        out[key] = UnitVariant(key, 1.0, INPUT_LIMITS[key][2]) if key in INPUT_LIMITS else None
+        if key in _IN_OTHER_UNITS:
+            out.update(unit_variants(key))
+    return out
+
+
+_KEYS = {table: _table_keys(keys) for table, keys in _TABLES.items()}
 _TOP = {"name", "description"}
+
+SCENARIO_UNIT_VARIANTS: dict[str, UnitVariant] = {
+    key: spec
+    for table in _KEYS.values()
+    for key, spec in table.items()
+    if spec is not None and spec.key != key
+}
+"""Scenario keys in another unit -> :class:`model.units.UnitVariant` (canonical key, factor to
+its unit, unit label): ``barometric_pressure_kpa, paco2_kpa, p50_kpa`` [kPa], ``hb_g_l``
+[g/L], ``hb_mmol_l`` [mmol/L]. The page address reads the same variants."""
 
 
 class ScenarioError(ValueError):
@@ -75,13 +83,6 @@ class Scenario:
     inputs: dict = field(default_factory=dict)
 
 
-def _unit_of(key: str) -> str:
-    for suffix, unit in (("_kpa", "kPa"), ("_g_l", "g/L"), ("_mmol_l", "mmol/L")):
-        if key.endswith(suffix):
-            return unit
-    return ""
-
-
 def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
     """Validate a parsed scenario mapping (as from TOML or a URL) and build a Scenario.
 
@@ -91,6 +92,7 @@ def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
     >>> s.inputs["hb_g_dl"]
     9.0
     """
+
     def fail(msg):
         raise ScenarioError(f"{where}: {msg}")
 
@@ -102,34 +104,37 @@ def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
                 fail(f"{key} = {value!r} must be text")
             continue
         if key not in _KEYS:
-            fail(f"unknown key {key!r}; allowed tables: {', '.join(_KEYS)}; top-level keys: name, description")
+            fail(
+                f"unknown key {key!r}; allowed tables: {', '.join(_KEYS)}; "
+                "top-level keys: name, description"
+            )
         if not isinstance(value, dict):
             fail(f"{key} must be a table [{key}]")
         for sub, raw in value.items():
             if sub not in _KEYS[key]:
                 fail(f"[{key}] unknown key {sub!r}; allowed: {', '.join(_KEYS[key])}")
-            target, factor = _KEYS[key][sub]
+            spec = _KEYS[key][sub]
+            target = sub if spec is None else spec.key
             if target in source:
                 fail(f"[{key}] {sub} and {source[target]} give the same quantity twice; keep one")
             source[target] = sub
-            if target == "vo2_temperature_scaling":
-                if not isinstance(raw, bool):
-                    fail(f"[{key}] {sub} = {raw!r} must be true or false")
-                inputs[target] = raw
-                continue
-            if factor is None:
-                if raw not in _CHOICES[target]:
-                    fail(f"[{key}] {sub} = {raw!r} is not one of {', '.join(_CHOICES[target])}")
+            if spec is None:  # a choice, or a flag (true or false)
+                choices = INPUT_CHOICES[target]
+                if choices == (False, True):
+                    if not isinstance(raw, bool):
+                        fail(f"[{key}] {sub} = {raw!r} must be true or false")
+                elif raw not in choices:
+                    fail(f"[{key}] {sub} = {raw!r} is not one of {', '.join(choices)}")
                 inputs[target] = raw
                 continue
             if isinstance(raw, bool) or not isinstance(raw, (int, float)):
                 fail(f"[{key}] {sub} = {raw!r} must be a number")
-            converted = float(raw) * factor
+            converted = spec.to_canonical(float(raw))
             lo, hi, unit, label = INPUT_LIMITS[target]
             if not lo <= converted <= hi:
-                u = _unit_of(sub)
-                if u:
-                    lo_txt = f"{lo / factor:.4g}-{hi / factor:.4g} {u}"
+                if sub in SCENARIO_UNIT_VARIANTS:
+                    shown = (spec.from_canonical(lo), spec.from_canonical(hi))
+                    lo_txt = f"{shown[0]:.4g}-{shown[1]:.4g} {spec.unit}"
                 else:
                     lo_txt = f"{lo:g}-{hi:g} {unit}".rstrip()
                 fail(f"[{key}] {sub} = {raw!r} is outside the allowed range {lo_txt} ({label})")
@@ -138,11 +143,12 @@ def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
         fail("[blood] ph and base_excess_mmol_l are both given; keep one")
     if "altitude_m" in inputs and "barometric_pressure_mmhg" in inputs:
         fail("[air] altitude_m and barometric pressure are both given; keep one")
-    if inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0) >= 0.9:
-        fail("[blood] cohb_fraction + methb_fraction must stay below 0.9")
+    if inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0) >= MAX_COHB_PLUS_METHB:
+        fail(f"[blood] cohb_fraction + methb_fraction must stay below {MAX_COHB_PLUS_METHB:g}")
     name = data.get("name", "")
-    return Scenario(name=name or where, description=data.get("description", ""), path=where,
-                    inputs=inputs)
+    return Scenario(
+        name=name or where, description=data.get("description", ""), path=where, inputs=inputs
+    )
 
 
 def read_toml(path: Path, error: type[ValueError]) -> dict:

@@ -2,32 +2,20 @@
 
 from __future__ import annotations
 
+import inspect
 import math
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .acid_base import (
-    _base_excess,
-    _blood_co2_content,
-    _ph_from_base_excess,
-    _ph_from_base_excess_scalar,
-    base_excess,
-)
+from . import floats
+from .acid_base import _base_excess, _blood_co2_content, _ph_from_base_excess
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
-from .circulation import VO2_Q10_PER_C, oxygen_delivery, vo2_at_temperature
-from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, _oxygen_content, oxygen_content
-from .dissociation import _canonical, p50, prepare_curve, prepare_scalar_curve, saturation
-from .limits import INPUT_LIMITS, check_range
-from .lungs import (
-    _end_capillary_po2,
-    _end_capillary_po2_scalar,
-    _po2_from_content,
-    _po2_from_content_scalar,
-    aa_gradient,
-    alveolar_po2,
-    po2_from_content,
-)
+from .circulation import extraction_ratio, oxygen_delivery, vo2_at_temperature
+from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, _oxygen_content
+from .dissociation import _prepare_curve, canonical_curve
+from .limits import INPUT_CHOICES, INPUT_LIMITS, MAX_COHB_PLUS_METHB, check_range
+from .lungs import _end_capillary_po2, _po2_from_content, aa_gradient, alveolar_po2
 
 
 @dataclass(frozen=True)
@@ -94,7 +82,7 @@ class TransportResult:
         return plain(d)
 
 
-def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve):
+def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve) -> dict:
     return {
         "ph": ph,
         "pco2_mmhg": pco2,
@@ -107,24 +95,23 @@ def _curve_kw(ph, pco2, t, dpg, cohb, methb, p50_override, curve):
     }
 
 
-def _venous_co2(cvco2, be_ox, svo2, hb, t, p_start, ph):
+def _venous_co2(cvco2, be_ox, svo2, hb, t, p, ph, m):
     """PvCO2 and pHv such that Douglas content equals cvco2 on the venous buffer line
     (each pH solve starts from the last one, ``ph`` first)."""
-    p = p_start.copy()
     for _ in range(30):
-        ph = _ph_from_base_excess(be_ox, p, hb, svo2, ph)
+        ph = _ph_from_base_excess(be_ox, p, hb, svo2, ph, m)
         f = _blood_co2_content(p, ph, svo2, hb, t) - cvco2
         h = 1e-4 * p
-        ph2 = _ph_from_base_excess(be_ox, p + h, hb, svo2, ph)
+        ph2 = _ph_from_base_excess(be_ox, p + h, hb, svo2, ph, m)
         df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
-        step = np.minimum(np.maximum(f / df, -0.5 * p), 40.0)
+        step = m.minimum(m.maximum(f / df, -0.5 * p), 40.0)
         p = p - step
-        if not (np.abs(step) > 1e-9).any():
+        if not m.any(abs(step) > 1e-9):
             break
-    return p, _ph_from_base_excess(be_ox, p, hb, svo2, ph)
+    return p, _ph_from_base_excess(be_ox, p, hb, svo2, ph, m)
 
 
-def _aitken(x0, x1, x2):
+def _aitken(x0, x1, x2, m):
     """Aitken's delta-squared extrapolation of x0, x1 = G(x0), x2 = G(x1) towards the fixed
     point of G, where the two steps shrink by a steady factor |r| < 0.9 (else x2).
 
@@ -132,35 +119,24 @@ def _aitken(x0, x1, x2):
     limits uptake), so one extrapolation after every two passes halves the passes needed.
     """
     d1, d2 = x1 - x0, x2 - x1
-    with np.errstate(divide="ignore", invalid="ignore"):
-        r = d2 / d1
-        y = x2 + d2 * r / (1.0 - r)
-    return np.where((np.abs(r) < 0.9) & (y > 0.0), y, x2)
+    r = d2 / m.where(d1 == 0.0, m.inf, d1)  # no first step: r = 0, y = x2
+    steady = abs(r) < 0.9
+    y = x2 + d2 * r / (1.0 - m.where(steady, r, 0.0))
+    return m.where(steady & (y > 0.0), y, x2)
 
 
-def _aitken_scalar(x0, x1, x2):
-    """:func:`_aitken` for floats."""
-    d1, d2 = x1 - x0, x2 - x1
-    if d1 == 0.0:
-        return x2
-    r = d2 / d1
-    if not abs(r) < 0.9:
-        return x2
-    y = x2 + d2 * r / (1.0 - r)
-    return y if y > 0.0 else x2
-
-
-def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
-    """One pass of the coupled arterial-venous solution on the cases still moving."""
+def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict, m) -> dict:
+    """One pass of the coupled arterial-venous solution (on the cases still moving)."""
     hufner, sol = content_kw["hufner_ml_g"], content_kw["o2_solubility_ml_dl_mmhg"]
     hb, t, paco2 = f["hb"], f["t"], f["paco2"]
     ph_a = st["ph_a"]
     if "base_excess_mmol_l" in f:
-        ph_a = _ph_from_base_excess(f["base_excess_mmol_l"], paco2, hb, st["sao2"], ph_a)
-    art = prepare_curve(
+        ph_a = _ph_from_base_excess(f["base_excess_mmol_l"], paco2, hb, st["sao2"], ph_a, m)
+    art = _prepare_curve(
+        m,
         **_curve_kw(
             ph_a, paco2, t, f.get("dpg_mmol_l"), f["cohb"], f["methb"], f.get("p50_mmhg"), curve
-        )
+        ),
     )
     pc = _end_capillary_po2(
         f["pao2_alv"], st["pv_o2"], hb, f["carry"], f["k"], f["dt"], art, hufner, sol
@@ -169,7 +145,7 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     cc = _oxygen_content(hb, sc, pc, f["cohb"], f["methb"], hufner, sol)
     cao2 = cc - f["admix"]
     cvo2 = cao2 - f["d_av"]
-    if np.any(cvo2 <= 0.0):
+    if m.any(cvo2 <= 0.0):
         raise ValueError(
             "vo2_ml_min exceeds what the O2 delivery can supply at this cardiac "
             "output (venous O2 content would be below zero)"
@@ -179,7 +155,8 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     be_ox = _base_excess(ph_a, paco2, hb, sao2)  # referred to full oxygenation (Zander)
     caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
     cvco2 = caco2 + f["rq"] * f["d_av"]
-    ven = prepare_curve(
+    ven = _prepare_curve(
+        m,
         **_curve_kw(
             st["ph_v"],
             st["pv_co2"],
@@ -189,12 +166,14 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
             f["methb"],
             f.get("p50_mmhg"),
             curve,
-        )
+        ),
     )
     warm = "pa_o2" in st  # Newton starts: none on the first pass, then the last pass's values
     pv_o2 = _po2_from_content(cvo2, f["carry_ml"], sol, ven, st["pv_o2"] if warm else None)
     svo2 = ven.saturation(pv_o2)
-    pv_co2, ph_v = _venous_co2(cvco2, be_ox, svo2, hb, t, np.maximum(st["pv_co2"], 1.0), st["ph_v"])
+    pv_co2, ph_v = _venous_co2(
+        cvco2, be_ox, svo2, hb, t, m.maximum(st["pv_co2"], 1.0), st["ph_v"], m
+    )
     return {
         "ph_a": ph_a,
         "pv_o2": pv_o2,
@@ -212,26 +191,11 @@ def _iterate(f: dict, st: dict, *, curve: str, content_kw: dict) -> dict:
     }
 
 
-# --- the 0-d path: the same chain on floats -------------------------------------------------
-# Every step below mirrors one of the vectorised functions used by `_iterate` (same
-# equations, same Newton steps, same stopping rules) with math on floats, because a single
-# case through numpy costs far more in per-call overhead than in arithmetic.
+# --- the steps of solve_transport ------------------------------------------------------------
+# A case is a dict of the chain's inputs (only those given), either plain floats (``m`` is
+# model.floats) or 1-d arrays of one length (``m`` is numpy; the result takes the input
+# shape back at the end). Every step below serves both.
 
-_INPUT_NAMES = (
-    "fio2",
-    "paco2_mmhg",
-    "rq",
-    "shunt_fraction",
-    "diffusing_capacity_ml_min_mmhg",
-    "capillary_volume_ml",
-    "hb_g_dl",
-    "temperature_c",
-    "cohb_fraction",
-    "methb_fraction",
-    "cardiac_output_l_min",
-    "vo2_ml_min",
-)
-_OPTIONAL_NAMES = ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg")
 _FLOAT64_FIELDS = frozenset(
     (
         "water_vapour_pressure_mmhg",
@@ -245,9 +209,28 @@ _FLOAT64_FIELDS = frozenset(
         "venous_shift_gain_ml_per_l",
     )
 )
+_FLOAT64_BLOOD = {
+    "arterial": frozenset(("p50_mmhg", "base_excess_mmol_l")),
+    "venous": frozenset(("so2", "p50_mmhg", "base_excess_mmol_l")),
+}
+"""Fields a case of floats returns as numpy float64 rather than 0-d arrays (as the
+vectorised chain gave them for 0-d input before the float path)."""
+_CONTENT_CONSTANTS = ("hufner_ml_g", "o2_solubility_ml_dl_mmhg")
+_CONSTANTS = (*_CONTENT_CONSTANTS, "tol")
 
 
-def _plain_float(v):
+def _check_options(pressure_model, curve, ph, base_excess_mmol_l) -> None:
+    """Refuse an unknown pressure model or curve, and pH given with base excess."""
+    if pressure_model not in PRESSURE_MODELS:
+        raise ValueError(
+            f"pressure_model {pressure_model!r} is unknown; choose one of {PRESSURE_MODELS}"
+        )
+    canonical_curve(curve)
+    if ph is not None and base_excess_mmol_l is not None:
+        raise ValueError("give either ph or base_excess_mmol_l, not both")
+
+
+def _plain_float(v) -> float | None:
     """v as a finite float if it is one number (Python or numpy, or a 0-d array), else None."""
     if isinstance(v, np.ndarray):
         if v.ndim or v.dtype.kind not in "fiub":
@@ -259,197 +242,295 @@ def _plain_float(v):
     return v if math.isfinite(v) else None
 
 
-def _scalar_inputs(kw: dict):
-    """The chain inputs as floats, or None when any is an array, non-finite or out of range
-    (the vectorised path then handles the case and words any refusal)."""
-    out = {}
-    for name in (
-        (
-            "barometric_pressure_mmhg"
-            if kw["barometric_pressure_mmhg"] is not None
-            else "altitude_m",
-        )
-        + _INPUT_NAMES
-        + _OPTIONAL_NAMES
-    ):
-        raw = kw[name]
-        if raw is None:
-            out[name] = None
+def _pressure_input(given: dict) -> str:
+    """The input that gives the barometric pressure: the pressure itself, else the altitude."""
+    given_pb = given["barometric_pressure_mmhg"] is not None
+    return "barometric_pressure_mmhg" if given_pb else "altitude_m"
+
+
+def _float_case(given: dict) -> dict | None:
+    """The case and the constants as floats, or None when any input is an array, non-finite
+    or out of range (the vectorised path then handles the case and words any refusal)."""
+    case = {}
+    for name in (_pressure_input(given), *_INPUT_NAMES, *_OPTIONAL_NAMES, *_CONSTANTS):
+        if given[name] is None:
             continue
-        v = _plain_float(raw)
-        if v is None:
+        v = _plain_float(given[name])
+        if v is None or (name in INPUT_LIMITS and not _inside(name, v)):
             return None
-        lo, hi = INPUT_LIMITS[name][:2]
-        if not lo <= v <= hi:
-            return None
-        out[name] = v
-    for name in ("hufner_ml_g", "o2_solubility_ml_dl_mmhg", "tol"):
-        v = _plain_float(kw[name])
-        if v is None:
-            return None
-        out[name] = v
-    if out["cohb_fraction"] + out["methb_fraction"] >= 0.9:
+        case[name] = v
+    if case["cohb_fraction"] + case["methb_fraction"] >= MAX_COHB_PLUS_METHB:
         return None
-    return out
+    return case
 
 
-def _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, p, ph):
-    """:func:`_venous_co2` for floats."""
-    for _ in range(30):
-        ph = _ph_from_base_excess_scalar(be_ox, p, hb, svo2, ph)
-        f = _blood_co2_content(p, ph, svo2, hb, t) - cvco2
-        h = 1e-4 * p
-        ph2 = _ph_from_base_excess_scalar(be_ox, p + h, hb, svo2, ph)
-        df = (_blood_co2_content(p + h, ph2, svo2, hb, t) - cvco2 - f) / h
-        step = min(max(f / df, -0.5 * p), 40.0)
-        p = p - step
-        if not abs(step) > 1e-9:
-            break
-    return p, _ph_from_base_excess_scalar(be_ox, p, hb, svo2, ph)
+def _inside(name: str, v: float) -> bool:
+    lo, hi = INPUT_LIMITS[name][:2]
+    return lo <= v <= hi
 
 
-def _solve_scalar(x: dict, *, pressure_model, curve, vo2_temperature_scaling, max_iterations):
-    """:func:`solve_transport` for one case of floats (``x`` from :func:`_scalar_inputs`)."""
-    name = _canonical(curve)
-    hufner, sol = x["hufner_ml_g"], x["o2_solubility_ml_dl_mmhg"]
-    hb, t, q, qs = x["hb_g_dl"], x["temperature_c"], x["cardiac_output_l_min"], x["shunt_fraction"]
-    paco2, cohb, methb, rq = x["paco2_mmhg"], x["cohb_fraction"], x["methb_fraction"], x["rq"]
-    fio2, dpg, p50o = x["fio2"], x["dpg_mmol_l"], x["p50_mmhg"]
-    be_given = x["base_excess_mmol_l"]
-    if x.get("barometric_pressure_mmhg") is None:
-        pb = float(barometric_pressure(x["altitude_m"], model=pressure_model))
-    else:
+def _case_arrays(given: dict) -> tuple[dict, tuple[int, ...]]:
+    """The case validated (ValueError naming field, value, range and unit), broadcast and
+    flattened to 1-d arrays of one length, and the broadcast shape."""
+    names = [_pressure_input(given), *_INPUT_NAMES]
+    names += [n for n in _OPTIONAL_NAMES if given[n] is not None]
+    checked = [check_range(n, given[n]) for n in names]
+    joint = np.broadcast_arrays(*checked)
+    case = {n: np.array(v, dtype=float).ravel() for n, v in zip(names, joint)}
+    if np.any(case["cohb_fraction"] + case["methb_fraction"] >= MAX_COHB_PLUS_METHB):
+        raise ValueError(f"cohb_fraction + methb_fraction must stay below {MAX_COHB_PLUS_METHB:g}")
+    return case, joint[0].shape
+
+
+def _fixed_terms(
+    x: dict, *, pressure_model: str, vo2_temperature_scaling: bool, hufner_ml_g, m
+) -> dict:
+    """What stays the same in every pass: air, alveolar gas, capillary transit, Fick.
+
+    Raises ValueError when the inspired PO2 leaves no alveolar O2.
+    """
+    value = float if m is floats else np.asarray  # the air functions return numpy values
+    t, q, qs, hb = x["temperature_c"], x["cardiac_output_l_min"], x["shunt_fraction"], x["hb_g_dl"]
+    paco2, cohb, methb = x["paco2_mmhg"], x["cohb_fraction"], x["methb_fraction"]
+    if "barometric_pressure_mmhg" in x:
         pb = x["barometric_pressure_mmhg"]
+    else:
+        pb = value(barometric_pressure(x["altitude_m"], model=pressure_model))
     vo2 = (
-        x["vo2_ml_min"] * VO2_Q10_PER_C ** (t - 37.0)
+        value(vo2_at_temperature(x["vo2_ml_min"], t))
         if vo2_temperature_scaling
         else x["vo2_ml_min"]
     )
-    ph2o = float(water_vapour_pressure(t))
-    pio2 = float(inspired_po2(fio2, pb, t))
-    pao2_alv = float(alveolar_po2(fio2=fio2, pb_mmhg=pb, paco2_mmhg=paco2, rq=rq, temperature_c=t))
-    if not pao2_alv > 1.0:
-        return None
+    pao2_alv = value(
+        alveolar_po2(fio2=x["fio2"], pb_mmhg=pb, paco2_mmhg=paco2, rq=x["rq"], temperature_c=t)
+    )
+    if m.any(pao2_alv <= 1.0):
+        v = np.asarray(pao2_alv)[np.asarray(pao2_alv <= 1.0)].ravel()[0]
+        raise ValueError(
+            f"alveolar PO2 = {v:.1f} mmHg: the inspired PO2 leaves no alveolar O2 "
+            "at this PaCO2 (raise FiO2 or pressure, or lower PaCO2)"
+        )
     transit = x["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
-    d_av = vo2 / (10.0 * q)
-    k = x["diffusing_capacity_ml_min_mmhg"] / 60.0 / x["capillary_volume_ml"]
-    dt = transit / 24
-    carrying = 1.0 - cohb - methb
-    carrying_ml = hufner * hb * (1.0 - cohb - methb)
-    admix = qs / (1.0 - qs) * d_av
+    d_av = vo2 / (10.0 * q)  # arteriovenous O2 content difference [mL/dL]
+    return {
+        "pb": pb,
+        "ph2o": value(water_vapour_pressure(t)),
+        "pio2": value(inspired_po2(x["fio2"], pb, t)),
+        "vo2": vo2,
+        "pao2_alv": pao2_alv,
+        "fio2": x["fio2"],
+        "q": q,
+        "hb": hb,
+        "t": t,
+        "paco2": paco2,
+        "cohb": cohb,
+        "methb": methb,
+        "qs": qs,
+        "d_av": d_av,
+        "transit": transit,
+        "rq": x["rq"],
+        "k": x["diffusing_capacity_ml_min_mmhg"] / 60.0 / x["capillary_volume_ml"],
+        "dt": transit / 24,
+        "carry": 1.0 - cohb - methb,
+        "carry_ml": hufner_ml_g * hb * (1.0 - cohb - methb),
+        "admix": qs / (1.0 - qs) * d_av,
+        **{k: x[k] for k in _OPTIONAL_NAMES if k in x},
+    }
 
-    def curve_at(ph_, pco2_):
-        return prepare_scalar_curve(name, ph_, pco2_, t, dpg, cohb, methb, p50o)
 
-    ph_a = x["ph"] if x["ph"] is not None else 7.40
-    pv_o2 = min(0.4 * pao2_alv, 40.0)
-    pv_co2, sao2 = paco2 + 5.0, 0.97
-    ph_v = ph_a - 0.03
-    tol = x["tol"]
-    prev_in = math.nan
-    pa_o2 = None  # Newton starts: none on the first pass, then the last pass's values
+def _first_guess(f: dict, m) -> dict:
+    """Where the passes start: pH 7.40 unless given, PvO2 from the alveolar PO2, SaO2 0.97."""
+    one = m.ones_like(f["hb"])  # a new array per start value: the passes write into them
+    ph_a = one * f.get("ph", 7.40)
+    return {
+        "ph_a": ph_a,
+        "pv_o2": m.minimum(0.4 * f["pao2_alv"], 40.0),
+        "pv_co2": f["paco2"] + 5.0,
+        "sao2": one * 0.97,
+        "ph_v": ph_a - 0.03,
+    }
+
+
+def _take(d: dict, active) -> dict:
+    """The cases still moving (all of them for one case of floats, ``active`` None)."""
+    return d if active is None else {k: v[active] for k, v in d.items()}
+
+
+def _store(st: dict, active, new: dict) -> None:
+    """Write a pass's values back for the cases it moved."""
+    if active is None:
+        st.update(new)
+        return
+    n = st["pv_o2"].size
+    for k, v in new.items():
+        st.setdefault(k, np.full(n, np.nan))[active] = v
+
+
+def _converge(f: dict, *, curve: str, content_kw: dict, tol: float, max_iterations: int, m):
+    """Passes of :func:`_iterate` until the mixed venous PO2 moves by less than ``tol``
+    [mmHg], each case frozen once it settles; Aitken every second pass from the third.
+
+    Returns the state (values of the last pass) and the number of passes.
+    """
+    st = _first_guess(f, m)
+    active = None if m is floats else np.arange(f["hb"].size)
     iterations = 0
     for iterations in range(1, max_iterations + 1):
-        if be_given is not None:
-            ph_a = _ph_from_base_excess_scalar(be_given, paco2, hb, sao2, ph_a)
-        art = curve_at(ph_a, paco2)
-        pc = _end_capillary_po2_scalar(pao2_alv, pv_o2, hb, carrying, k, dt, art, hufner, sol)
-        sc = art.saturation(pc)
-        cc = _oxygen_content(hb, sc, pc, cohb, methb, hufner, sol)
-        cao2 = cc - admix
-        cvo2 = cao2 - d_av
-        if cvo2 <= 0.0:
-            return None
-        pa_o2 = _po2_from_content_scalar(cao2, carrying_ml, sol, art, pa_o2)
-        sao2 = art.saturation(pa_o2)
-        be_ox = _base_excess(ph_a, paco2, hb, sao2)
-        caco2 = _blood_co2_content(paco2, ph_a, sao2, hb, t)
-        cvco2 = caco2 + rq * d_av
-        ven = curve_at(ph_v, pv_co2)
-        new_pv_o2 = _po2_from_content_scalar(
-            cvo2, carrying_ml, sol, ven, None if iterations == 1 else pv_o2
-        )
-        svo2 = ven.saturation(new_pv_o2)
-        pv_co2, ph_v = _venous_co2_scalar(cvco2, be_ox, svo2, hb, t, max(pv_co2, 1.0), ph_v)
-        change = abs(new_pv_o2 - pv_o2)
-        if not change > tol:
-            pv_o2 = new_pv_o2
-            break
+        now = _take(st, active)
+        new = _iterate(_take(f, active), now, curve=curve, content_kw=content_kw, m=m)
+        x_in = now["pv_o2"]
+        moving = abs(new["pv_o2"] - x_in) > tol
         if iterations >= 3 and iterations % 2:
-            prev_in, pv_o2 = pv_o2, _aitken_scalar(prev_in, pv_o2, new_pv_o2)
-        else:
-            prev_in, pv_o2 = pv_o2, new_pv_o2
-    ven = curve_at(ph_v, pv_co2)
-    pv_o2 = _po2_from_content_scalar(cvo2, carrying_ml, sol, ven)
+            extrapolated = _aitken(now["pv_o2_before"], x_in, new["pv_o2"], m)
+            new["pv_o2"] = m.where(moving, extrapolated, new["pv_o2"])
+        new["pv_o2_before"] = x_in
+        _store(st, active, new)
+        if not m.any(moving):
+            break
+        if active is not None:
+            active = active[moving]
+    return st, iterations
+
+
+def _blood(f: dict, st: dict, *, curve: str, content_kw: dict, m) -> dict:
+    """Arterial and mixed venous blood at the converged state; the venous PO2 solved once
+    more from its content on the final venous curve."""
+    hufner, sol = content_kw["hufner_ml_g"], content_kw["o2_solubility_ml_dl_mmhg"]
+    hb, t, paco2, cohb, methb = f["hb"], f["t"], f["paco2"], f["cohb"], f["methb"]
+    dpg, p50o = f.get("dpg_mmol_l"), f.get("p50_mmhg")
+    ph_a, ph_v, pv_co2, sao2 = st["ph_a"], st["ph_v"], st["pv_co2"], st["sao2"]
+    art_kw = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
+    ven_kw = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
+    art, ven = _prepare_curve(m, **art_kw), _prepare_curve(m, **ven_kw)
+    pv_o2 = _po2_from_content(st["cvo2"], f["carry_ml"], sol, ven)
     svo2 = ven.saturation(pv_o2)
-    art = curve_at(ph_a, paco2)
-    c_art_curve = _oxygen_content(hb, art.saturation(pv_o2), pv_o2, cohb, methb, hufner, sol)
-
-    def arr(v):
-        return np.array(v, dtype=float)
-
-    def cond(ph_, pco2_):
-        return _curve_kw(
-            arr(ph_),
-            arr(pco2_),
-            arr(t),
-            None if dpg is None else arr(dpg),
-            arr(cohb),
-            arr(methb),
-            None if p50o is None else arr(p50o),
-            curve,
-        )
-
-    arterial = BloodState(
-        arr(pa_o2),
-        arr(sao2),
-        arr(cao2),
-        np.float64(art.inverse(0.5)),
-        arr(ph_a),
-        arr(paco2),
-        arr(caco2),
-        np.float64(_base_excess(ph_a, paco2, hb, sao2)),
-    )
-    venous = BloodState(
-        arr(pv_o2),
-        np.float64(svo2),
-        arr(cvo2),
-        np.float64(ven.inverse(0.5)),
-        arr(ph_v),
-        arr(pv_co2),
-        arr(cvco2),
-        np.float64(_base_excess(ph_v, pv_co2, hb, svo2)),
-    )
-    fields = {
-        "barometric_pressure_mmhg": pb,
-        "water_vapour_pressure_mmhg": ph2o,
-        "inspired_po2_mmhg": pio2,
-        "alveolar_po2_mmhg": pao2_alv,
-        "end_capillary_po2_mmhg": pc,
-        "end_capillary_so2": sc,
-        "end_capillary_o2_content_ml_dl": cc,
-        "capillary_transit_time_s": transit,
-        "aa_gradient_mmhg": pao2_alv - pa_o2,
-        "shunt_fraction": qs,
-        "fio2": fio2,
-        "cardiac_output_l_min": q,
-        "hb_g_dl": hb,
-        "temperature_c": t,
-        "do2_ml_min": 10.0 * q * cao2,
-        "vo2_ml_min": vo2,
-        "extraction_ratio": (cao2 - cvo2) / cao2,
-        "o2_extracted_ml_per_l": 10.0 * (cao2 - cvo2),
-        "venous_shift_gain_ml_per_l": 10.0 * (c_art_curve - cvo2),
+    return {
+        "arterial": {
+            "po2_mmhg": st["pa_o2"],
+            "so2": sao2,
+            "o2_content_ml_dl": st["cao2"],
+            "p50_mmhg": art.inverse(0.5),
+            "ph": ph_a,
+            "pco2_mmhg": paco2,
+            "co2_content_ml_dl": st["caco2"],
+            "base_excess_mmol_l": _base_excess(ph_a, paco2, hb, sao2),
+        },
+        "venous": {
+            "po2_mmhg": pv_o2,
+            "so2": svo2,
+            "o2_content_ml_dl": st["cvo2"],
+            "p50_mmhg": ven.inverse(0.5),
+            "ph": ph_v,
+            "pco2_mmhg": pv_co2,
+            "co2_content_ml_dl": st["cvco2"],
+            "base_excess_mmol_l": _base_excess(ph_v, pv_co2, hb, svo2),
+        },
+        # O2 the venous blood would hold at its PO2 on the arterial curve
+        "c_art_curve": _oxygen_content(hb, art.saturation(pv_o2), pv_o2, cohb, methb, hufner, sol),
+        "arterial_conditions": art_kw,
+        "venous_conditions": ven_kw,
     }
-    fields = {f: (np.float64(v) if f in _FLOAT64_FIELDS else arr(v)) for f, v in fields.items()}
+
+
+def _result(f: dict, st: dict, blood: dict, iterations: int, out) -> TransportResult:
+    """The :class:`TransportResult`, every value passed through ``out`` (float or array ->
+    the returned numpy type and shape)."""
+    cao2, cvo2 = st["cao2"], st["cvo2"]
+    fields = {
+        "barometric_pressure_mmhg": f["pb"],
+        "water_vapour_pressure_mmhg": f["ph2o"],
+        "inspired_po2_mmhg": f["pio2"],
+        "alveolar_po2_mmhg": f["pao2_alv"],
+        "end_capillary_po2_mmhg": st["pc"],
+        "end_capillary_so2": st["sc"],
+        "end_capillary_o2_content_ml_dl": st["cc"],
+        "capillary_transit_time_s": f["transit"],
+        "aa_gradient_mmhg": aa_gradient(f["pao2_alv"], st["pa_o2"]),
+        "shunt_fraction": f["qs"],
+        "fio2": f["fio2"],
+        "cardiac_output_l_min": f["q"],
+        "hb_g_dl": f["hb"],
+        "temperature_c": f["t"],
+        "do2_ml_min": oxygen_delivery(f["q"], cao2),
+        "vo2_ml_min": f["vo2"],
+        "extraction_ratio": extraction_ratio(cao2, cvo2),
+        "o2_extracted_ml_per_l": 10.0 * (cao2 - cvo2),
+        "venous_shift_gain_ml_per_l": 10.0 * (blood["c_art_curve"] - cvo2),
+    }
+
+    def conditions(kw: dict) -> dict:
+        return {k: v if v is None or isinstance(v, str) else out(k, v) for k, v in kw.items()}
+
     return TransportResult(
-        **fields,
-        arterial=arterial,
-        venous=venous,
+        **{k: out(k, v) for k, v in fields.items()},
+        arterial=BloodState(**{k: out(("arterial", k), v) for k, v in blood["arterial"].items()}),
+        venous=BloodState(**{k: out(("venous", k), v) for k, v in blood["venous"].items()}),
         iterations=iterations,
-        arterial_conditions=cond(ph_a, paco2),
-        venous_conditions=cond(ph_v, pv_co2),
+        arterial_conditions=conditions(blood["arterial_conditions"]),
+        venous_conditions=conditions(blood["venous_conditions"]),
     )
+
+
+def _float_out(name, v):
+    """A value of one case of floats as :class:`TransportResult` holds it."""
+    if name in _FLOAT64_FIELDS or (isinstance(name, tuple) and name[1] in _FLOAT64_BLOOD[name[0]]):
+        return np.float64(v)
+    return np.array(v, dtype=float)
+
+
+def _solve(
+    x: dict,
+    *,
+    m,
+    out,
+    pressure_model,
+    curve,
+    vo2_temperature_scaling,
+    content_kw,
+    tol,
+    max_iterations,
+) -> TransportResult:
+    """The chain on one case of floats or on 1-d arrays: its steps in order."""
+    f = _fixed_terms(
+        x,
+        pressure_model=pressure_model,
+        vo2_temperature_scaling=vo2_temperature_scaling,
+        hufner_ml_g=content_kw["hufner_ml_g"],
+        m=m,
+    )
+    st, iterations = _converge(
+        f, curve=curve, content_kw=content_kw, tol=tol, max_iterations=max_iterations, m=m
+    )
+    blood = _blood(f, st, curve=curve, content_kw=content_kw, m=m)
+    return _result(f, st, blood, iterations, out)
+
+
+def _on_floats(given: dict, options: dict) -> TransportResult | None:
+    """The chain on one case of plain numbers (``m`` = :mod:`model.floats`), or None where
+    that does not serve: an input that is an array, NaN or out of range, a refusal, or
+    arithmetic that numpy would take to inf or NaN (the array path then words the message)."""
+    case = _float_case(given)
+    if case is None:
+        return None
+    content_kw = {k: case[k] for k in _CONTENT_CONSTANTS}
+    try:
+        return _solve(
+            case, m=floats, out=_float_out, content_kw=content_kw, tol=case["tol"], **options
+        )
+    except (ValueError, OverflowError, ZeroDivisionError):
+        return None
+
+
+def _on_arrays(given: dict, options: dict) -> TransportResult:
+    """The chain vectorised over the broadcast inputs; every result has their shape."""
+    case, shape = _case_arrays(given)
+    n = case["fio2"].size
+
+    def shaped(_name, v):
+        return np.array(np.broadcast_to(v, (n,)), dtype=float).reshape(shape)
+
+    content_kw = {k: given[k] for k in _CONTENT_CONSTANTS}
+    return _solve(case, m=np, out=shaped, content_kw=content_kw, tol=given["tol"], **options)
 
 
 def solve_transport(
@@ -541,8 +622,9 @@ def solve_transport(
     -----
     pH and PCO2 are taken as measured at body temperature. Resting check (Hb 15, Q 5,
     VO2 250, sea level): DO2 about 1000 mL/min, SvO2 about 0.75, PvO2 about 40 mmHg.
-    One case of plain numbers runs the same steps on floats (about 1 ms instead of tens
-    of ms through numpy); arrays, NaN and refusals take the vectorised path.
+    One case of plain numbers runs the same stage functions on floats (``m`` =
+    :mod:`model.floats` instead of numpy: about 1 ms instead of tens of ms through numpy);
+    arrays, NaN and refusals take the vectorised path.
 
     Examples
     --------
@@ -550,151 +632,27 @@ def solve_transport(
     >>> 950 < float(r.do2_ml_min) < 1050 and 0.70 < float(r.venous.so2) < 0.80
     True
     """
-    if pressure_model not in PRESSURE_MODELS:
-        raise ValueError(
-            f"pressure_model {pressure_model!r} is unknown; choose one of {PRESSURE_MODELS}"
-        )
-    _canonical(curve)
-    if ph is not None and base_excess_mmol_l is not None:
-        raise ValueError("give either ph or base_excess_mmol_l, not both")
-    given = locals()
-    x = _scalar_inputs(given) if max_iterations >= 1 else None
-    if x is not None:
-        try:
-            r = _solve_scalar(
-                x,
-                pressure_model=pressure_model,
-                curve=curve,
-                vo2_temperature_scaling=vo2_temperature_scaling,
-                max_iterations=max_iterations,
-            )
-        except (ValueError, OverflowError, ZeroDivisionError):
-            r = None  # refused or degenerate: the vectorised path words the message
-        if r is not None:
-            return r
-    if barometric_pressure_mmhg is None:
-        pb = barometric_pressure(check_range("altitude_m", altitude_m), model=pressure_model)
-    else:
-        pb = check_range("barometric_pressure_mmhg", barometric_pressure_mmhg)
-    arrs = {n: check_range(n, given[n]) for n in _INPUT_NAMES}
-    for n in _OPTIONAL_NAMES:
-        if given[n] is not None:
-            arrs[n] = check_range(n, given[n])
-    keys = list(arrs)
-    bcast = np.broadcast_arrays(pb, *arrs.values())
-    pb = bcast[0]
-    a = dict(zip(keys, bcast[1:]))
-    if np.any(a["cohb_fraction"] + a["methb_fraction"] >= 0.9):
-        raise ValueError("cohb_fraction + methb_fraction must stay below 0.9")
-    dpg = a.get("dpg_mmol_l")
-    p50o = a.get("p50_mmhg")
-    hb, t, q, qs = a["hb_g_dl"], a["temperature_c"], a["cardiac_output_l_min"], a["shunt_fraction"]
-    paco2, cohb, methb = a["paco2_mmhg"], a["cohb_fraction"], a["methb_fraction"]
-    vo2 = vo2_at_temperature(a["vo2_ml_min"], t) if vo2_temperature_scaling else a["vo2_ml_min"]
-    content_kw = {"hufner_ml_g": hufner_ml_g, "o2_solubility_ml_dl_mmhg": o2_solubility_ml_dl_mmhg}
-
-    ph2o = water_vapour_pressure(t)
-    pio2 = inspired_po2(a["fio2"], pb, t)
-    pao2_alv = alveolar_po2(
-        fio2=a["fio2"], pb_mmhg=pb, paco2_mmhg=paco2, rq=a["rq"], temperature_c=t
-    )
-    if np.any(pao2_alv <= 1.0):
-        v = pao2_alv[pao2_alv <= 1.0].ravel()[0]
-        raise ValueError(
-            f"alveolar PO2 = {v:.1f} mmHg: the inspired PO2 leaves no alveolar O2 "
-            "at this PaCO2 (raise FiO2 or pressure, or lower PaCO2)"
-        )
-    transit = a["capillary_volume_ml"] / ((1.0 - qs) * q * 1000.0 / 60.0)
-    d_av = vo2 / (10.0 * q)  # arteriovenous O2 content difference [mL/dL]
-
-    shape = pb.shape
-    flat = {
-        k: np.array(v, dtype=float).ravel()
-        for k, v in {
-            "pao2_alv": pao2_alv,
-            "hb": hb,
-            "t": t,
-            "paco2": paco2,
-            "cohb": cohb,
-            "methb": methb,
-            "qs": qs,
-            "d_av": d_av,
-            "transit": transit,
-            "rq": a["rq"],
-            "k": a["diffusing_capacity_ml_min_mmhg"] / 60.0 / a["capillary_volume_ml"],
-            "dt": transit / 24,
-            "carry": 1.0 - cohb - methb,
-            "carry_ml": hufner_ml_g * hb * (1.0 - cohb - methb),
-            "admix": qs / (1.0 - qs) * d_av,
-            **{k: a[k] for k in ("ph", "base_excess_mmol_l", "dpg_mmol_l", "p50_mmhg") if k in a},
-        }.items()
+    given = dict(locals())
+    _check_options(pressure_model, curve, ph, base_excess_mmol_l)
+    options = {
+        "pressure_model": pressure_model,
+        "curve": curve,
+        "vo2_temperature_scaling": vo2_temperature_scaling,
+        "max_iterations": max_iterations,
     }
-    fixed = {"curve": curve, "content_kw": content_kw}
-    st = {
-        "ph_a": flat["ph"].copy() if "ph" in flat else np.full(flat["hb"].shape, 7.40),
-        "pv_o2": np.minimum(0.4 * flat["pao2_alv"], 40.0),
-        "pv_co2": flat["paco2"] + 5.0,
-        "sao2": np.full(flat["hb"].shape, 0.97),
-    }
-    st["ph_v"] = st["ph_a"] - 0.03
-    active = np.arange(flat["hb"].size)
-    prev_in = np.full(flat["hb"].shape, np.nan)
-    iterations = 0
-    for iterations in range(1, max_iterations + 1):
-        sub = {k: v[active] for k, v in flat.items()}
-        new = _iterate(sub, {k: v[active] for k, v in st.items()}, **fixed)
-        x_in = st["pv_o2"][active]
-        change = np.abs(new["pv_o2"] - x_in)
-        for k, v in new.items():
-            st.setdefault(k, np.full(flat["hb"].shape, np.nan))[active] = v
-        moving = change > tol
-        if iterations >= 3 and iterations % 2:
-            st["pv_o2"][active[moving]] = _aitken(prev_in[active], x_in, new["pv_o2"])[moving]
-        prev_in[active] = x_in
-        active = active[moving]
-        if active.size == 0:
-            break
-    st = {k: v.reshape(shape) for k, v in st.items()}
-    ph_a, pa_o2, sao2, cao2, cvo2 = st["ph_a"], st["pa_o2"], st["sao2"], st["cao2"], st["cvo2"]
-    pc, sc, cc, caco2, cvco2 = st["pc"], st["sc"], st["cc"], st["caco2"], st["cvco2"]
-    ph_v, pv_co2 = st["ph_v"], st["pv_co2"]
-    ven = _curve_kw(ph_v, pv_co2, t, dpg, cohb, methb, p50o, curve)
-    pv_o2 = po2_from_content(cvo2, hb, **content_kw, **ven)
-    svo2 = saturation(pv_o2, **ven)
-    art = _curve_kw(ph_a, paco2, t, dpg, cohb, methb, p50o, curve)
-    c_art_curve = oxygen_content(
-        hb, saturation(pv_o2, **art), pv_o2, cohb_fraction=cohb, methb_fraction=methb, **content_kw
-    )
+    result = _on_floats(given, options) if max_iterations >= 1 else None
+    return _on_arrays(given, options) if result is None else result
 
-    arterial = BloodState(
-        pa_o2, sao2, cao2, p50(**art), ph_a, paco2, caco2, base_excess(ph_a, paco2, hb, sao2)
-    )
-    venous = BloodState(
-        pv_o2, svo2, cvo2, p50(**ven), ph_v, pv_co2, cvco2, base_excess(ph_v, pv_co2, hb, svo2)
-    )
-    return TransportResult(
-        barometric_pressure_mmhg=pb,
-        water_vapour_pressure_mmhg=ph2o,
-        inspired_po2_mmhg=pio2,
-        alveolar_po2_mmhg=pao2_alv,
-        end_capillary_po2_mmhg=pc,
-        end_capillary_so2=sc,
-        end_capillary_o2_content_ml_dl=cc,
-        capillary_transit_time_s=transit,
-        arterial=arterial,
-        venous=venous,
-        aa_gradient_mmhg=aa_gradient(pao2_alv, pa_o2),
-        shunt_fraction=qs,
-        fio2=a["fio2"],
-        cardiac_output_l_min=q,
-        hb_g_dl=hb,
-        temperature_c=t,
-        do2_ml_min=oxygen_delivery(q, cao2),
-        vo2_ml_min=vo2,
-        extraction_ratio=(cao2 - cvo2) / cao2,
-        o2_extracted_ml_per_l=10.0 * (cao2 - cvo2),
-        venous_shift_gain_ml_per_l=10.0 * (c_art_curve - cvo2),
-        iterations=iterations,
-        arterial_conditions=art,
-        venous_conditions=ven,
-    )
+
+_PARAMETERS = inspect.signature(solve_transport).parameters
+CASE_INPUTS: tuple[str, ...] = tuple(
+    name for name in _PARAMETERS if name in INPUT_LIMITS or name in INPUT_CHOICES
+)
+"""The keywords of :func:`solve_transport` that describe a case, in its order: the numbers of
+:data:`model.limits.INPUT_LIMITS` and the choices of :data:`model.limits.INPUT_CHOICES`. The
+other keywords (``hufner_ml_g``, ``o2_solubility_ml_dl_mmhg``, ``tol``, ``max_iterations``)
+are settings of the equations and of the solver."""
+_PRESSURE_INPUTS = ("altitude_m", "barometric_pressure_mmhg")  # one of the two gives PB
+_NUMBER_INPUTS = tuple(n for n in CASE_INPUTS if n in INPUT_LIMITS and n not in _PRESSURE_INPUTS)
+_INPUT_NAMES = tuple(n for n in _NUMBER_INPUTS if _PARAMETERS[n].default is not None)
+_OPTIONAL_NAMES = tuple(n for n in _NUMBER_INPUTS if _PARAMETERS[n].default is None)

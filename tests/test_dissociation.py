@@ -9,7 +9,17 @@ import numpy as np
 import pytest
 from hypothesis import example, given
 from hypothesis import strategies as st
-from o2transit.model import CURVES, NORMAL_DPG_MMOL_L, p50, po2_from_saturation, saturation
+from o2transit.model import (
+    CURVE_ALIASES,
+    CURVES,
+    NORMAL_DPG_MMOL_L,
+    SHORT_NAMES,
+    STANDARD_P50_MMHG,
+    canonical_curve,
+    p50,
+    po2_from_saturation,
+    saturation,
+)
 from properties import budget
 
 DATA = Path(__file__).parent / "data"
@@ -191,6 +201,17 @@ def test_aliases_match_canonical_names():
 
 def test_curves_tuple_lists_all_models():
     assert set(MODELS) <= set(CURVES)
+
+
+def test_one_alias_table_both_ways():
+    # Short names and canonical names come from one table; every accepted name resolves.
+    assert {v: k for k, v in SHORT_NAMES.items()} == CURVE_ALIASES
+    assert set(CURVES) == set(CURVE_ALIASES) | set(STANDARD_P50_MMHG)
+    for name in CURVES:
+        assert canonical_curve(name) in STANDARD_P50_MMHG
+    assert canonical_curve("hill") == "hill1910"
+    with pytest.raises(ValueError, match="curve 'kelman' is unknown"):
+        canonical_curve("kelman")
 
 
 def test_kelman_virtual_po2_ph_shift_severinghaus():

@@ -5,22 +5,33 @@ from __future__ import annotations
 import dataclasses
 import inspect
 import json
+from unittest import mock
 
 import numpy as np
 import pytest
-from hypothesis import given
+from hypothesis import assume, given
 from hypothesis import strategies as st
 from o2transit.model import (
+    CASE_INPUTS,
+    CURVES,
+    HUFNER_ML_G,
+    INPUT_CHOICES,
     INPUT_LIMITS,
+    O2_SOLUBILITY_ML_DL_MMHG,
+    PRESSURE_MODELS,
+    barometric_pressure,
     body_surface_area,
     extraction_ratio,
+    inspired_po2,
     oxygen_content,
     oxygen_delivery,
     saturation,
     solve_transport,
+    transport,
     venous_content_fick,
     vo2_at_temperature,
 )
+from o2transit.model.limits import MAX_COHB_PLUS_METHB
 from properties import budget
 
 FAST = budget(60)
@@ -194,7 +205,8 @@ def test_nan_propagates():
     )
 
 
-_SOLVER_LIMITS = sorted(k for k in INPUT_LIMITS if k in SOLVER_KEYS)
+_SOLVER_LIMITS = sorted(k for k in CASE_INPUTS if k in INPUT_LIMITS)
+_SETTINGS = {"hufner_ml_g", "o2_solubility_ml_dl_mmhg", "tol", "max_iterations"}
 
 
 def test_limits_cover_solver_inputs():
@@ -219,6 +231,16 @@ def test_limits_cover_solver_inputs():
         "vo2_ml_min",
     }
     assert numeric <= set(_SOLVER_LIMITS)
+
+
+def test_every_solver_keyword_is_a_case_input_or_a_setting():
+    # A new keyword of solve_transport needs a range in INPUT_LIMITS or choices in
+    # INPUT_CHOICES to count as a case input (scenario files, page address, case files).
+    assert SOLVER_KEYS - _SETTINGS == set(CASE_INPUTS)
+    assert set(CASE_INPUTS) == (set(INPUT_LIMITS) | set(INPUT_CHOICES)) & SOLVER_KEYS
+    assert list(CASE_INPUTS) == [
+        k for k in inspect.signature(solve_transport).parameters if k in CASE_INPUTS
+    ]
 
 
 @pytest.mark.parametrize("name", _SOLVER_LIMITS)
@@ -425,3 +447,85 @@ def test_float_path_options_match_array_path(kw):
     assert one.iterations == arr.iterations
     for name, value in _leaves(one.to_dict()):
         assert value == pytest.approx(dict(_leaves(arr.to_dict()))[name][0], rel=1e-9, abs=1e-9)
+
+
+def _limit(name: str):
+    lo, hi = INPUT_LIMITS[name][:2]
+    return st.floats(lo, hi)
+
+
+@st.composite
+def _valid_cases(draw) -> dict:
+    """Any case within INPUT_LIMITS and INPUT_CHOICES that the chain may solve.
+
+    PaCO2 and VO2 are drawn below the bounds beyond which no case can be solved (the
+    alveolar gas equation leaves PAO2 <= 1 mmHg; VO2 above the O2 that Q could carry at full
+    saturation plus the dissolved O2 at the inspired PO2), so that most examples solve; the
+    refusals near those bounds are still drawn.
+    """
+    case = {
+        "pressure_model": draw(st.sampled_from(PRESSURE_MODELS)),
+        "curve": draw(st.sampled_from(CURVES)),
+        "vo2_temperature_scaling": draw(st.booleans()),
+    }
+    later = {"paco2_mmhg", "vo2_ml_min", "cohb_fraction", "methb_fraction"}
+    defaults = {k: p.default for k, p in inspect.signature(solve_transport).parameters.items()}
+    always = [k for k in _SOLVER_LIMITS if defaults[k] is not None]
+    for name in sorted(set(always) - later - {"altitude_m"}):
+        case[name] = draw(_limit(name))
+    case["cohb_fraction"] = draw(_limit("cohb_fraction"))
+    case["methb_fraction"] = draw(_limit("methb_fraction"))
+    assume(case["cohb_fraction"] + case["methb_fraction"] < MAX_COHB_PLUS_METHB)
+    pressure = draw(st.sampled_from(["altitude_m", "barometric_pressure_mmhg"]))
+    case[pressure] = draw(_limit(pressure))
+    pb = case.get("barometric_pressure_mmhg")
+    if pb is None:
+        pb = float(barometric_pressure(case["altitude_m"], model=case["pressure_model"]))
+    fio2, t = case["fio2"], case["temperature_c"]
+    pio2 = float(inspired_po2(fio2, pb, t))
+    lo, hi = INPUT_LIMITS["paco2_mmhg"][:2]
+    paco2_max = (pio2 - 1.0) / (fio2 + (1.0 - fio2) / case["rq"])
+    case["paco2_mmhg"] = draw(st.floats(lo, min(hi, paco2_max) if paco2_max > lo else hi))
+    carry = 1.0 - case["cohb_fraction"] - case["methb_fraction"]
+    content_max = HUFNER_ML_G * case["hb_g_dl"] * carry + O2_SOLUBILITY_ML_DL_MMHG * pio2
+    vo2_max = 10.0 * case["cardiac_output_l_min"] * content_max
+    if case["vo2_temperature_scaling"]:
+        vo2_max /= float(vo2_at_temperature(1.0, t))
+    lo, hi = INPUT_LIMITS["vo2_ml_min"][:2]
+    case["vo2_ml_min"] = draw(st.floats(lo, min(hi, vo2_max) if vo2_max > lo else hi))
+    acid_base = draw(st.sampled_from(["ph", "base_excess_mmol_l", None]))
+    if acid_base is not None:
+        case[acid_base] = draw(_limit(acid_base))
+    for name in ("dpg_mmol_l", "p50_mmhg"):
+        if draw(st.booleans()):
+            case[name] = draw(_limit(name))
+    return case
+
+
+def _on_floats_only(case: dict):
+    """solve_transport of one case of floats, failing if it leaves the float path."""
+    left = AssertionError("the case of floats left the float path for the array path")
+    with mock.patch.object(transport, "_case_arrays", side_effect=left):
+        return solve_transport(**case)
+
+
+@budget(60)
+@given(case=_valid_cases())
+def test_float_path_agrees_with_array_path_everywhere(case):
+    # The same stage functions on floats (model.floats) and on 1-element arrays (numpy): the
+    # same answer to 1e-9 relative (abs 1e-9 for values near zero: rounding carried through
+    # the Newton solves; regression, not physiology), the same refusal, and a case the array
+    # path solves never falls off the float path.
+    as_array = {k: (v if isinstance(v, (str, bool)) else np.array([v])) for k, v in case.items()}
+    try:
+        arr = solve_transport(**as_array)
+    except ValueError as exc:
+        with pytest.raises(ValueError) as one:
+            solve_transport(**case)
+        assert str(one.value) == str(exc)
+        return
+    one = _on_floats_only(case)
+    assert one.iterations == arr.iterations
+    arr_leaves = dict(_leaves(arr.to_dict()))
+    for name, value in _leaves(one.to_dict()):
+        assert value == pytest.approx(arr_leaves[name][0], rel=1e-9, abs=1e-9), name
