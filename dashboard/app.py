@@ -2,7 +2,8 @@
 
 Each screen lives in its own subpackage (``case``, ``bedside``, ``ascent``, ``lecture``), with its
 state and its views; ``look`` holds the palette and caution, ``widgets`` the shared figure frames,
-``urlstate`` the page address, ``nav`` the header links and ``offline`` the exported pages.
+``urlstate`` the page address, ``nav`` the header links, ``offline`` the exported pages and
+``responsive`` what makes a screen answer a change within a frame or two.
 """
 
 from __future__ import annotations
@@ -13,9 +14,12 @@ import socket
 
 import panel as pn
 
+from . import responsive
 from .case.app import TITLE, create_app
 
 __all__ = ["SCREENS", "TITLE", "PortBusyError", "create_app", "serve"]
+
+responsive.install()  # MathJax only for pages with mathematics (none of ours)
 
 
 def create_ascent_page() -> pn.template.BootstrapTemplate:
@@ -119,5 +123,5 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
         show=show,
         title=TITLE,
         websocket_origin=websocket_origins(address, port),
-        **kwargs,
+        **{**responsive.SERVER_OPTIONS, **kwargs},
     )

@@ -6,7 +6,8 @@ read too), plus the display choices ``pressure_unit`` and ``hb_unit``. On load e
 checked on its own: a refused value falls back to its default and a visible message names the
 field, the value, the allowed range and the unit; the valid ones are applied together through
 :meth:`CaseState.apply_inputs`. On every change the address is rewritten (only values that
-differ from the defaults), so the page can be bookmarked or shared at any moment.
+differ from the defaults), once, shortly after the last of a burst of changes
+(:class:`dashboard.responsive.Quiet`), so the page can be bookmarked or shared at any moment.
 
 The pure half (:func:`case_query`, :func:`check_case_query`, :func:`parse_query_string`,
 :func:`case_link`) has no Panel in it and is tested alone; :func:`bind_url` wires it to a served page, and
@@ -26,6 +27,7 @@ import param
 
 from ..model.units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
 from .case.state import CASE_INPUTS, CURVE_LABELS, CaseState
+from .responsive import Quiet
 
 DISPLAY_KEYS = ("pressure_unit", "hb_unit")
 # Mode switches: apply_inputs infers them from which keys are given, so the address leaves
@@ -291,8 +293,10 @@ def bind_url(state: CaseState, template=None, other_keys: Iterable[str] = ()) ->
     def sync(*_events) -> None:
         write_query(case_query(state), owned)
 
+    later = Quiet(sync)  # written once, shortly after the last change of a burst
+
     def changed(*events) -> None:
-        sync()
+        later()
         if pane.visible:
             pane.visible = False
 

@@ -5,7 +5,10 @@ A schedule (``scenarios/ascents/*.toml``) is a person's sea-level baseline and o
 day: the sleeping altitude, optionally the highest altitude reached that day and the FiO2
 breathed (or a nasal-cannula O2 flow). :func:`run_ascent` steps the acclimatization state of
 :mod:`model.acclimatization` night by night and solves the whole chain
-(:func:`model.solve_transport`) for all nights and high points in one vectorised call.
+(:func:`model.solve_transport`) for all nights, the edges of the predicted SpO2 band and the
+high points in one vectorised call; pressures come from the schedule's own pressure model
+(``mountain`` by default) and the record says which. :func:`forecast_points` gives the
+forecast for an oximeter reading on a given day and altitude, with a person's offset.
 """
 
 from __future__ import annotations
@@ -19,18 +22,22 @@ from pathlib import Path
 import numpy as np
 
 from .acclimatization import (
+    VENTILATION_SD_MMHG,
     acclimatization_step,
-    acute_paco2,
     baseline_state,
     cardiac_output,
+    dpg_p50_ratio,
     equivalent_altitude,
     fio2_from_flow,
+    high_point_paco2,
     ph_henderson_hasselbalch,
+    respiratory_exchange_ratio,
 )
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2
+from .dissociation import NORMAL_DPG_MMOL_L, p50
 from .limits import INPUT_LIMITS
 from .scenario import ScenarioError, read_toml
-from .transport import solve_transport
+from .transport import TransportResult, solve_transport
 
 GUIDANCE_ALTITUDE_M = 3000.0
 """Sleeping altitude above which the ascent-rate rules apply [m] (Luks et al. 2019/2024)."""
@@ -110,6 +117,10 @@ class AscentResult:
 
     ``night`` and ``high`` are :class:`model.TransportResult` for the nights and the high
     points; ``flags`` one list of plain-language notes per day; ``summary`` a dict.
+    ``sao2_low`` and ``sao2_high`` are the edges of the predicted band of a resting reading
+    at the sleeping altitude (:data:`BAND_Z` SDs of the person offset, see
+    :func:`run_ascent`); ``standard_p50_mmhg`` the night's standard P50 with its 2,3-DPG;
+    ``rq`` the exchange ratio used in the alveolar gas equation.
     """
 
     profile: AscentProfile
@@ -117,12 +128,19 @@ class AscentResult:
     high_altitude_m: np.ndarray
     fio2: np.ndarray
     equivalent_altitude_m: np.ndarray
-    night: object
-    high: object
+    night: TransportResult
+    high: TransportResult
     dpg_mmol_l: np.ndarray
     hco3_mmol_l: np.ndarray
     flags: list
     summary: dict
+    sao2_low: np.ndarray
+    sao2_high: np.ndarray
+    standard_p50_mmhg: np.ndarray
+    rq: np.ndarray
+    person_offset_mmhg: float = 0.0
+    offset_sd_mmhg: float = VENTILATION_SD_MMHG
+    reading_sd_pct: float = 0.0
 
     def to_dict(self) -> dict:
         """JSON-ready record: ``name``, ``days`` (one dict per day) and ``summary``."""
@@ -144,12 +162,16 @@ class AscentResult:
                     "pao2_mmhg": float(n.arterial.po2_mmhg[i]),
                     "alveolar_po2_mmhg": float(n.alveolar_po2_mmhg[i]),
                     "sao2": float(n.arterial.so2[i]),
+                    "sao2_low": float(self.sao2_low[i]),
+                    "sao2_high": float(self.sao2_high[i]),
                     "hb_g_dl": float(n.hb_g_dl[i]),
                     "cao2_ml_dl": float(n.arterial.o2_content_ml_dl[i]),
                     "do2_ml_min": float(n.do2_ml_min[i]),
                     "pvo2_mmhg": float(n.venous.po2_mmhg[i]),
                     "svo2": float(n.venous.so2[i]),
                     "dpg_mmol_l": float(self.dpg_mmol_l[i]),
+                    "standard_p50_mmhg": float(self.standard_p50_mmhg[i]),
+                    "rq": float(self.rq[i]),
                     "high_point": {
                         "barometric_pressure_mmhg": float(h.barometric_pressure_mmhg[i]),
                         "paco2_mmhg": float(h.arterial.pco2_mmhg[i]),
@@ -165,6 +187,13 @@ class AscentResult:
         return {
             "name": self.profile.name,
             "file": self.profile.path,
+            "pressure_model": self.profile.baseline.pressure_model,
+            "band": {
+                "person_offset_mmhg": self.person_offset_mmhg,
+                "offset_sd_mmhg": self.offset_sd_mmhg,
+                "reading_sd_pct": self.reading_sd_pct,
+                "z": BAND_Z,
+            },
             "days": days,
             "summary": dict(self.summary),
         }
@@ -481,26 +510,54 @@ def risk_category(sleep_altitude_m) -> tuple[str, list[str]]:
     return cat, reasons
 
 
-guidance_flags.__doc__ = guidance_flags.__doc__.replace("{refs}", _REFERENCES)
-risk_category.__doc__ = risk_category.__doc__.replace("{refs}", _REFERENCES)
+guidance_flags.__doc__ = (guidance_flags.__doc__ or "").replace("{refs}", _REFERENCES)
+risk_category.__doc__ = (risk_category.__doc__ or "").replace("{refs}", _REFERENCES)
 
 
-def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
+BAND_Z = 2.0
+"""Half-width of the predicted SpO2 band in SDs of the person offset: the band holds about
+95 % of lowlanders (our choice of width)."""
+
+
+def run_ascent(
+    profile: AscentProfile,
+    *,
+    person_offset_mmhg: float = 0.0,
+    offset_sd_mmhg: float = VENTILATION_SD_MMHG,
+    reading_sd_pct: float = 0.0,
+    **transport_kw,
+) -> AscentResult:
     """Acclimatization and the whole O2 chain for every night and high point of a schedule.
 
     Night ``d``: the acclimatization state is stepped once at the night's inspired PO2 (with
     any supplemental O2) and its equivalent altitude on air (plasma volume, Hb mass, cardiac
-    output), from a lowlander's sea-level state before day 1; the chain is solved at rest
-    with that state's PaCO2, pH, 2,3-DPG, Hb and cardiac output. High point of day ``d``:
-    the morning's state (after night ``d - 1``) with the acute ventilatory response to the
-    higher altitude on top (``PaCO2 = P_acute(x_high) + s``, acute buffering of HCO3) and
-    the cardiac output of a fresh gain; also at rest. VO2 stays at the baseline value.
+    output), from a lowlander's sea-level state before day 1; the chain is solved at rest,
+    awake, at the sleeping altitude with that state's PaCO2, pH, 2,3-DPG (as a standard P50,
+    :func:`model.acclimatization.dpg_p50_ratio`), Hb, cardiac output and exchange ratio
+    (:func:`model.acclimatization.respiratory_exchange_ratio`). High point of day ``d``: the
+    morning's state (after night ``d - 1``) taken within hours to the higher altitude
+    (:func:`model.acclimatization.high_point_paco2`, acute buffering of HCO3) with the
+    cardiac output of a fresh gain; also at rest. VO2 stays at the baseline value.
+
+    The band: the same schedule for a person whose ventilatory offset is ``BAND_Z`` SDs
+    (``offset_sd_mmhg``) above and below ``person_offset_mmhg``; with ``reading_sd_pct`` the
+    scatter of one oximeter reading is added in quadrature (for a band fitted to readings).
 
     Parameters
     ----------
     profile : AscentProfile
+    person_offset_mmhg : float
+        The person's PaCO2 at altitude above the typical lowlander's [mmHg] (0: typical; a
+        value fitted to their readings by :func:`model.ascent_report.fit_person_offset`).
+    offset_sd_mmhg : float
+        SD of that offset [mmHg]: between people :data:`VENTILATION_SD_MMHG`, after a fit
+        the fit's own.
+    reading_sd_pct : float
+        SD of one reading about the person's true value [SpO2 points].
     **transport_kw
-        Passed to :func:`model.solve_transport` (e.g. ``shunt_fraction``, ``curve``).
+        Passed to :func:`model.solve_transport` (e.g. ``shunt_fraction``, ``curve``);
+        ``p50_mmhg`` is the person's standard P50 at normal 2,3-DPG, ``rq`` the metabolic
+        quotient the exchange ratio rises from.
 
     Returns
     -------
@@ -518,9 +575,10 @@ def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
 
     Notes
     -----
-    Guidance checks: :func:`guidance_flags`, :func:`risk_category`. Known gaps of the
-    model (SaO2 3-4 points below field SpO2, Hb low after two weeks) are listed in
-    :func:`model.acclimatization.acclimatization_step`.
+    Guidance checks: :func:`guidance_flags`, :func:`risk_category`. The field data behind
+    each part and the known gaps are in :mod:`model.acclimatization`. "Night" values are
+    those of a person at rest and awake at the sleeping altitude (a reading at camp);
+    saturation during sleep is lower and not modelled.
 
     Examples
     --------
@@ -528,24 +586,24 @@ def run_ascent(profile: AscentProfile, **transport_kw) -> AscentResult:
     >>> r.summary["flag_count"], round(float(r.night.arterial.pco2_mmhg[-1]), 1)
     (0, 40.0)
     """
-    return run_ascents([profile], **transport_kw)[0]
+    return run_ascents(
+        [profile],
+        person_offset_mmhg=person_offset_mmhg,
+        offset_sd_mmhg=offset_sd_mmhg,
+        reading_sd_pct=reading_sd_pct,
+        **transport_kw,
+    )[0]
 
 
-def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
-    """:func:`run_ascent` for several schedules at once (one chain solve for all of them).
+def _per_profile(value, n: int, name: str) -> np.ndarray:
+    a = np.broadcast_to(np.asarray(value, dtype=float), (n,)).copy()
+    if not np.all(np.isfinite(a)):
+        raise ValueError(f"{name} must be finite numbers")
+    return a
 
-    The schedules are stepped side by side, day by day (a shorter one is padded with its
-    last day and the padding dropped), and every night and high point of every schedule goes
-    through one vectorised :func:`model.solve_transport` call.
 
-    Examples
-    --------
-    >>> a = AscentProfile("a", (AscentDay(2800.0), AscentDay(3300.0)))
-    >>> b = AscentProfile("b", (AscentDay(3600.0),))
-    >>> [r.summary["risk_category"] for r in run_ascents([a, b])]
-    ['moderate', 'high']
-    """
-    profiles = list(profiles)
+def _tables(profiles) -> dict:
+    """Day tables of the schedules side by side (a shorter one padded with its last day)."""
     n_days = [len(p.days) for p in profiles]
     width = max(n_days)
 
@@ -558,93 +616,272 @@ def run_ascents(profiles, **transport_kw) -> list[AscentResult]:
     fio2 = table(lambda d: d.fio2)
     pb_n, pb_h = np.empty_like(sleep), np.empty_like(sleep)
     h_n, h_h = np.empty_like(sleep), np.empty_like(sleep)
+    x_home = np.empty(len(profiles))
     for j, p in enumerate(profiles):
         model = p.baseline.pressure_model
-        pb_n[j], pb_h[j] = (
-            barometric_pressure(sleep[j], model=model),
-            barometric_pressure(high[j], model=model),
-        )
+        pb_n[j] = barometric_pressure(sleep[j], model=model)
+        pb_h[j] = barometric_pressure(high[j], model=model)
+        x_home[j] = inspired_po2(0.21, barometric_pressure(0.0, model=model))
         o2 = fio2[j] > 0.21  # equivalent altitudes only where O2 is added (a bisection each)
         for h, out in ((sleep[j], h_n), (high[j], h_h)):
             out[j] = h
             if np.any(o2):
                 eq = equivalent_altitude(h[o2], fio2[j][o2], pressure_model=model, air_fio2=0.21)
                 out[j][o2] = np.minimum(h[o2], eq)
-    x_n, x_h = inspired_po2(fio2, pb_n), inspired_po2(fio2, pb_h)
+    x_n = inspired_po2(fio2, pb_n)
+    return {
+        "n_days": n_days,
+        "width": width,
+        "sleep": sleep,
+        "high": high,
+        "fio2": fio2,
+        "pb_n": pb_n,
+        "pb_h": pb_h,
+        "h_n": h_n,
+        "h_h": h_h,
+        "x_n": x_n,
+        "x_h": inspired_po2(fio2, pb_h),
+        "x_prev": np.concatenate([x_home[:, None], x_n[:, :-1]], axis=1),
+    }
 
-    def baseline(name):
-        return np.array([getattr(p.baseline, name) for p in profiles], dtype=float)
 
-    paco2_0, hb_0 = baseline("paco2_mmhg"), baseline("hb_g_dl")
-    co_0 = baseline("cardiac_output_l_min")
+_NIGHT_KEYS = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
+_MORNING_KEYS = (
+    "ventilation_offset_mmhg",
+    "hco3_mmol_l",
+    "dpg_mmol_l",
+    "hb_g_dl",
+    "cardiac_output_l_min",
+)
+
+
+def _baselines(profiles, name: str) -> np.ndarray:
+    return np.array([getattr(p.baseline, name) for p in profiles], dtype=float)
+
+
+def _acclimatize(profiles, t: dict, offsets: np.ndarray, copies: int):
+    """Night and morning states, rows = ``copies`` stacked copies of the profiles, each row
+    with its own person offset; arrays (rows, days)."""
+    rep = (copies, 1)
+    x_n, h_n = np.tile(t["x_n"], rep), np.tile(t["h_n"], rep)
+    paco2_0 = np.tile(_baselines(profiles, "paco2_mmhg"), copies)
+    hb_0 = np.tile(_baselines(profiles, "hb_g_dl"), copies)
+    co_0 = np.tile(_baselines(profiles, "cardiac_output_l_min"), copies)
     base = {
         "baseline_paco2_mmhg": paco2_0,
         "baseline_hb_g_dl": hb_0,
         "baseline_cardiac_output_l_min": co_0,
+        "person_offset_mmhg": offsets,
     }
     state = baseline_state(paco2_0, hb_0, co_0)
-    keys = ("paco2_mmhg", "ph", "dpg_mmol_l", "hb_g_dl", "cardiac_output_l_min", "hco3_mmol_l")
-    carried = (
-        "ventilation_offset_mmhg",
-        "hco3_mmol_l",
-        "dpg_mmol_l",
-        "hb_g_dl",
-        "cardiac_output_l_min",
-    )
-    night = {k: np.empty(sleep.shape) for k in keys}
-    morning = {k: np.empty(sleep.shape) for k in carried}
-    for i in range(width):
-        for k in carried:
+    night = {k: np.empty(x_n.shape) for k in _NIGHT_KEYS}
+    morning = {k: np.empty(x_n.shape) for k in _MORNING_KEYS}
+    for i in range(t["width"]):
+        for k in _MORNING_KEYS:
             morning[k][:, i] = getattr(state, k)
         state = acclimatization_step(state, x_n[:, i], h_n[:, i], **base)
-        for k in keys:
+        for k in _NIGHT_KEYS:
             night[k][:, i] = getattr(state, k)
-    # the high point of day i is reached from the morning's state, before night i's step
-    paco2 = acute_paco2(x_h, paco2_0[:, None]) + morning["ventilation_offset_mmhg"]
-    hco3 = np.minimum(morning["hco3_mmol_l"], 24.0 + 0.2 * (paco2 - paco2_0[:, None]))
-    day = {
+    return night, morning
+
+
+def _acute(morning: dict, x_prev, x_a, h_a, paco2_0, co_0, offsets) -> dict:
+    """Chain state at a point reached within hours of the morning (a high point, a reading)."""
+    paco2 = high_point_paco2(x_a, x_prev, morning["ventilation_offset_mmhg"], paco2_0, offsets)
+    hco3 = np.minimum(morning["hco3_mmol_l"], 24.0 + 0.2 * (paco2 - paco2_0))
+    return {
         "paco2_mmhg": paco2,
-        "hco3_mmol_l": hco3,
         "ph": ph_henderson_hasselbalch(hco3, paco2),
         "dpg_mmol_l": morning["dpg_mmol_l"],
         "hb_g_dl": morning["hb_g_dl"],
         "cardiac_output_l_min": np.maximum(
-            cardiac_output(co_0[:, None], h_h, 0.0), morning["cardiac_output_l_min"]
+            cardiac_output(co_0, h_a, 0.0), morning["cardiac_output_l_min"]
         ),
     }
+
+
+def _solve(parts: list[dict], transport_kw: dict):
+    """One :func:`model.solve_transport` over the concatenated rows of ``parts``; each part
+    holds ``barometric_pressure_mmhg``, ``fio2``, ``vo2_ml_min`` and the state keys. The
+    2,3-DPG acts through the standard P50 (:func:`model.acclimatization.dpg_p50_ratio`)."""
+    kw = dict(transport_kw)
+    kw.pop("dpg_mmol_l", None)
+    curve = kw.get("curve", "severinghaus")
+    base_p50 = kw.pop("p50_mmhg", None)
+    if base_p50 is None:
+        base_p50 = float(p50(curve=curve))
+    rq = kw.pop("rq", 0.8)
+    cat = {k: np.concatenate([np.ravel(p[k]) for p in parts]) for k in parts[0]}
+    dpg = cat.pop("dpg_mmol_l")
+    cat["p50_mmhg"] = base_p50 * dpg_p50_ratio(dpg)
+    cat["dpg_mmol_l"] = np.full(dpg.shape, NORMAL_DPG_MMOL_L)
+    cat["rq"] = respiratory_exchange_ratio(cat["paco2_mmhg"], rq=rq)
+    res = solve_transport(**cat, **kw)
+    return res, dpg, cat["p50_mmhg"], cat["rq"]
+
+
+def run_ascents(
+    profiles,
+    *,
+    person_offset_mmhg=0.0,
+    offset_sd_mmhg=VENTILATION_SD_MMHG,
+    reading_sd_pct=0.0,
+    **transport_kw,
+) -> list[AscentResult]:
+    """:func:`run_ascent` for several schedules at once (one chain solve for all of them).
+
+    The schedules are stepped side by side, day by day (a shorter one is padded with its
+    last day and the padding dropped), and every night, band edge and high point of every
+    schedule goes through one vectorised :func:`model.solve_transport` call.
+    ``person_offset_mmhg``, ``offset_sd_mmhg`` and ``reading_sd_pct`` are one value for all
+    or one per schedule.
+
+    Examples
+    --------
+    >>> a = AscentProfile("a", (AscentDay(2800.0), AscentDay(3300.0)))
+    >>> b = AscentProfile("b", (AscentDay(3600.0),))
+    >>> [r.summary["risk_category"] for r in run_ascents([a, b])]
+    ['moderate', 'high']
+    """
+    profiles = list(profiles)
+    n = len(profiles)
+    offset = _per_profile(person_offset_mmhg, n, "person_offset_mmhg")
+    sd = _per_profile(offset_sd_mmhg, n, "offset_sd_mmhg")
+    reading_sd = _per_profile(reading_sd_pct, n, "reading_sd_pct")
+    t = _tables(profiles)
+    # rows: the person, then the band's low-SpO2 edge (higher PaCO2), then its high edge
+    offsets = np.concatenate([offset, offset + BAND_Z * sd, offset - BAND_Z * sd])
+    night, morning = _acclimatize(profiles, t, offsets, 3)
+    width, n_days = t["width"], t["n_days"]
     valid = np.arange(width)[None, :] < np.array(n_days)[:, None]
-    vo2 = np.broadcast_to(baseline("vo2_ml_min")[:, None], sleep.shape)
-    both = {k: np.concatenate([night[k][valid], day[k][valid]]) for k in keys[:-1]}
-    res = solve_transport(
-        barometric_pressure_mmhg=np.concatenate([pb_n[valid], pb_h[valid]]),
-        fio2=np.concatenate([fio2[valid], fio2[valid]]),
-        vo2_ml_min=np.concatenate([vo2[valid], vo2[valid]]),
-        **both,
-        **transport_kw,
+    valid3 = np.tile(valid, (3, 1))
+    central = {k: v[:n] for k, v in morning.items()}
+    day = _acute(
+        central,
+        t["x_prev"],
+        t["x_h"],
+        t["h_h"],
+        _baselines(profiles, "paco2_mmhg")[:, None],
+        _baselines(profiles, "cardiac_output_l_min")[:, None],
+        offset[:, None],
     )
+    vo2 = np.broadcast_to(_baselines(profiles, "vo2_ml_min")[:, None], t["sleep"].shape)
+
+    def part(state, rows_valid, reps):
+        out = {k: state[k][rows_valid] for k in _NIGHT_KEYS[:-1]}
+        out["barometric_pressure_mmhg"] = np.tile(t["pb_n"], (reps, 1))[rows_valid]
+        out["fio2"] = np.tile(t["fio2"], (reps, 1))[rows_valid]
+        out["vo2_ml_min"] = np.tile(vo2, (reps, 1))[rows_valid]
+        return out
+
+    nights = part(night, valid3, 3)
+    highs = {k: day[k][valid] for k in _NIGHT_KEYS[:-1]}
+    highs.update(
+        barometric_pressure_mmhg=t["pb_h"][valid], fio2=t["fio2"][valid], vo2_ml_min=vo2[valid]
+    )
+    res, _dpg, p50_std, rq = _solve([nights, highs], transport_kw)
     total = int(valid.sum())
+    sao2_all = np.asarray(res.arterial.so2, dtype=float)
     results, start = [], 0
-    for j, (p, n) in enumerate(zip(profiles, n_days)):
-        night_res = _take(res, slice(start, start + n))
-        high_res = _take(res, slice(total + start, total + start + n))
-        start += n
+    for j, (p, m) in enumerate(zip(profiles, n_days)):
+        rows = slice(start, start + m)
+        low = sao2_all[total + start : total + start + m]
+        high = sao2_all[2 * total + start : 2 * total + start + m]
+        mid = sao2_all[rows]
+        if reading_sd[j] > 0.0:
+            spread = BAND_Z * reading_sd[j] / 100.0
+            low = mid - np.hypot(mid - low, spread)
+            high = mid + np.hypot(high - mid, spread)
         results.append(
             _result(
                 p,
-                sleep[j, :n],
-                high[j, :n],
-                fio2[j, :n],
-                h_n[j, :n],
-                night_res,
-                high_res,
-                night["dpg_mmol_l"][j, :n],
-                night["hco3_mmol_l"][j, :n],
+                t["sleep"][j, :m],
+                t["high"][j, :m],
+                t["fio2"][j, :m],
+                t["h_n"][j, :m],
+                _take(res, rows),
+                _take(res, slice(3 * total + start, 3 * total + start + m)),
+                night["dpg_mmol_l"][j, :m],
+                night["hco3_mmol_l"][j, :m],
+                {
+                    "sao2_low": np.clip(low, 0.0, 1.0),
+                    "sao2_high": np.clip(high, 0.0, 1.0),
+                    "standard_p50_mmhg": p50_std[rows],
+                    "rq": rq[rows],
+                    "person_offset_mmhg": float(offset[j]),
+                    "offset_sd_mmhg": float(sd[j]),
+                    "reading_sd_pct": float(reading_sd[j]),
+                },
             )
         )
+        start += m
     return results
 
 
-def _result(profile, sleep, high, fio2, h_eq, night_res, high_res, dpg, hco3) -> AscentResult:
+def forecast_points(
+    profile: AscentProfile,
+    day,
+    altitude_m,
+    person_offset_mmhg=0.0,
+    **transport_kw,
+) -> np.ndarray:
+    """SaO2 [-] of a schedule's person at rest on ``day`` (1-based) at ``altitude_m`` on air.
+
+    The morning state of that day (after night ``day - 1``) taken within hours to the
+    altitude, as a high point is (:func:`run_ascent`): the forecast an oximeter reading
+    taken that day at that altitude is compared with. ``person_offset_mmhg`` may be a 1-D
+    array of offsets; the result then has one row per offset.
+
+    Raises
+    ------
+    ValueError
+        A day outside the schedule, or a chain that cannot be solved.
+
+    Examples
+    --------
+    >>> p = AscentProfile("x", (AscentDay(2800.0), AscentDay(3400.0)))
+    >>> s = forecast_points(p, [2], [3400.0], [0.0, 3.0])
+    >>> s.shape, bool(s[0, 0] > s[1, 0])
+    ((2, 1), True)
+    """
+    days = np.asarray(day, dtype=int).ravel()
+    alt = np.asarray(altitude_m, dtype=float).ravel()
+    offsets = np.atleast_1d(np.asarray(person_offset_mmhg, dtype=float))
+    n = len(profile.days)
+    if days.size and (days.min() < 1 or days.max() > n):
+        bad = days[(days < 1) | (days > n)][0]
+        raise ValueError(f"day = {bad} is outside the allowed range 1-{n} (days of the schedule)")
+    t = _tables([profile])
+    k = offsets.size
+    _night, morning = _acclimatize([profile], t, offsets, k)
+    i = days - 1
+    model = profile.baseline.pressure_model
+    pb = barometric_pressure(alt, model=model)
+    x_a = inspired_po2(0.21, pb)
+    rows = {key: v[:, i] for key, v in morning.items()}
+    b = profile.baseline
+    state = _acute(
+        rows,
+        t["x_prev"][0, i][None, :],
+        x_a[None, :],
+        alt[None, :],
+        b.paco2_mmhg,
+        b.cardiac_output_l_min,
+        offsets[:, None],
+    )
+    shape = (k, days.size)
+    point = {key: np.broadcast_to(v, shape) for key, v in state.items()}
+    point.update(
+        barometric_pressure_mmhg=np.broadcast_to(pb, shape),
+        fio2=np.full(shape, 0.21),
+        vo2_ml_min=np.full(shape, b.vo2_ml_min),
+    )
+    res, *_ = _solve([point], transport_kw)
+    sao2 = np.asarray(res.arterial.so2, dtype=float).reshape(shape)
+    return sao2 if np.ndim(person_offset_mmhg) else sao2[0]
+
+
+def _result(profile, sleep, high, fio2, h_eq, night_res, high_res, dpg, hco3, band) -> AscentResult:
     flags = guidance_flags(sleep)
     cat, reasons = risk_category(sleep)
     sao2 = night_res.arterial.so2
@@ -673,6 +910,13 @@ def _result(profile, sleep, high, fio2, h_eq, night_res, high_res, dpg, hco3) ->
         hco3_mmol_l=hco3,
         flags=flags,
         summary=summary,
+        sao2_low=band["sao2_low"],
+        sao2_high=band["sao2_high"],
+        standard_p50_mmhg=band["standard_p50_mmhg"],
+        rq=band["rq"],
+        person_offset_mmhg=band["person_offset_mmhg"],
+        offset_sd_mmhg=band["offset_sd_mmhg"],
+        reading_sd_pct=band["reading_sd_pct"],
     )
 
 
@@ -680,7 +924,7 @@ def _take(result, idx):
     """The rows ``idx`` of every array in a TransportResult (nested BloodStates too)."""
 
     def cut(obj):
-        if dataclasses.is_dataclass(obj):
+        if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
             return dataclasses.replace(
                 obj,
                 **{
@@ -696,23 +940,29 @@ def _take(result, idx):
     return cut(result)
 
 
+def _band(day: dict) -> str:
+    return f"{100 * day['sao2_low']:.0f}-{100 * day['sao2_high']:.0f}"
+
+
 def format_ascent(record: dict) -> str:
     """A schedule's JSON-ready record (:meth:`AscentResult.to_dict`) as a text table."""
     head = (
         f"{'day':>3} {'sleep m':>7} {'high m':>7} {'FiO2':>5} {'PB':>6} {'PaCO2':>5} "
-        f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'Hb':>5} {'CaO2':>5} {'DO2':>6} {'high SaO2':>9}"
-        "  flags"
+        f"{'pH':>5} {'PaO2':>5} {'SaO2':>6} {'SpO2 band':>9} {'Hb':>5} {'CaO2':>5} {'DO2':>6} "
+        f"{'high SaO2':>9}  flags"
     )
     units = (
         f"{'':>3} {'m':>7} {'m':>7} {'-':>5} {'mmHg':>6} {'mmHg':>5} {'-':>5} {'mmHg':>5} "
-        f"{'%':>6} {'g/dL':>5} {'mL/dL':>5} {'mL/min':>6} {'%':>9}"
+        f"{'%':>6} {'%':>9} {'g/dL':>5} {'mL/dL':>5} {'mL/min':>6} {'%':>9}"
     )
-    lines = [f"{record['name']}  ({record['file']})", head, units]
+    model = record.get("pressure_model", "")
+    lines = [f"{record['name']}  ({record['file']}; pressures: {model} model)", head, units]
     for d in record["days"]:
         lines.append(
             f"{d['day']:>3} {d['sleep_altitude_m']:>7.0f} {d['high_altitude_m']:>7.0f} "
             f"{d['fio2']:>5.2f} {d['barometric_pressure_mmhg']:>6.1f} {d['paco2_mmhg']:>5.1f} "
-            f"{d['ph']:>5.3f} {d['pao2_mmhg']:>5.1f} {100 * d['sao2']:>6.1f} {d['hb_g_dl']:>5.1f} "
+            f"{d['ph']:>5.3f} {d['pao2_mmhg']:>5.1f} {100 * d['sao2']:>6.1f} "
+            f"{_band(d):>9} {d['hb_g_dl']:>5.1f} "
             f"{d['cao2_ml_dl']:>5.1f} {d['do2_ml_min']:>6.0f} {100 * d['high_point']['sao2']:>9.1f}"
             f"  {'; '.join(d['flags'])}"
         )

@@ -1,4 +1,4 @@
-"""Batch: the bedside derived values for a whole table of blood gases (CSV in, CSV out).
+"""Batch: the bedside derived values for a whole table of blood gases, streamed.
 
 Input columns (header names exact, any order; extra columns are passed through):
 
@@ -16,29 +16,60 @@ A blank cell (or ``nan``) means "not given". Each output row keeps the input cel
 adds the derived values (``BATCH_OUTPUTS``, blank where not computable), the P/F
 categories, ``p50_insitu_reason``, ``notes``, ``flags`` and ``error``. A row with a cell
 that is not a number, out of range or missing where required gets its message in
-``error`` and blank outputs; the other rows are unaffected. The first line of the output
-is a ``#`` comment carrying the caution; the reader here skips leading ``#`` lines, so an
-output can be read back.
+``error`` and blank outputs; the other rows are unaffected.
 
-Files with ``;`` or tab as the separator are accepted; with ``;`` a decimal comma is
-accepted in the input and used in the output. Excel's UTF-8 byte-order mark is skipped.
+Formats, chosen by the file name's ending (:data:`TEXT_SUFFIXES`, :data:`PARQUET_SUFFIXES`):
+
+* **Delimited text** (``.csv``, ``.tsv``, ``.txt``), UTF-8 (a byte-order mark is skipped;
+  other encodings are refused). Leading blank and ``#`` lines are skipped; the delimiter is
+  ``,`` unless the header has none and has ``;`` or a tab; with ``;`` a decimal comma is
+  read and written. Rows end only at ``\\n``, ``\\r\\n`` or ``\\r`` (never at the other
+  characters Python's ``str.splitlines`` takes as line ends). The output is plain CSV: the
+  header on line 1, no comment lines, quoting only where a cell needs it, so every reader
+  takes it with its defaults. Its last column, :data:`END_COLUMN` (``rows_in_output``), is
+  blank on every row except the last, which holds the number of data rows in the output:
+  a reader checks that the last row's ``rows_in_output`` equals the number of rows it
+  read, and so tells a complete output from one cut short (a killed run writing to
+  standard output, a truncated copy).
+* **Parquet** (``.parquet``, ``.pq``) through pyarrow. A Parquet output carries the
+  caution, the o2transit version and the row count in its file metadata
+  (:data:`PARQUET_METADATA_KEYS`); a cut Parquet file has no footer and no reader opens it.
+
+The caution goes to standard error (the command prints it) and into Parquet metadata,
+never into the CSV rows. The input is read in chunks of :data:`CHUNK_ROWS` rows and each
+chunk is checked, derived and written before the next is read (two chunks are computed
+at once on two threads), so memory stays bounded whatever the row count.
+
+Writing: to a regular file (a temporary file in the same folder, renamed over the target
+when complete, with the mode of the file it replaces, or the user's usual mode for a new
+file) or to standard output (``-``). A target that exists and is not a regular file (a
+device such as ``/dev/null``, a FIFO, a symbolic link, a folder) is refused, as is the
+input file itself. The temporary file is removed on any error or interruption.
 """
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import math
 import os
+import stat
 import sys
 import tempfile
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pcsv
+import pyarrow.parquet as pq
 
+from . import files
 from .bedside import DERIVED_FIELDS, MEASURED_LIMITS, REQUIRED_MEASURED, derive
 from .caution import CAUTION
 from .units import UnitVariant, unit_variants
@@ -84,16 +115,44 @@ BATCH_OUTPUTS = (
     "ph_stat_ph",
     "p50_insitu_reason",
     "notes",
+    "reasons",
     "flags",
     "error",
 )
-"""Columns added to every output row by default, in order (units in the names)."""
+"""Columns added to every output row by default, in order (units in the names).
+``reasons`` says why a value is blank although its inputs were given (for example a
+shunt the samples cannot give); ``flags`` marks values outside their usual range."""
 
 ALL_OUTPUTS = tuple(DERIVED_FIELDS) + ("p50_insitu_reason", "notes", "reasons", "flags", "error")
 """Columns added with ``--all-columns``: every output of :func:`model.bedside.derive`."""
 
+END_COLUMN = "rows_in_output"
+"""Last column of a CSV output: blank except on the last row, which holds the row count."""
+
+PARQUET_METADATA_KEYS = ("o2transit.caution", "o2transit.version", "o2transit.rows")
+"""File metadata of a Parquet output: the caution, the version that wrote it, its rows."""
+
+TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
+"""File endings read and written as delimited text."""
+
+PARQUET_SUFFIXES = (".parquet", ".pq")
+"""File endings read and written as Parquet."""
+
 CHUNK_ROWS = 10_000
-"""Rows computed together (bounds memory; one progress step each)."""
+"""Rows read, computed and written together (bounds memory; one progress step each)."""
+
+BLOCK_BYTES = 1024 * 1024
+"""Bytes of delimited text read at a time."""
+
+MAX_LINE_BYTES = 1024 * 1024
+"""Longest row of a delimited text file accepted [bytes] (1 MiB)."""
+
+MAX_CELL_CHARS = 131_072
+"""Longest cell accepted [characters] (the csv module's own field limit)."""
+
+_THREADS = 2
+_UTF8_BOM = b"\xef\xbb\xbf"
+_NUMBER = r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$|^[+-]?([Nn][Aa][Nn]|[Ii][Nn][Ff](inity)?)$"
 
 
 class BatchError(ValueError):
@@ -107,6 +166,31 @@ class BatchSummary:
     rows: int
     rows_with_errors: int
     output: str
+    format: str = "csv"
+
+
+def file_format(path, role: str = "input") -> str:
+    """``"csv"`` or ``"parquet"`` from the file name's ending; :class:`BatchError` otherwise.
+
+    Examples
+    --------
+    >>> file_format("gases.CSV"), file_format("out.parquet", "output")
+    ('csv', 'parquet')
+    """
+    suffix = Path(path).suffix.lower()
+    if suffix in TEXT_SUFFIXES:
+        return "csv"
+    if suffix in PARQUET_SUFFIXES:
+        return "parquet"
+    known = ", ".join(TEXT_SUFFIXES) + " (delimited text) or " + ", ".join(PARQUET_SUFFIXES)
+    raise BatchError(
+        f"{path}: unknown {role} file type {suffix or '(no ending)'!r}; batch "
+        f"{'reads' if role == 'input' else 'writes'} {known}"
+        + ("" if role == "input" else ", or '-' for CSV on standard output")
+    )
+
+
+# --- columns and cells -------------------------------------------------------------------
 
 
 def _column_map(header: list[str], source: str) -> dict[str, tuple[int, str, float, str]]:
@@ -131,11 +215,12 @@ def _column_map(header: list[str], source: str) -> dict[str, tuple[int, str, flo
             k: [k] + [c for c, (key, _, _) in COLUMN_VARIANTS.items() if key == k] for k in missing
         }
         what = "; ".join(" or ".join(alts[k]) for k in missing)
+        shown = ", ".join(header)
+        shown = shown if len(shown) <= 300 else shown[:300] + "..."
         raise BatchError(
-            f"{source}: required column missing: {what} (found columns: "
-            f"{', '.join(header) or 'none'})"
+            f"{source}: required column missing: {what} (found columns: {shown or 'none'})"
         )
-    clash = [c for c in header if c in ALL_OUTPUTS]
+    clash = [c for c in header if c in ALL_OUTPUTS or c == END_COLUMN]
     if clash:
         raise BatchError(
             f"{source}: input column {clash[0]!r} has the name of an output "
@@ -144,24 +229,75 @@ def _column_map(header: list[str], source: str) -> dict[str, tuple[int, str, flo
     return found
 
 
-def _parse(cells: Sequence[str], decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
-    """Floats of the cells (NaN for blank/nan) and a mask of cells that are not numbers."""
+def _check_header(header: list[str], source: str) -> None:
+    dup = sorted({h for h in header if h and header.count(h) > 1})
+    if dup:
+        raise BatchError(f"{source}: column {dup[0]!r} appears more than once")
+
+
+def _as_arrow(values) -> pa.Array:
+    """A column (list of str, numpy array, pandas Series, Arrow array) as one Arrow array."""
+    if isinstance(values, pa.ChunkedArray):
+        return values.combine_chunks() if values.num_chunks != 1 else values.chunk(0)
+    if isinstance(values, pa.Array):
+        return values
+    arr = np.asarray(values)
+    if arr.dtype.kind in "fiu":
+        return pa.array(arr.astype(float, copy=False))
+    if arr.dtype.kind == "b":
+        return pa.array(arr)
+    cells = [
+        c
+        if isinstance(c, str)
+        else ("" if c is None or (isinstance(c, float) and math.isnan(c)) else str(c))
+        for c in arr.tolist()
+    ]
+    return pa.array(cells, type=pa.string())
+
+
+def _parse(arr: pa.Array, decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Floats of a column (NaN for blank/null/nan) and a mask of cells that are not numbers."""
+    if pa.types.is_dictionary(arr.type):
+        arr = arr.dictionary_decode()
+    t = arr.type
+    if pa.types.is_integer(t) or pa.types.is_floating(t) or pa.types.is_decimal(t):
+        values = pc.cast(arr, pa.float64()).to_numpy(zero_copy_only=False)
+        return values, np.zeros(len(arr), dtype=bool)
+    if pa.types.is_null(t):
+        return np.full(len(arr), np.nan), np.zeros(len(arr), dtype=bool)
+    if not (pa.types.is_string(t) or pa.types.is_large_string(t)):
+        # a boolean, a date, a list...: not a measurement, whatever its text
+        given = pc.is_valid(arr).to_numpy(zero_copy_only=False)
+        return np.full(len(arr), np.nan), given
+    s = pc.utf8_trim_whitespace(arr)
     if decimal_comma:
-        cells = [c.replace(",", ".") for c in cells]
-    filled = ["nan" if not c or c.isspace() else c for c in cells]
-    bad = np.zeros(len(filled), dtype=bool)
+        s = pc.replace_substring(s, ",", ".")
+    s = pc.if_else(pc.equal(s, ""), pa.scalar(None, pa.string()), s)
     try:
-        return np.array(filled, dtype=float), bad
-    except ValueError:
+        values = pc.cast(s, pa.float64())
+        return values.to_numpy(zero_copy_only=False), np.zeros(len(arr), dtype=bool)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
         pass
-    values = []
-    for i, c in enumerate(filled):
-        try:
-            values.append(float(c))
-        except ValueError:
-            values.append(math.nan)
-            bad[i] = True
-    return np.array(values, dtype=float), bad
+    number = pc.fill_null(pc.match_substring_regex(s, _NUMBER), True)
+    bad = ~number.to_numpy(zero_copy_only=False)
+    kept = pc.if_else(number, s, pa.scalar(None, pa.string()))
+    try:
+        values = pc.cast(kept, pa.float64()).to_numpy(zero_copy_only=False)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):  # pragma: no cover - odd spellings
+        out = []
+        for i, c in enumerate(kept.to_pylist()):
+            try:
+                out.append(np.nan if c is None else float(pc.cast(pa.array([c]), pa.float64())[0]))
+            except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+                out.append(np.nan)
+                bad[i] = True
+        values = np.array(out, dtype=float)
+    return values, bad
+
+
+def _cell_text(arr: pa.Array, i: int) -> str:
+    value = arr[i].as_py()
+    return value.strip() if isinstance(value, str) else str(value)
 
 
 def _range_text(key: str, factor: float, unit: str) -> str:
@@ -171,19 +307,20 @@ def _range_text(key: str, factor: float, unit: str) -> str:
 
 
 def derive_columns(
-    columns: Mapping[str, Sequence[str]],
+    columns: Mapping[str, Any],
     *,
     decimal_comma: bool = False,
     errors: np.ndarray | None = None,
     source: str = "input",
 ):
-    """Derived values and per-row errors for columns of CSV text cells.
+    """Derived values and per-row errors for the columns of a table of blood gases.
 
     Parameters
     ----------
     columns : Mapping
-        CSV column name -> cells (str), all of one length; names as in the module
-        docstring, other names are ignored.
+        Column name -> cells, all of one length: lists of CSV text cells, numpy arrays,
+        pandas Series or Arrow arrays (numbers are taken as numbers, text is parsed). Names
+        as in the module docstring; other names are ignored.
     decimal_comma : bool
         Accept "7,35" for 7.35.
     errors : ndarray of object, optional
@@ -211,12 +348,13 @@ def derive_columns(
     ([150.0, nan], ['', "pao2_kpa = 'x' is not a number (PaO2; allowed range 1.333-99.99 kPa)"])
     """
     colmap = _column_map(list(columns), source)
-    n = len(next(iter(columns.values()))) if columns else 0
+    arrays = {name: _as_arrow(columns[name]) for _, name, _, _ in colmap.values()}
+    n = len(next(iter(arrays.values())))
     errors = np.full(n, "", dtype=object) if errors is None else errors.astype(object)
     row_bad = errors != ""
     measured: dict[str, np.ndarray] = {}
     for key, (_, name, factor, unit) in colmap.items():
-        cells = columns[name]
+        cells = arrays[name]
         raw, not_number = _parse(cells, decimal_comma)
         values = raw * factor
         lo, hi, _, label = MEASURED_LIMITS[key]
@@ -226,7 +364,7 @@ def derive_columns(
         for i in np.flatnonzero(not_number).tolist():
             errors[i] = _join(
                 errors[i],
-                f"{name} = {cells[i].strip()!r} is not a number ({label}; allowed range "
+                f"{name} = {_cell_text(cells, i)!r} is not a number ({label}; allowed range "
                 f"{_range_text(key, factor, unit)})",
             )
         for i in np.flatnonzero(out_of_range).tolist():
@@ -282,63 +420,647 @@ def _derive_row_by_row(clean: dict[str, np.ndarray], errors: np.ndarray):
     return {k: np.array([p[k] for p in parts], dtype=parts[0][k].dtype) for k in parts[0]}
 
 
-def _format_column(values: np.ndarray, decimals: int, decimal_comma: bool) -> list[str]:
-    """Cells of a numeric column at fixed decimals; "" for NaN."""
-    finite = np.isfinite(values)
-    if not finite.any():
-        return [""] * len(values)
-    if decimals == 0:
-        out = list(map(str, np.rint(np.where(finite, values, 0.0)).astype(np.int64).tolist()))
-    else:
-        out = list(map(f"%.{decimals}f".__mod__, values.tolist()))
-        if decimal_comma:
-            out = [c.replace(".", ",") for c in out]
-    for i in np.flatnonzero(~finite).tolist():
-        out[i] = ""
-    return out
+# --- formatting ----------------------------------------------------------------------------
 
 
-def _quoted(cells: Sequence[str], delimiter: str) -> Sequence[str]:
-    """The cells with CSV quoting where a cell needs it (checked once per column)."""
-    joined = "\x00".join(cells)
-    if not (delimiter in joined or '"' in joined or "\n" in joined or "\r" in joined):
-        return cells
-    return [
-        '"' + c.replace('"', '""') + '"'
-        if (delimiter in c or '"' in c or "\n" in c or "\r" in c)
-        else c
-        for c in cells
-    ]
+def fixed_text(values, decimals: int, decimal_sep: str = ".") -> pa.Array:
+    """Cells of a numeric column at ``decimals`` fixed decimals ("" for NaN), vectorised.
+
+    Rounds half to even on the scaled value (``rint(v 10^d)``), so a shown value is within
+    half a unit of the last decimal of the true one.
+
+    Examples
+    --------
+    >>> fixed_text([1.25, -0.5, float("nan"), 1234.0], 1).to_pylist()
+    ['1.2', '-0.5', '', '1234.0']
+    """
+    v = np.asarray(values, dtype=float).ravel()
+    n = v.size
+    finite = np.isfinite(v)
+    scaled = np.where(finite, v, 0.0) * 10.0**decimals
+    if n == 0 or np.abs(scaled).max() >= 1e15:  # beyond int64 digits: the slow, exact way
+        cells = [
+            f"{x:.{decimals}f}".replace(".", decimal_sep) if f else ""
+            for x, f in zip(v.tolist(), finite.tolist())
+        ]
+        return pa.array(cells, type=pa.string())
+    k = np.rint(scaled).astype(np.int64)
+    neg = k < 0
+    x = np.abs(k)
+    w_int = max(len(str(int(x.max()))) - decimals, 1)
+    has_neg = bool(neg.any())
+    width = has_neg + w_int + (1 + decimals if decimals else 0)
+    chars = np.empty((width, n), dtype=np.uint8)
+    keep = np.ones((width, n), dtype=bool)
+    col = width - 1
+    for _ in range(decimals):
+        x, r = np.divmod(x, 10)
+        chars[col] = r + 48
+        col -= 1
+    if decimals:
+        chars[col] = ord(decimal_sep)
+        col -= 1
+    x, r = np.divmod(x, 10)
+    chars[col] = r + 48
+    col -= 1
+    for _ in range(w_int - 1):
+        keep[col] = x > 0
+        x, r = np.divmod(x, 10)
+        chars[col] = r + 48
+        col -= 1
+    if has_neg:
+        chars[0] = ord("-")
+        keep[0] = neg
+    keep[:, ~finite] = False
+    kept = keep.T
+    data = chars.T[kept]
+    offsets = np.zeros(n + 1, dtype=np.int32)
+    np.cumsum(kept.sum(axis=1), out=offsets[1:])
+    return pa.StringArray.from_buffers(n, pa.py_buffer(offsets), pa.py_buffer(data))
 
 
-def _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma, raw=None) -> str:
-    """Output rows: the input cells (or their unquoted raw lines), then the outputs."""
-    columns = [_quoted(c, delimiter) for c in inputs] if raw is None else [raw]
+def _quoted(arr: pa.Array, delimiter: str) -> pa.Array:
+    """Text cells with CSV quoting where a cell needs it; null as ""."""
+    if not (pa.types.is_string(arr.type) or pa.types.is_large_string(arr.type)):
+        arr = _as_text(arr)
+    arr = pc.fill_null(arr, "")
+    needs = pc.match_substring_regex(
+        arr, '["\r\n' + ("\\t" if delimiter == "\t" else "\\" + delimiter) + "]"
+    )
+    if not pc.any(needs).as_py():
+        return arr
+    quoted = pc.binary_join_element_wise('"', pc.replace_substring(arr, '"', '""'), '"', "")
+    return pc.if_else(needs, quoted, arr)
+
+
+def _as_text(arr: pa.Array) -> pa.Array:
+    """Any Arrow column as text (Parquet input written as CSV)."""
+    try:
+        return pc.cast(arr, pa.string())
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+        return pa.array(["" if v is None else str(v) for v in arr.to_pylist()], type=pa.string())
+
+
+def _text_of(values: np.ndarray) -> pa.Array:
+    return pa.array(values, type=pa.string())
+
+
+def _text_column(derived, key: str, delimiter: str | None = None) -> pa.Array:
+    """A text output of :func:`model.bedside.derive` as Arrow, from its codes when it has
+    them (a few distinct strings taken into millions of cells); with ``delimiter``, the
+    strings escaped for :func:`_csv_lines` first (once per distinct string)."""
+    codes = getattr(derived, "text", {}).get(key)
+    if codes is None:
+        return _text_of(derived[key])
+    strings = pa.array(codes[1], type=pa.string())
+    if delimiter is not None:
+        strings = _escaped(strings, delimiter)
+    return strings.take(pa.array(codes[0]))
+
+
+_DELIM_MARK, _QUOTE_MARK = "\x1d", "\x1e"
+"""Stand-ins for the delimiter and the quote inside quoted cells while Arrow's CSV writer
+(which refuses both in unquoted output) lays out the rows; put back afterwards."""
+
+
+def _escaped(arr: pa.Array, delimiter: str, plain: bool = False) -> pa.Array | None:
+    """A text column ready for Arrow's writer: cells that need CSV quoting quoted with the
+    stand-ins. None if a cell holds a line end or a stand-in (then the slower join is used)."""
+    if not (pa.types.is_string(arr.type) or pa.types.is_large_string(arr.type)):
+        arr = _as_text(arr)
+    if plain:
+        return arr
+    special = "\\t" if delimiter == "\t" else "\\" + delimiter
+    if pc.any(pc.match_substring_regex(arr, "[\r\n\x1d\x1e]")).as_py():
+        return None
+    needs = pc.match_substring_regex(arr, '["' + special + "]")
+    if not pc.any(needs).as_py():
+        return arr
+    inner = pc.replace_substring(
+        pc.replace_substring(arr, '"', _QUOTE_MARK * 2), delimiter, _DELIM_MARK
+    )
+    quoted = pc.binary_join_element_wise(_QUOTE_MARK, inner, _QUOTE_MARK, "")
+    return pc.if_else(needs, quoted, arr)
+
+
+def _csv_lines(
+    chunk: _Chunk, derived, errors, outputs, delimiter, decimal_comma, end: str | None
+) -> bytes:
+    """The output rows of one chunk as CSV bytes: the input cells, the outputs, the end cell."""
+    n = len(errors)
+    sep = "," if decimal_comma else "."
+    columns: list[pa.Array] = list(chunk.columns)
+    plain = [chunk.plain] * len(columns)
     for key in outputs:
         if key == "error":
-            columns.append(_quoted(errors.tolist(), delimiter))
+            columns.append(_text_of(errors))
+            plain.append(False)
         elif derived[key].dtype == object:
-            columns.append(_quoted(derived[key].tolist(), delimiter))
+            text = _text_column(derived, key, delimiter)
+            columns.append(text if text is not None else _text_of(derived[key]))
+            plain.append(text is not None and hasattr(derived, "text"))
         else:
-            columns.append(_format_column(derived[key], DERIVED_FIELDS[key][2], decimal_comma))
-    return "\n".join(map(delimiter.join, zip(*columns))) + "\n"
+            columns.append(fixed_text(derived[key], DERIVED_FIELDS[key][2], sep))
+            plain.append(True)
+    marker = np.full(n, "", dtype=object)
+    if end is not None and n:
+        marker[-1] = end
+    columns.append(_text_of(marker))
+    plain.append(True)
+    escaped = [_escaped(c, delimiter, p) for c, p in zip(columns, plain)]
+    if any(c is None for c in escaped):
+        return _joined_lines(columns, delimiter)
+    table = pa.Table.from_arrays(escaped, names=[f"c{i}" for i in range(len(escaped))])
+    sink = pa.BufferOutputStream()
+    pcsv.write_csv(
+        table,
+        sink,
+        write_options=pcsv.WriteOptions(
+            include_header=False, delimiter=delimiter, quoting_style="none"
+        ),
+    )
+    data = sink.getvalue()
+    raw = np.frombuffer(data, dtype=np.uint8)
+    quote = raw == ord(_QUOTE_MARK)
+    if not quote.any():
+        return data.to_pybytes()
+    out = raw.copy()
+    out[quote] = ord('"')
+    out[raw == ord(_DELIM_MARK)] = ord(delimiter)
+    return out.tobytes()
+
+
+def _joined_lines(columns: list[pa.Array], delimiter: str) -> bytes:
+    """Rows joined cell by cell (cells with line ends, quoted the CSV way)."""
+    quoted = [_quoted(c, delimiter) for c in columns]
+    lines = pc.binary_join_element_wise(*quoted, delimiter)
+    return _string_bytes(pc.binary_join_element_wise(lines, "", "\n"))
+
+
+def _string_bytes(arr: pa.Array) -> bytes:
+    """The concatenated characters of a text array (its data buffer, sliced)."""
+    if pa.types.is_large_string(arr.type):
+        dtype: Any = np.int64
+    else:
+        dtype = np.int32
+    offsets = np.frombuffer(arr.buffers()[1], dtype=dtype)
+    data = arr.buffers()[2]
+    if data is None:
+        return b""
+    start, stop = int(offsets[arr.offset]), int(offsets[arr.offset + len(arr)])
+    return data.to_pybytes()[start:stop] if start or stop != data.size else data.to_pybytes()
+
+
+def _arrow_outputs(derived, errors, outputs) -> list[pa.Array]:
+    cols = []
+    for key in outputs:
+        if key == "error":
+            cols.append(_text_of(errors))
+        elif derived[key].dtype == object:
+            cols.append(_text_column(derived, key))
+        else:
+            cols.append(pa.array(np.asarray(derived[key], dtype=float), from_pandas=True))
+    return cols
+
+
+# --- reading -------------------------------------------------------------------------------
+
+
+def _decoded(data: bytes, where: str, first_line: int) -> str:
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = first_line + data.count(b"\n", 0, exc.start)
+        raise BatchError(
+            f"{where}: not UTF-8 text (byte 0x{data[exc.start]:02x} on line {line}; latin-1 "
+            "or another encoding?); save the file as UTF-8 (CSV UTF-8 in a spreadsheet)"
+        ) from None
+
+
+def _line_ends(data: bytes) -> np.ndarray:
+    """Positions just after each ``\\n``, ``\\r\\n`` or lone ``\\r`` in ``data``."""
+    arr = np.frombuffer(data, dtype=np.uint8)
+    nl = arr == 10
+    cr = arr == 13
+    cr[:-1] &= ~nl[1:]  # \r\n ends at its \n
+    return np.flatnonzero(nl | cr) + 1
+
+
+@dataclass
+class _Chunk:
+    """One chunk of input rows: its columns (Arrow), per-row messages, the rows' first line."""
+
+    columns: list[pa.Array]
+    errors: np.ndarray
+    line: int
+    plain: bool = False
+    """True when no cell can need CSV quoting (split by Arrow from a block without quotes)."""
+
+
+class _ChainedReader(io.RawIOBase):
+    """Bytes already read, then the rest of a file (for the csv module's text stream)."""
+
+    def __init__(self, head: bytes, rest):
+        self.head, self.rest = memoryview(head), rest
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, b) -> int:
+        if len(self.head):
+            n = min(len(b), len(self.head))
+            b[:n] = self.head[:n]
+            self.head = self.head[n:]
+            return n
+        data = self.rest.read(len(b))
+        b[: len(data)] = data
+        return len(data)
+
+
+class _TextSource:
+    """A delimited text file read in chunks: Arrow's parser on blocks without quotes, the
+    csv module from the first quote on (quoted cells may hold delimiters and line ends)."""
+
+    format = "csv"
+
+    def __init__(self, path: Path):
+        self.path = path
+        self.where = str(path)
+        self.handle, st = files.open_regular(path, BatchError, limit=None)
+        self.size = max(st.st_size, 1)
+        try:
+            self._read_header()
+        except BaseException:
+            self.handle.close()
+            raise
+
+    def close(self) -> None:
+        self.handle.close()
+
+    def progress(self) -> float:
+        try:
+            return min(self.handle.tell() / self.size, 1.0)
+        except (OSError, ValueError):
+            return 0.0
+
+    def _more(self, data: bytes) -> tuple[bytes, bool]:
+        more = self.handle.read(BLOCK_BYTES)
+        return data + more, not more
+
+    def _read_header(self) -> None:
+        data, eof = self._more(b"")
+        for bom, name in files._BOMS:
+            if data.startswith(bom):
+                raise BatchError(f"{self.where}: {name} text, not UTF-8; save it as UTF-8 text")
+        if data.startswith(_UTF8_BOM):
+            data = data[3:]
+        self.line = 1
+        while True:
+            ends = _line_ends(data[: MAX_LINE_BYTES + 2])
+            if not len(ends) and not eof:
+                if len(data) > MAX_LINE_BYTES:
+                    raise BatchError(self._too_long(self.line))
+                data, eof = self._more(data)
+                continue
+            end = int(ends[0]) if len(ends) else len(data)
+            line, data = data[:end], data[end:]
+            if not line:
+                raise BatchError(f"{self.where}: no header line (the file is empty)")
+            if line.strip() and not line.startswith(b"#"):
+                break
+            self.line += 1
+        if b"\x00" in line:
+            raise BatchError(
+                f"{self.where}: holds NUL bytes (line {self.line}): a binary file or UTF-16 "
+                "text, not UTF-8 text; save it as UTF-8 text"
+            )
+        head = _decoded(line, self.where, self.line).rstrip("\r\n")
+        delimiter = ","
+        if "," not in head:
+            delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
+        try:
+            header = [h.strip() for h in next(csv.reader([head], delimiter=delimiter))]
+        except (csv.Error, StopIteration) as exc:
+            raise BatchError(f"{self.where}: not a readable CSV header ({exc})") from None
+        self.header, self.delimiter = header, delimiter
+        self.pending, self.eof = data, eof
+        self.line += 1
+        _check_header(header, self.where)
+
+    def _too_long(self, line: int) -> str:
+        return (
+            f"{self.where}: not a readable CSV file (line {line} is longer than "
+            f"{MAX_LINE_BYTES // 1024 // 1024} MiB, the limit for one row)"
+        )
+
+    def chunks(self) -> Iterator[_Chunk]:
+        while True:
+            data, eof = self.pending, self.eof
+            while len(data) < BLOCK_BYTES and not eof:
+                data, eof = self._more(data)
+            if b'"' in data:
+                self.pending, self.eof = data, eof
+                yield from self._csv_module_chunks()
+                return
+            if not data:
+                return
+            ends = _line_ends(data)
+            if len(ends) > CHUNK_ROWS:
+                cut = int(ends[CHUNK_ROWS - 1])
+            elif eof:
+                cut = len(data)
+            elif len(ends):
+                cut = int(ends[-1])
+            else:
+                if len(data) > MAX_LINE_BYTES:
+                    raise BatchError(self._too_long(self.line))
+                self.pending, self.eof = self._more(data)
+                continue
+            block, self.pending, self.eof = data[:cut], data[cut:], eof
+            chunk = self._arrow_block(block)
+            self.line += len(_line_ends(block)) + (0 if block.endswith((b"\n", b"\r")) else 1)
+            if chunk is not None:
+                yield chunk
+
+    def _arrow_block(self, block: bytes) -> _Chunk | None:
+        """Arrow's parser on a block without quotes (the csv module if a row is ragged)."""
+        width = len(self.header)
+        names = [f"c{i}" for i in range(width)]
+        try:
+            table = pcsv.read_csv(
+                pa.py_buffer(block),
+                read_options=pcsv.ReadOptions(
+                    column_names=names, block_size=1 << 20, use_threads=True
+                ),
+                parse_options=pcsv.ParseOptions(
+                    delimiter=self.delimiter, quote_char=False, ignore_empty_lines=True
+                ),
+                convert_options=pcsv.ConvertOptions(
+                    column_types=dict.fromkeys(names, pa.string()),
+                    strings_can_be_null=False,
+                    check_utf8=True,
+                ),
+            )
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+            return self._rows_chunk(self._csv_rows(_decoded(block, self.where, self.line)))
+        columns = [_as_arrow(table.column(i)) for i in range(width)]
+        if not columns or not len(columns[0]):
+            return None
+        for c in columns:
+            if pc.max(pc.binary_length(c)).as_py() > MAX_CELL_CHARS:
+                raise BatchError(self._cell_too_long())
+        blank = pc.equal(columns[0], "")
+        for c in columns[1:]:
+            blank = pc.and_(blank, pc.equal(c, ""))
+        if pc.any(blank).as_py():
+            keep = pc.invert(blank)
+            columns = [pc.filter(c, keep) for c in columns]
+        plain = not any(c in block for c in (_DELIM_MARK.encode(), _QUOTE_MARK.encode()))
+        return _Chunk(columns, np.full(len(columns[0]), "", dtype=object), self.line, plain)
+
+    def _cell_too_long(self) -> str:
+        return (
+            f"{self.where}: not a readable CSV file (a cell near line {self.line} is longer "
+            f"than {MAX_CELL_CHARS:,} characters, the limit for one cell)"
+        )
+
+    def _csv_rows(self, text: str) -> list[list[str]]:
+        try:
+            return [
+                r
+                for r in csv.reader(io.StringIO(text, newline=""), delimiter=self.delimiter)
+                if any(r)
+            ]
+        except csv.Error as exc:
+            raise BatchError(f"{self.where}: not a readable CSV file ({exc})") from None
+
+    def _rows_chunk(self, rows: list[list[str]]) -> _Chunk | None:
+        """A chunk from csv-module rows: short rows padded, long ones cut with a message."""
+        if not rows:
+            return None
+        width = len(self.header)
+        errors = np.full(len(rows), "", dtype=object)
+        for i, r in enumerate(rows):
+            if len(r) != width:
+                if len(r) > width:
+                    errors[i] = (
+                        f"row has {len(r)} cells but the header has {width}: values "
+                        "may be shifted (an unquoted comma?)"
+                    )
+                rows[i] = (r + [""] * (width - len(r)))[:width]
+        columns = [pa.array(list(c), type=pa.string()) for c in zip(*rows)]
+        return _Chunk(columns, errors, self.line)
+
+    def _csv_module_chunks(self) -> Iterator[_Chunk]:
+        raw = io.BufferedReader(_ChainedReader(self.pending, self.handle), BLOCK_BYTES)
+        text = io.TextIOWrapper(raw, encoding="utf-8", errors="strict", newline="")
+        reader = csv.reader(text, delimiter=self.delimiter)
+        start = self.line
+        rows: list[list[str]] = []
+        while True:
+            try:
+                row = next(reader, None)
+            except csv.Error as exc:
+                raise BatchError(
+                    f"{self.where}: not a readable CSV file (line "
+                    f"{start + reader.line_num - 1}: {exc})"
+                ) from None
+            except UnicodeDecodeError as exc:
+                raise BatchError(
+                    f"{self.where}: not UTF-8 text (byte 0x{exc.object[exc.start]:02x} near "
+                    f"line {start + reader.line_num}; latin-1 or another encoding?); save the "
+                    "file as UTF-8 (CSV UTF-8 in a spreadsheet)"
+                ) from None
+            if row is not None and any(row):
+                rows.append(row)
+            if rows and (row is None or len(rows) == CHUNK_ROWS):
+                self.line = start + reader.line_num
+                chunk = self._rows_chunk(rows)
+                rows = []
+                if chunk is not None:
+                    yield chunk
+            if row is None:
+                return
+
+
+class _ParquetSource:
+    """A Parquet file read in row batches of :data:`CHUNK_ROWS`."""
+
+    format = "parquet"
+    delimiter = ","
+
+    def __init__(self, path: Path):
+        self.path, self.where = path, str(path)
+        self.handle, _ = files.open_regular(path, BatchError, limit=None)
+        try:
+            self.file = pq.ParquetFile(self.handle)
+        except (pa.ArrowException, OSError, ValueError) as exc:
+            self.handle.close()
+            raise BatchError(f"{self.where}: not a readable Parquet file ({exc})") from None
+        self.header = list(self.file.schema_arrow.names)
+        self.total = max(self.file.metadata.num_rows, 1)
+        self.done = 0
+        _check_header(self.header, self.where)
+
+    def close(self) -> None:
+        self.handle.close()
+
+    def progress(self) -> float:
+        return min(self.done / self.total, 1.0)
+
+    def chunks(self) -> Iterator[_Chunk]:
+        try:
+            for batch in self.file.iter_batches(batch_size=CHUNK_ROWS):
+                self.done += batch.num_rows
+                if batch.num_rows:
+                    yield _Chunk(
+                        [_as_arrow(c) for c in batch.columns],
+                        np.full(batch.num_rows, "", dtype=object),
+                        self.done - batch.num_rows + 1,
+                    )
+        except (pa.ArrowException, OSError) as exc:
+            raise BatchError(f"{self.where}: not a readable Parquet file ({exc})") from None
+
+
+def _open_source(path: Path):
+    return _ParquetSource(path) if file_format(path, "input") == "parquet" else _TextSource(path)
+
+
+def read_table(path) -> tuple[list[str], list[list[str]], str]:
+    """Header, data rows (text cells) and delimiter of a delimited text or Parquet file.
+
+    Leading blank and ``#`` lines are skipped, as are blank rows; the delimiter is ","
+    unless the header has none and has ";" or a tab. For small files (everything is read).
+    """
+    source = _open_source(Path(path))
+    try:
+        rows: list[list[str]] = []
+        for chunk in source.chunks():
+            cols = [_as_text(c).to_pylist() for c in chunk.columns]
+            rows.extend([("" if v is None else v) for v in r] for r in zip(*cols))
+        return source.header, rows, source.delimiter
+    finally:
+        source.close()
+
+
+# --- writing -------------------------------------------------------------------------------
+
+
+def _user_mode() -> int:
+    """The mode a new file gets from this user (0666 less the umask; 0644 under umask 022)."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("Umask:"):
+                    return 0o666 & ~int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
+def _target_mode(out_path: Path) -> int:
+    """Refuse a target that is not a regular file; return the mode the output gets."""
+    try:
+        st = os.lstat(out_path)
+    except FileNotFoundError:
+        return _user_mode()
+    except OSError as exc:
+        raise BatchError(f"{out_path}: cannot write there ({exc.strerror or exc})") from None
+    if not stat.S_ISREG(st.st_mode):
+        raise BatchError(
+            f"{out_path}: is {files._kind(st.st_mode)}, not a regular file; batch writes only "
+            "to a regular file or to standard output (-o -)"
+        )
+    return stat.S_IMODE(st.st_mode)
+
+
+class _Output:
+    """Where the rows go: standard output, or a temporary file renamed when complete."""
+
+    def __init__(self, out_path, in_path: Path, kind: str):
+        self.to_stdout = str(out_path) == "-"
+        self.kind = "csv" if self.to_stdout else kind
+        self.tmp: str | None = None
+        self.writer: Any = None
+        self.handle: Any
+        if self.to_stdout:
+            self.path = None
+            self.handle = sys.stdout.buffer if hasattr(sys.stdout, "buffer") else None
+            return
+        self.path = Path(out_path)
+        if self.path.parent and not self.path.parent.is_dir():
+            raise BatchError(f"{self.path}: folder {self.path.parent} does not exist")
+        if self.path.resolve() == in_path.resolve() or (
+            self.path.exists() and os.path.samefile(self.path, in_path)
+        ):
+            raise BatchError(
+                f"{self.path}: the output would overwrite the input; choose another name"
+            )
+        self.mode = _target_mode(self.path)
+        fd, self.tmp = tempfile.mkstemp(
+            prefix=f".{self.path.name}.", suffix=".part", dir=self.path.parent
+        )
+        self.handle = os.fdopen(fd, "wb")
+
+    def write(self, data: bytes) -> None:
+        if self.handle is None:  # a text-only sys.stdout (tests capturing output)
+            sys.stdout.write(data.decode("utf-8"))
+        else:
+            self.handle.write(data)
+
+    def write_table(self, table: pa.Table, metadata: dict[str, str]) -> None:
+        if self.writer is None:
+            schema = table.schema.with_metadata(metadata)
+            self.writer = pq.ParquetWriter(self.handle, schema)
+        self.writer.write_table(table.replace_schema_metadata(self.writer.schema.metadata))
+
+    def finish(self, rows: int) -> None:
+        if self.writer is not None:
+            self.writer.add_key_value_metadata({"o2transit.rows": str(rows)})
+            self.writer.close()
+        if self.tmp is None:
+            if self.handle is not None:
+                self.handle.flush()
+            else:
+                sys.stdout.flush()
+            return
+        self.handle.flush()
+        os.fchmod(self.handle.fileno(), self.mode)
+        self.handle.close()
+        assert self.path is not None
+        _target_mode(self.path)  # still not a special file at the moment of the rename
+        os.replace(self.tmp, self.path)
+        self.tmp = None
+
+    def abandon(self) -> None:
+        """Remove the temporary file (any error or interruption)."""
+        if self.tmp is None:
+            return
+        with contextlib.suppress(Exception):  # a half-written file may fail to close
+            self.handle.close()
+        try:
+            os.unlink(self.tmp)
+        except FileNotFoundError:
+            pass
+        self.tmp = None
 
 
 class _Progress:
     """A one-line progress bar on a terminal; silent when ``stream`` is not a tty."""
 
-    def __init__(self, total: int, stream, enabled: bool | None):
-        self.total, self.stream = total, stream
+    def __init__(self, stream, enabled: bool | None):
+        self.stream = stream
         self.enabled = stream.isatty() if enabled is None else enabled
 
-    def update(self, done: int) -> None:
+    def update(self, done: int, fraction: float, final: bool = False) -> None:
         if not self.enabled:
             return
         width = 30
-        filled = int(width * done / max(self.total, 1))
-        self.stream.write(
-            f"\rbatch [{'#' * filled}{'.' * (width - filled)}] {done:,}/{self.total:,} rows"
-        )
+        filled = int(width * (1.0 if final else fraction))
+        count = f"{done:,}/{done:,} rows" if final else f"{done:,} rows, {fraction:.0%}"
+        self.stream.write(f"\rbatch [{'#' * filled}{'.' * (width - filled)}] {count}")
         self.stream.flush()
 
     def close(self) -> None:
@@ -347,66 +1069,15 @@ class _Progress:
             self.stream.flush()
 
 
-def read_table(path) -> tuple[list[str], list[list[str]], str]:
-    """Header, data rows and delimiter of a CSV file.
-
-    Leading blank and ``#`` lines are skipped, as are blank rows; the delimiter is ","
-    unless the header has none and has ";" or a tab.
-    """
-    header, rows, delimiter, _ = _read_table(path)
-    return header, rows, delimiter
-
-
-def _read_table(path) -> tuple[list[str], list[list[str]], str, list[str] | None]:
-    """As :func:`read_table`, plus the raw text of each row when no cell is quoted."""
-    path = Path(path)
-    if not path.is_file():
-        raise BatchError(
-            f"input file not found: {path}" + ("" if not path.exists() else " (not a regular file)")
-        )
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        text = path.read_text(encoding="latin-1")
-    offset = 0
-    while offset < len(text):
-        end = text.find("\n", offset)
-        end = len(text) if end < 0 else end + 1
-        line = text[offset:end]
-        if line.strip() and not line.startswith("#"):
-            break
-        offset = end
-    if offset >= len(text):
-        raise BatchError(f"{path}: no header line (the file is empty)")
-    head = line
-    delimiter = ","
-    if "," not in head:
-        delimiter = ";" if ";" in head else ("\t" if "\t" in head else ",")
-    body = text[offset:]
-    lines = None
-    if '"' not in body:  # no quoting anywhere: a plain split is the CSV parse
-        raw = body.splitlines()
-        header = [h.strip() for h in raw[0].split(delimiter)]
-        rows = [line.split(delimiter) for line in raw[1:]]
-        keep = list(map(any, rows))
-        if all(keep):
-            lines = raw[1:]
-        else:
-            lines = [line for line, k in zip(raw[1:], keep) if k]
-            rows = [r for r, k in zip(rows, keep) if k]
-    else:
-        reader = csv.reader(io.StringIO(body), delimiter=delimiter)
-        try:
-            header = [h.strip() for h in next(reader)]
-            rows = [r for r in reader if any(r)]
-        except csv.Error as exc:
-            raise BatchError(
-                f"{path}: not a readable CSV file (line {reader.line_num}: {exc})"
-            ) from None
-    dup = sorted({h for h in header if h and header.count(h) > 1})
-    if dup:
-        raise BatchError(f"{path}: column {dup[0]!r} appears more than once")
-    return header, rows, delimiter, lines
+def _with_last(items: Iterator[_Chunk]) -> Iterator[tuple[_Chunk, bool]]:
+    """Each item and whether it is the last (one item read ahead)."""
+    previous = None
+    for item in items:
+        if previous is not None:
+            yield previous, False
+        previous = item
+    if previous is not None:
+        yield previous, True
 
 
 def run_batch(
@@ -414,15 +1085,20 @@ def run_batch(
 ) -> BatchSummary:
     """Compute the bedside derived values for every row of ``in_path`` into ``out_path``.
 
-    ``out_path`` "-" writes to standard output. A file is written to a temporary name and
-    renamed, so a failure never leaves half a file. ``progress`` None shows a bar on
-    ``stream`` (standard error) only when it is a terminal. ``all_columns`` adds every
-    output of :func:`model.bedside.derive` (``ALL_OUTPUTS``) instead of ``BATCH_OUTPUTS``.
+    ``out_path`` "-" writes CSV to standard output; otherwise the format follows the
+    ending (:func:`file_format`). A file is written to a temporary name in the same folder
+    and renamed when complete, so a failure or a kill never leaves half a file under the
+    output's name; the temporary file is removed on any exception, ``KeyboardInterrupt``
+    and ``SystemExit`` included. ``progress`` None shows a bar on ``stream`` (standard
+    error) only when it is a terminal. ``all_columns`` adds every output of
+    :func:`model.bedside.derive` (``ALL_OUTPUTS``) instead of ``BATCH_OUTPUTS``.
 
     Raises
     ------
     BatchError
-        Missing or empty file, missing required column, clashing columns; nothing written.
+        Missing, special, empty or unreadable file, unknown file type, missing required
+        column, clashing columns, a target that is not a regular file or is the input;
+        nothing is written under the output's name.
 
     Examples
     --------
@@ -436,67 +1112,98 @@ def run_batch(
     """
     stream = sys.stderr if stream is None else stream
     in_path = Path(in_path)
-    header, rows, delimiter, lines = _read_table(in_path)
+    if not os.path.lexists(in_path):
+        raise BatchError(f"input file not found: {in_path}")
+    if str(out_path) != "-":
+        _target_mode(Path(out_path))  # a device, FIFO or link is refused before anything else
+    out_kind = "csv" if str(out_path) == "-" else file_format(out_path, "output")
+    source = _open_source(in_path)
+    try:
+        return _run(source, in_path, out_path, out_kind, stream, progress, all_columns)
+    finally:
+        source.close()
+
+
+def _run(source, in_path, out_path, out_kind, stream, progress, all_columns) -> BatchSummary:
+    header = source.header
     _column_map(header, str(in_path))  # file-level problems before anything is written
     outputs = ALL_OUTPUTS if all_columns else BATCH_OUTPUTS
+    delimiter = source.delimiter
     decimal_comma = delimiter == ";"
-    to_stdout = str(out_path) == "-"
-    if not to_stdout:
-        out_path = Path(out_path)
-        if out_path.resolve() == in_path.resolve():
-            raise BatchError(
-                f"{out_path}: the output would overwrite the input; choose another name"
+    output = _Output(out_path, in_path, out_kind)
+    bar = _Progress(stream, progress)
+    metadata = {
+        "o2transit.caution": CAUTION,
+        "o2transit.version": _version(),
+        "o2transit.columns_added": ",".join(outputs),
+    }
+
+    def compute(chunk: _Chunk, last: bool, rows_before: int):
+        derived, errors = derive_columns(
+            dict(zip(header, chunk.columns)),
+            decimal_comma=decimal_comma,
+            errors=chunk.errors,
+            source=str(in_path),
+        )
+        n_errors = int(np.count_nonzero(errors != ""))
+        n = len(errors)
+        if output.kind == "csv":
+            end = str(rows_before + n) if last else None
+            return (
+                n,
+                n_errors,
+                _csv_lines(chunk, derived, errors, outputs, delimiter, decimal_comma, end),
             )
-        if not out_path.parent.is_dir():
-            raise BatchError(f"{out_path}: folder {out_path.parent} does not exist")
-    bar = _Progress(len(rows), stream, progress)
-    width = len(header)
-    n_errors = 0
-    if to_stdout:
-        handle, tmp = sys.stdout, None
-    else:
-        fd, tmp = tempfile.mkstemp(prefix=f".{out_path.name}.", dir=out_path.parent)
-        handle = os.fdopen(fd, "w", encoding="utf-8", newline="")
+        columns = list(chunk.columns) + _arrow_outputs(derived, errors, outputs)
+        return n, n_errors, pa.Table.from_arrays(columns, names=header + list(outputs))
+
+    rows = n_errors = 0
+    pool = ThreadPoolExecutor(max_workers=_THREADS, thread_name_prefix="o2transit-batch")
     try:
-        handle.write(f"# o2transit batch. {CAUTION}\n")
-        handle.write(delimiter.join(_quoted(header + list(outputs), delimiter)) + "\n")
-        bar.update(0)
-        for start in range(0, len(rows), CHUNK_ROWS):
-            chunk = rows[start : start + CHUNK_ROWS]
-            raw = None if lines is None else lines[start : start + CHUNK_ROWS]
-            errors = np.full(len(chunk), "", dtype=object)
-            lengths = np.fromiter(map(len, chunk), dtype=np.int64, count=len(chunk))
-            for i in np.flatnonzero(lengths != width).tolist():
-                r = chunk[i]
-                if len(r) > width:
-                    errors[i] = (
-                        f"row has {len(r)} cells but the header has {width}: values "
-                        "may be shifted (an unquoted comma?)"
-                    )
-                chunk[i] = (r + [""] * (width - len(r)))[:width]
-                if raw is not None:
-                    raw[i] = delimiter.join(chunk[i])
-            inputs = list(zip(*chunk))
-            derived, errors = derive_columns(
-                dict(zip(header, inputs)),
-                decimal_comma=decimal_comma,
-                errors=errors,
-                source=str(in_path),
-            )
-            n_errors += int(np.count_nonzero(errors != ""))
-            handle.write(
-                _output_lines(inputs, derived, errors, outputs, delimiter, decimal_comma, raw)
-            )
-            bar.update(start + len(chunk))
+        if output.kind == "csv":
+            names = pa.array(header + list(outputs) + [END_COLUMN], type=pa.string())
+            cells = _quoted(names, delimiter).to_pylist()
+            output.write((delimiter.join(cells) + "\n").encode("utf-8"))
+        bar.update(0, 0.0)
+        pending: list[Future] = []
+        queued = 0
+        empty = True
+
+        def drain(keep: int) -> None:
+            nonlocal rows, n_errors
+            while len(pending) > keep:
+                n, e, result = pending.pop(0).result()
+                if output.kind == "csv":
+                    output.write(result)
+                else:
+                    output.write_table(result, metadata)
+                rows += n
+                n_errors += e
+                bar.update(rows, source.progress())
+
+        for chunk, last in _with_last(source.chunks()):
+            empty = False
+            pending.append(pool.submit(compute, chunk, last, queued))
+            queued += len(chunk.errors)
+            drain(_THREADS)
+        drain(0)
+        if empty:
+            raise BatchError(f"{in_path}: no data rows under the header; nothing to derive")
+        bar.update(rows, 1.0, final=True)
         bar.close()
-        if tmp is not None:
-            handle.close()
-            os.replace(tmp, out_path)
-            tmp = None
-        else:
-            handle.flush()
-    finally:
-        if tmp is not None:
-            handle.close()
-            os.unlink(tmp)
-    return BatchSummary(len(rows), n_errors, "-" if to_stdout else str(out_path))
+        output.finish(rows)
+    except BaseException:
+        pool.shutdown(wait=False, cancel_futures=True)
+        output.abandon()
+        raise
+    pool.shutdown(wait=True)
+    where = "-" if output.to_stdout else str(output.path)
+    return BatchSummary(rows, n_errors, where, output.kind)
+
+
+def _version() -> str:
+    try:
+        from o2transit import __version__
+    except ImportError:  # pragma: no cover - the model used outside the package
+        return "unknown"
+    return __version__

@@ -52,7 +52,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import SupportsFloat, SupportsIndex
+from typing import Any, SupportsFloat, SupportsIndex
 
 import numpy as np
 
@@ -132,6 +132,35 @@ does not know (it never knows PEEP)."""
 AA_EXPECTED_MODELS = ("mellemgaard1966", "age4")
 """Age-expected A-a gradient breathing air: ``"mellemgaard1966"`` 2.5 + 0.21 age [4];
 ``"age4"`` age/4 + 4, a clinical rule of thumb (common practice, origin not traced)."""
+
+SHUNT_BELOW_ZERO = (
+    "shunt < 0: measured content above the end-capillary estimate: the samples disagree "
+    "(SaO2 above the curve's end-capillary saturation: the patient's curve left of the "
+    "standard one, or a measurement error)"
+)
+"""The reason and flag of a negative Berggren shunt (CaO2 above the estimated CcO2)."""
+
+DERIVED_BOUNDS: dict[str, tuple[float, float, str]] = {
+    "shunt_fraction": (0.0, 1.0, "a fraction of the cardiac output"),
+    "extraction_ratio": (0.0, 1.0, "a fraction of the arterial content"),
+    "sao2_from_curve": (0.0, 1.0, "a saturation"),
+    "cao2_ml_dl": (0.0, 40.0, "O2 content at Hb 25 g/dL, fully saturated, is below 36"),
+    "cco2_ml_dl": (0.0, 40.0, "O2 content at Hb 25 g/dL, fully saturated, is below 36"),
+    "cvo2_ml_dl": (0.0, 40.0, "O2 content at Hb 25 g/dL, fully saturated, is below 36"),
+    "do2_ml_min": (0.0, 20000.0, "40 L/min x 40 mL/dL is 16,000"),
+    "vo2_ml_min": (0.0, 20000.0, "an uptake above the delivery"),
+    "pao2_fio2_ratio": (0.0, 15000.0, "PaO2 750 / FiO2 0.05"),
+    "alveolar_po2_mmhg": (0.0, 1100.0, "the barometric pressure"),
+    "p50_insitu_mmhg": (5.0, 150.0, "an oxygen dissociation curve"),
+    "p50_standard_mmhg": (5.0, 150.0, "an oxygen dissociation curve"),
+}
+"""Derived key -> (lowest, highest, what bounds it): physical bounds. A value outside them
+gets a flag naming the value, the bound and why (the fuzz suite checks every output)."""
+
+PLAUSIBLE_P50_MMHG = (10.0, 80.0)
+"""In-situ P50 accepted from the single-point method [mmHg]; outside it the PaO2/SaO2 pair
+cannot be one point of a human curve (common practice, no source: reported P50s in disease
+and with HbF or CO lie well inside 12-50 mmHg)."""
 
 SINGLE_POINT_SO2_RANGE = (0.20, 0.97)
 """Saturations over which the single-point Hill P50 is accepted [-]. The IFCC
@@ -224,6 +253,7 @@ _DYSHAEMOGLOBIN_MESSAGE = (
     "haemoglobin)"
 )
 _PH_TEMP_PER_C = -0.0147
+_LN_0243_PER_100 = math.log(0.243 / 100.0)
 
 
 def _out_of_range_message(name: str, value: float) -> str:
@@ -342,7 +372,8 @@ def temperature_corrected_po2(po2_37_mmhg, temperature_c, *, steps: int = 8):
     h = (np.asarray(temperature_c, dtype=float) - 37.0) / steps
 
     def rate(lp):
-        return 0.058 / ((0.243 * np.exp(lp) / 100.0) ** 3.88 + 1.0) + 0.013
+        # (0.243 PO2/100)^3.88 written as one exponential of ln PO2
+        return 0.058 / (np.exp(3.88 * (lp + _LN_0243_PER_100)) + 1.0) + 0.013
 
     for _ in range(steps):
         k1 = rate(lnp)
@@ -429,15 +460,56 @@ def expected_aa_gradient(age_years, *, model: str = "mellemgaard1966"):
     raise ValueError(f"A-a model {model!r} is unknown; choose one of {AA_EXPECTED_MODELS}")
 
 
-def _category(ratio, cuts):
+_CATEGORY_TEXT = ("",) + PF_CATEGORIES
+
+
+def _category(ratio, cuts) -> _Text:
     """Code by (mild, moderate, severe) upper bounds: ratio <= cut falls into the class."""
     mild, moderate, severe = cuts
-    code = np.full(ratio.shape, "", dtype=object)
-    code[ratio > mild] = "none"
-    code[(ratio > moderate) & (ratio <= mild)] = "mild"
-    code[(ratio > severe) & (ratio <= moderate)] = "moderate"
-    code[ratio <= severe] = "severe"
-    return code
+    code = np.zeros(ratio.shape, dtype=np.int64)
+    code[ratio > mild] = 1
+    code[(ratio > moderate) & (ratio <= mild)] = 2
+    code[(ratio > severe) & (ratio <= moderate)] = 3
+    code[ratio <= severe] = 4
+    return _Text(code, _CATEGORY_TEXT)
+
+
+@dataclass(frozen=True)
+class _Text:
+    """A text output as codes into a tuple of its distinct strings (``strings[0] == ""``)."""
+
+    codes: np.ndarray
+    strings: tuple[str, ...]
+
+    def blanked(self, keep) -> _Text:
+        return _Text(np.where(keep, self.codes, 0), self.strings)
+
+    def objects(self) -> np.ndarray:
+        table = np.empty(len(self.strings), dtype=object)
+        table[:] = self.strings
+        return table[self.codes]
+
+
+class Derived(dict):
+    """What :func:`derive` returns: a dict of arrays, plus ``text``, the same text outputs
+    as codes (flat int arrays) into tuples of their distinct strings, for writers that
+    turn a few distinct strings into millions of cells (the batch)."""
+
+    text: dict[str, tuple[np.ndarray, tuple[str, ...]]]
+
+
+_JOINED: dict[tuple[tuple[str, ...], int], str] = {}
+
+
+def _joined(messages: tuple[str, ...], combo: int) -> str:
+    """The messages whose bits are set in ``combo``, joined by "; " (remembered)."""
+    text = _JOINED.get((messages, combo))
+    if text is None:
+        if len(_JOINED) > 200_000:
+            _JOINED.clear()
+        text = "; ".join(m for b, m in enumerate(messages) if combo >> b & 1)
+        _JOINED[(messages, combo)] = text
+    return text
 
 
 class _Messages:
@@ -463,13 +535,22 @@ class _Messages:
     def mask(self) -> np.ndarray:
         return self.bits != 0
 
-    def text(self, keep=True) -> np.ndarray:
-        """The joined messages per element ("" where ``keep`` is False)."""
-        combos, inverse = np.unique(np.where(keep, self.bits, 0), return_inverse=True)
-        strings = np.empty(len(combos), dtype=object)
-        for k, c in enumerate(combos.tolist()):
-            strings[k] = "; ".join(m for b, m in enumerate(self.messages) if c >> b & 1)
-        return strings[inverse.ravel()]
+    def text(self, keep=True) -> _Text:
+        """The joined messages per element ("" where ``keep`` is False), as codes."""
+        bits = np.where(keep, self.bits, 0).ravel()
+        if len(self.messages) <= 20:  # a lookup table instead of a sort
+            present = np.zeros(1 << len(self.messages), dtype=bool)
+            present[bits] = True
+            present[0] = True
+            combos = np.flatnonzero(present)
+            index = np.cumsum(present) - 1
+            inverse = index[bits]
+        else:
+            combos, inverse = np.unique(np.append(bits, 0), return_inverse=True)
+            inverse = inverse.ravel()[:-1]
+        key = tuple(self.messages)
+        strings = tuple(_joined(key, c) for c in combos.tolist())
+        return _Text(inverse, strings)
 
 
 def _given(x):
@@ -488,7 +569,8 @@ class _Work:
     """MetHb fraction, 0 where not given [-]."""
     notes: _Messages
     reasons: _Messages
-    out: dict[str, np.ndarray] = field(default_factory=dict)
+    out: dict[str, Any] = field(default_factory=dict)
+    """Outputs made so far: float arrays, and :class:`_Text` for the categories."""
 
 
 def _measured(given: dict) -> tuple[_Work, tuple[int, ...]]:
@@ -622,11 +704,7 @@ def _contents_and_shunt(w: _Work, capillary_saturation: str) -> np.ndarray:
     no_gap = np.isfinite(cvo2) & np.isfinite(cco2) & (cco2 <= cvo2) & ~venous_high
     w.reasons.add(no_gap, "shunt: CcO2 <= CvO2 (the venous sample cannot be right)")
     shunt = np.where(no_gap | venous_high, np.nan, shunt)
-    w.reasons.add(
-        np.isfinite(shunt) & (shunt < 0),
-        "shunt < 0: SaO2 is above the curve's end-capillary saturation (patient's curve "
-        "left of the standard one, or a measurement error)",
-    )
+    w.reasons.add(np.isfinite(shunt) & (shunt < 0), SHUNT_BELOW_ZERO)
     out["shunt_fraction"] = shunt
     return venous_high
 
@@ -678,8 +756,18 @@ def _p50(w: _Work, hill_n: float) -> _Messages:
         f"SaO2 below {lo_s:g}: outside the single-point method's validated range",
     )
     p50_reason.add(w.cohb > 0.10, "COHb above 0.10: the curve is no longer Hill-shaped")
+    raw = single_point_p50(pao2, sa, hill_n=hill_n)
+    lo_p, hi_p = PLAUSIBLE_P50_MMHG
+    with np.errstate(invalid="ignore"):
+        implausible = ~p50_reason.mask() & np.isfinite(raw) & ((raw < lo_p) | (raw > hi_p))
+    p50_reason.add(
+        implausible,
+        f"in-situ P50 outside the plausible {lo_p:g}-{hi_p:g} mmHg: PaO2 and SaO2 disagree "
+        "(not one point of a human curve: a venous sample, a pulse-oximeter SaO2, or a "
+        "transcription error?)",
+    )
     refused = p50_reason.mask()
-    p50_insitu = np.where(refused, np.nan, single_point_p50(pao2, sa, hill_n=hill_n))
+    p50_insitu = np.where(refused, np.nan, raw)
     factor = p50(ph=m["ph"], pco2_mmhg=m["paco2_mmhg"], temperature_c=37.0) / p50()
     out["p50_insitu_mmhg"] = p50_insitu
     out["p50_standard_mmhg"] = p50_insitu / factor
@@ -714,7 +802,7 @@ def _flags(w: _Work) -> _Messages:
         if high is not None:
             flags.add(v > high, f"{label} above {high:g}")
     flags.add(
-        np.isin(out["pf_category_berlin"], PF_CATEGORIES[1:]),
+        out["pf_category_berlin"].codes >= 2,  # mild, moderate or severe
         "P/F in the ARDS oxygenation range (<= 300 by Berlin 2012)",
     )
     flags.add(
@@ -726,20 +814,38 @@ def _flags(w: _Work) -> _Messages:
         out["aa_gradient_mmhg"] > out["aa_gradient_expected_mmhg"],
         "A-a gradient above the age-expected value (room-air norm)",
     )
+    flags.add(out["shunt_fraction"] < 0, SHUNT_BELOW_ZERO)
+    for key, (low, high, why) in DERIVED_BOUNDS.items():
+        v = out[key]
+        with np.errstate(invalid="ignore"):
+            below = (v < low) if key != "shunt_fraction" else np.zeros(v.shape, dtype=bool)
+            flags.add(
+                below | (v > high),
+                f"{key} outside its physical bounds {low:g}-{high:g} ({why}): not a valid "
+                "value; check the inputs",
+            )
     return flags
 
 
-def _finish(w: _Work, shape, p50_reason: _Messages, flags: _Messages) -> dict[str, np.ndarray]:
+def _finish(w: _Work, shape, p50_reason: _Messages, flags: _Messages) -> Derived:
     """Outputs in the input shape, blank (NaN or "") wherever a required input is missing."""
     complete = np.all([np.isfinite(w.m[k]) for k in REQUIRED_MEASURED], axis=0)
-    result = {
-        k: np.reshape(np.where(complete, v, "" if v.dtype == object else np.nan), shape)
-        for k, v in w.out.items()
-    }
-    result["notes"] = w.notes.text(complete).reshape(shape)
-    result["reasons"] = w.reasons.text(complete).reshape(shape)
-    result["p50_insitu_reason"] = p50_reason.text(complete).reshape(shape)
-    result["flags"] = flags.text(complete).reshape(shape)
+    every = bool(complete.all())
+    result = Derived()
+    result.text = {}
+    texts: dict[str, _Text] = {}
+    for k, v in w.out.items():
+        if isinstance(v, _Text):
+            texts[k] = v if every else v.blanked(complete)
+        else:
+            result[k] = np.reshape(v if every else np.where(complete, v, np.nan), shape)
+    texts["notes"] = w.notes.text(complete)
+    texts["reasons"] = w.reasons.text(complete)
+    texts["p50_insitu_reason"] = p50_reason.text(complete)
+    texts["flags"] = flags.text(complete)
+    for k, t in texts.items():
+        result[k] = t.objects().reshape(shape)
+        result.text[k] = (t.codes, t.strings)
     return result
 
 
@@ -770,7 +876,7 @@ def derive(
     hill_n: float = HILL_N,
     aa_expected_model: str = "mellemgaard1966",
     capillary_saturation: str = "curve",
-) -> dict[str, np.ndarray]:
+) -> Derived:
     """The derived oxygenation picture of measured blood gases, vectorised.
 
     Every argument broadcasts; optional ones are None or NaN where not given, and every

@@ -29,8 +29,21 @@ File layout (format version 1)::
     [fit.fitted]         # fitted parameters
     [[fit.residuals]]    # quantity, measured, model, difference, unit
 
+    [[plans]]            # optional: named stacks of changes (model.plans), in order
+    name = "blood and oxygen"
+    changes = [          # kind, value (in the kind's unit), stored_blood; applied in order
+        { kind = "hb", value = 10.0, stored_blood = false },
+    ]
+
+    [[gases]]            # optional: the gases of a shift (model.series), in order
+    time = "06:00"
+    [gases.measured]     # keys as in [measured]
+
     [notes]
     text = \"\"\"free text\"\"\"
+
+Files without ``[[plans]]`` or ``[[gases]]`` (saved before they existed) open with none;
+a version that does not know them ignores them.
 
 The folder is :func:`default_case_dir` unless the caller names another.
 """
@@ -55,6 +68,8 @@ import tomli_w
 
 from .bedside import check_measured
 from .limits import INPUT_CHOICES, INPUT_LIMITS, check_range
+from .plans import MAX_PLANS, Plan, plan_from_table, plan_table
+from .series import Gas, check_series, gas_from_table, gas_table
 from .transport import CASE_INPUTS
 
 FORMAT_VERSION = 1
@@ -104,6 +119,8 @@ class CaseRecord:
     fit_consistent: bool | None = None
     fit_messages: list = field(default_factory=list)
     fit_assumptions: list = field(default_factory=list)
+    plans: list[Plan] = field(default_factory=list)
+    gases: list[Gas] = field(default_factory=list)
 
 
 def default_case_dir() -> Path:
@@ -283,7 +300,15 @@ def _exists_message(target: Path) -> str:
 
 
 def save_case(
-    directory, label: str, measured: Mapping, fit=None, notes: str = "", *, overwrite: bool = False
+    directory,
+    label: str,
+    measured: Mapping,
+    fit=None,
+    notes: str = "",
+    *,
+    overwrite: bool = False,
+    plans=(),
+    gases=(),
 ) -> Path:
     """Save one case as ``<label-slug>.toml`` in ``directory``; return the path.
 
@@ -302,6 +327,11 @@ def save_case(
         Free text, up to 20000 characters.
     overwrite : bool
         Replace an existing file of the same name; otherwise refuse.
+    plans : sequence of model.plans.Plan
+        Stored as ``[[plans]]`` (checked by :func:`model.plans.check_plan`).
+    gases : sequence of model.series.Gas
+        The shift's gases, stored as ``[[gases]]`` (checked by
+        :func:`model.series.check_series`).
 
     Raises
     ------
@@ -309,7 +339,8 @@ def save_case(
         Invalid label or notes, a file of that name already exists (and not
         ``overwrite``), or the folder cannot be written (the reason is given).
     ValueError
-        A measured value out of range (field, value, range, unit).
+        A measured value out of range (field, value, range, unit). A bad plan or gas, or
+        more than ``model.plans.MAX_PLANS`` plans, is a CaseFileError naming it.
 
     Examples
     --------
@@ -338,6 +369,15 @@ def save_case(
     }
     if fit is not None:
         doc["fit"] = _fit_table(fit)
+    try:
+        if len(plans) > MAX_PLANS:
+            raise ValueError(f"{len(plans)} plans; a case keeps at most {MAX_PLANS}")
+        if plans:
+            doc["plans"] = _plain([plan_table(plan) for plan in plans])
+        if gases:
+            doc["gases"] = _plain([gas_table(gas) for gas in check_series(list(gases))])
+    except ValueError as exc:
+        raise CaseFileError(f"not saved: {exc}") from None
     doc["notes"] = {"text": notes}
     data = (_FILE_HEADER + tomli_w.dumps(doc, multiline_strings=True)).encode("utf-8")
     folder = Path(directory).expanduser()
@@ -447,6 +487,14 @@ def open_case(path) -> CaseRecord:
     notes = _table(data, "notes", p, required=False).get("text", "")
     if not isinstance(notes, str):
         raise CaseFileError(f"{p}: [notes] text must be text")
+    plans = [_entry(p, "plans", i, plan_from_table, t) for i, t in _tables(data, "plans", p)]
+    gases = [_entry(p, "gases", i, gas_from_table, t) for i, t in _tables(data, "gases", p)]
+    if len(plans) > MAX_PLANS:
+        raise CaseFileError(f"{p}: {len(plans)} [[plans]]; a case keeps at most {MAX_PLANS}")
+    try:
+        check_series(gases)
+    except ValueError as exc:
+        raise CaseFileError(f"{p}: [[gases]] {exc}") from None
     return CaseRecord(
         label=label,
         saved_at=saved_at,
@@ -459,7 +507,24 @@ def open_case(path) -> CaseRecord:
         fit_consistent=consistent,
         fit_messages=texts["messages"],
         fit_assumptions=texts["assumptions"],
+        plans=plans,
+        gases=gases,
     )
+
+
+def _tables(data: dict, key: str, where: Path) -> list[tuple[int, dict]]:
+    """The numbered tables of an optional ``[[key]]`` array (none when absent)."""
+    value = data.get(key, [])
+    if not isinstance(value, list) or not all(isinstance(t, dict) for t in value):
+        raise CaseFileError(f"{where}: [[{key}]] must be a list of tables")
+    return list(enumerate(value, start=1))
+
+
+def _entry(where: Path, key: str, number: int, read, table: dict):
+    try:
+        return read(table)
+    except ValueError as exc:
+        raise CaseFileError(f"{where}: [[{key}]] number {number}: {exc}") from None
 
 
 def list_cases(directory) -> tuple[list[CaseRecord], list[str]]:

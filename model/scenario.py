@@ -1,15 +1,20 @@
 """Scenario files (``scenarios/*.toml``): read, validate, turn into solver inputs.
 
-Every problem is reported as one :class:`ScenarioError` naming the file, the key, the
-value, the allowed range and the unit; nothing is half-loaded.
+Every problem in a file is reported at once in one :class:`ScenarioError`, one line per
+problem naming the file, the table, the key, the value, the allowed range and the unit;
+nothing is half-loaded. Files are read through :mod:`model.files` (special, empty, oversized,
+non-UTF-8 and deeply nested files refused in one line); ``read_toml`` is re-exported here
+for the ascent and lesson loaders.
 """
 
 from __future__ import annotations
 
-import tomllib
+import difflib
+import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from .files import read_toml
 from .limits import INPUT_CHOICES, INPUT_LIMITS, MAX_COHB_PLUS_METHB
 from .units import UnitVariant, unit_variants
 
@@ -70,7 +75,15 @@ its unit, unit label): ``barometric_pressure_kpa, paco2_kpa, p50_kpa`` [kPa], ``
 
 
 class ScenarioError(ValueError):
-    """A scenario file that cannot be used; the message says where and why."""
+    """A scenario file that cannot be used; the message says where and why.
+
+    ``problems`` lists every problem found (one per line of the message, each line starting
+    with the file), so a user fixes a file in one pass instead of one error at a time.
+    """
+
+    def __init__(self, message: str, problems: tuple[str, ...] = ()):
+        super().__init__(message)
+        self.problems = problems or (message,)
 
 
 @dataclass(frozen=True)
@@ -83,101 +96,171 @@ class Scenario:
     inputs: dict = field(default_factory=dict)
 
 
-def scenario_from_mapping(data: dict, where: str = "<scenario>") -> Scenario:
+def _suggest(word: str, choices) -> str:
+    close = [c for c in choices if word and (c.startswith(word) or word.startswith(c))]
+    close = close or difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    return f"did you mean {close[0]!r}? " if close else ""
+
+
+def _home_table(key: str) -> str | None:
+    """The table a top-level key belongs in (``hb_g_dl`` -> ``blood``), if any."""
+    for table, keys in _KEYS.items():
+        if key in keys:
+            return table
+    return None
+
+
+def _range_text(sub: str, spec: UnitVariant, target: str) -> str:
+    lo, hi, unit, _ = INPUT_LIMITS[target]
+    if sub in SCENARIO_UNIT_VARIANTS:
+        return f"{spec.from_canonical(lo):.4g}-{spec.from_canonical(hi):.4g} {spec.unit}"
+    return f"{lo:g}-{hi:g} {unit}".rstrip()
+
+
+def _check_value(table: str, sub: str, raw, problems: list[str]):
+    """The canonical value of one table key, or None after adding its problem."""
+    spec = _KEYS[table][sub]
+    target = sub if spec is None else spec.key
+    if spec is None:  # a choice, or a flag (true or false)
+        choices = INPUT_CHOICES[target]
+        if choices == (False, True):
+            if not isinstance(raw, bool):
+                problems.append(f"[{table}] {sub} = {raw!r} must be true or false")
+                return None
+        elif not isinstance(raw, str) or raw not in choices:
+            problems.append(f"[{table}] {sub} = {raw!r} is not one of {', '.join(choices)}")
+            return None
+        return raw
+    lo, hi, _, label = INPUT_LIMITS[target]
+    allowed = f"allowed range {_range_text(sub, spec, target)} ({label})"
+    if isinstance(raw, bool) or not isinstance(raw, (int, float)):
+        problems.append(f"[{table}] {sub} = {raw!r} must be a number; {allowed}")
+        return None
+    value = float(raw)
+    if math.isnan(value):
+        problems.append(f"[{table}] {sub} = nan is not a number; {allowed}")
+        return None
+    converted = spec.to_canonical(value)
+    if not lo <= converted <= hi:
+        problems.append(f"[{table}] {sub} = {raw!r} is outside the {allowed}")
+        return None
+    return converted
+
+
+def _problems(data: dict) -> tuple[dict, list[str]]:
+    """Inputs of a parsed scenario mapping and every problem found in it."""
+    problems: list[str] = []
+    inputs: dict = {}
+    source: dict = {}
+    for key, value in data.items():
+        if key in _TOP:
+            if not isinstance(value, str):
+                problems.append(f"{key} = {value!r} must be text")
+            continue
+        if key not in _KEYS:
+            home = _home_table(key)
+            if home is not None and not isinstance(value, dict):
+                problems.append(f"{key} is not a top-level key; put it in the [{home}] table")
+            else:
+                kind = "table" if isinstance(value, dict) else "top-level key"
+                shown = f"[{key}]" if isinstance(value, dict) else repr(key)
+                problems.append(
+                    f"unknown {kind} {shown}; {_suggest(key, _KEYS)}allowed tables: "
+                    f"{', '.join(_KEYS)}; top-level keys: name, description"
+                )
+            continue
+        if not isinstance(value, dict):
+            problems.append(f"{key} must be a table [{key}], not a single value")
+            continue
+        for sub, raw in value.items():
+            if sub not in _KEYS[key]:
+                home = _home_table(sub)
+                where = f"it belongs in [{home}]; " if home else _suggest(sub, _KEYS[key])
+                problems.append(
+                    f"[{key}] unknown key {sub!r}; {where}allowed: {', '.join(_KEYS[key])}"
+                )
+                continue
+            spec = _KEYS[key][sub]
+            target = sub if spec is None else spec.key
+            if target in source:
+                problems.append(
+                    f"[{key}] {sub} and {source[target]} give the same quantity twice; keep one"
+                )
+                continue
+            source[target] = sub
+            checked = _check_value(key, sub, raw, problems)
+            if checked is not None:
+                inputs[target] = checked
+    if "ph" in source and "base_excess_mmol_l" in source:
+        problems.append("[blood] ph and base_excess_mmol_l are both given; keep one")
+    if "altitude_m" in source and "barometric_pressure_mmhg" in source:
+        problems.append(
+            f"[air] altitude_m and {source['barometric_pressure_mmhg']} are both given; keep one"
+        )
+    if inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0) >= MAX_COHB_PLUS_METHB:
+        total = inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0)
+        problems.append(
+            f"[blood] cohb_fraction + methb_fraction must stay below {MAX_COHB_PLUS_METHB:g} "
+            f"(given: {total:g}; fractions of total haemoglobin)"
+        )
+    return inputs, problems
+
+
+def _raise(where: str, problems: list[str]) -> None:
+    lines = tuple(f"{where}: {p}" for p in problems)
+    raise ScenarioError("\n".join(lines), lines)
+
+
+def scenario_from_mapping(
+    data: dict, where: str = "<scenario>", default_name: str | None = None
+) -> Scenario:
     """Validate a parsed scenario mapping (as from TOML or a URL) and build a Scenario.
+
+    Every key is optional. Every problem is collected, then all are raised together as
+    one :class:`ScenarioError` (one line each: where, table, key, value, allowed range and
+    unit). The name falls back to ``default_name``, else ``where``.
 
     Examples
     --------
     >>> s = scenario_from_mapping({"name": "x", "blood": {"hb_g_l": 90}})
     >>> s.inputs["hb_g_dl"]
     9.0
+    >>> try:
+    ...     scenario_from_mapping({"blod": {}, "air": {"fio2": 2}}, "f.toml")
+    ... except ScenarioError as exc:
+    ...     print("\\n".join(p.split("?")[0] for p in exc.problems))
+    f.toml: unknown table [blod]; did you mean 'blood'
+    f.toml: [air] fio2 = 2 is outside the allowed range 0.05-1 (FiO2)
     """
-
-    def fail(msg):
-        raise ScenarioError(f"{where}: {msg}")
-
-    inputs: dict = {}
-    source: dict = {}
-    for key, value in data.items():
-        if key in _TOP:
-            if not isinstance(value, str):
-                fail(f"{key} = {value!r} must be text")
-            continue
-        if key not in _KEYS:
-            fail(
-                f"unknown key {key!r}; allowed tables: {', '.join(_KEYS)}; "
-                "top-level keys: name, description"
-            )
-        if not isinstance(value, dict):
-            fail(f"{key} must be a table [{key}]")
-        for sub, raw in value.items():
-            if sub not in _KEYS[key]:
-                fail(f"[{key}] unknown key {sub!r}; allowed: {', '.join(_KEYS[key])}")
-            spec = _KEYS[key][sub]
-            target = sub if spec is None else spec.key
-            if target in source:
-                fail(f"[{key}] {sub} and {source[target]} give the same quantity twice; keep one")
-            source[target] = sub
-            if spec is None:  # a choice, or a flag (true or false)
-                choices = INPUT_CHOICES[target]
-                if choices == (False, True):
-                    if not isinstance(raw, bool):
-                        fail(f"[{key}] {sub} = {raw!r} must be true or false")
-                elif raw not in choices:
-                    fail(f"[{key}] {sub} = {raw!r} is not one of {', '.join(choices)}")
-                inputs[target] = raw
-                continue
-            if isinstance(raw, bool) or not isinstance(raw, (int, float)):
-                fail(f"[{key}] {sub} = {raw!r} must be a number")
-            converted = spec.to_canonical(float(raw))
-            lo, hi, unit, label = INPUT_LIMITS[target]
-            if not lo <= converted <= hi:
-                if sub in SCENARIO_UNIT_VARIANTS:
-                    shown = (spec.from_canonical(lo), spec.from_canonical(hi))
-                    lo_txt = f"{shown[0]:.4g}-{shown[1]:.4g} {spec.unit}"
-                else:
-                    lo_txt = f"{lo:g}-{hi:g} {unit}".rstrip()
-                fail(f"[{key}] {sub} = {raw!r} is outside the allowed range {lo_txt} ({label})")
-            inputs[target] = converted
-    if "ph" in inputs and "base_excess_mmol_l" in inputs:
-        fail("[blood] ph and base_excess_mmol_l are both given; keep one")
-    if "altitude_m" in inputs and "barometric_pressure_mmhg" in inputs:
-        fail("[air] altitude_m and barometric pressure are both given; keep one")
-    if inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0) >= MAX_COHB_PLUS_METHB:
-        fail(f"[blood] cohb_fraction + methb_fraction must stay below {MAX_COHB_PLUS_METHB:g}")
+    if not isinstance(data, dict):
+        _raise(where, [f"expected a table of keys, not {type(data).__name__}"])
+    inputs, problems = _problems(data)
+    if problems:
+        _raise(where, problems)
     name = data.get("name", "")
     return Scenario(
-        name=name or where, description=data.get("description", ""), path=where, inputs=inputs
+        name=name or default_name or where,
+        description=data.get("description", ""),
+        path=where,
+        inputs=inputs,
     )
 
 
-def read_toml(path: Path, error: type[ValueError]) -> dict:
-    """Parse a TOML file, raising ``error`` with the path on an unreadable or invalid file."""
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise error(f"{path}: cannot read the file ({exc.strerror or exc})") from None
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise error(f"{path}: not valid TOML ({exc})") from None
-
-
 def load_scenario(path) -> Scenario:
-    """Read and validate one scenario file.
+    """Read and validate one scenario file (every key optional; the name falls back to the
+    file's name without ``.toml``).
 
     Raises
     ------
     ScenarioError
-        Unreadable file, TOML syntax error, unknown key, wrong type, value out of range
-        or an impossible combination; the message names file, key, value, range and unit.
+        Unreadable, special, empty, oversized or non-UTF-8 file, TOML syntax error or
+        nesting (:mod:`model.files`); unknown table or key, wrong type, value out of range
+        or an impossible combination, all reported at once (file, table, key, value, range
+        and unit); or a case the chain cannot solve.
     """
     p = Path(path)
     data = read_toml(p, ScenarioError)
-    for key in ("name", "description"):
-        if key not in data:
-            raise ScenarioError(f"{p}: missing required top-level key {key!r} (text)")
-    scenario = scenario_from_mapping(data, str(p))
+    scenario = scenario_from_mapping(data, str(p), default_name=p.stem)
     from .transport import solve_transport
 
     try:

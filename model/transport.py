@@ -5,6 +5,7 @@ from __future__ import annotations
 import inspect
 import math
 from dataclasses import asdict, dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -62,6 +63,10 @@ class TransportResult:
     o2_extracted_ml_per_l: np.ndarray
     venous_shift_gain_ml_per_l: np.ndarray
     iterations: int
+    converged: np.ndarray
+    """True where the mixed venous PO2 settled within ``tol`` in ``max_iterations`` passes;
+    False where the passes ran out first (the values are then the last pass's, not a
+    solution: raise ``max_iterations`` or treat them as unknown)."""
     arterial_conditions: dict = field(repr=False)
     venous_conditions: dict = field(repr=False)
 
@@ -275,6 +280,17 @@ def _case_arrays(given: dict) -> tuple[dict, tuple[int, ...]]:
     names = [_pressure_input(given), *_INPUT_NAMES]
     names += [n for n in _OPTIONAL_NAMES if given[n] is not None]
     checked = [check_range(n, given[n]) for n in names]
+    for n, arr in zip(names, checked):
+        # A NaN element of an array marks a case left out (NaN results for it); a NaN given
+        # as the only value is a number that is not one, and is refused.
+        bad = ~np.isfinite(arr)
+        if np.all(bad):
+            lo, hi, unit, label = INPUT_LIMITS[n]
+            u = f" {unit}" if unit else ""
+            raise ValueError(
+                f"{n} = {arr[bad].ravel()[0]} is not a number ({label}; allowed range "
+                f"{lo:g}-{hi:g}{u}; leave it out, or None, for the default)"
+            )
     joint = np.broadcast_arrays(*checked)
     case = {n: np.array(v, dtype=float).ravel() for n, v in zip(names, joint)}
     if np.any(case["cohb_fraction"] + case["methb_fraction"] >= MAX_COHB_PLUS_METHB):
@@ -370,10 +386,12 @@ def _converge(f: dict, *, curve: str, content_kw: dict, tol: float, max_iteratio
     """Passes of :func:`_iterate` until the mixed venous PO2 moves by less than ``tol``
     [mmHg], each case frozen once it settles; Aitken every second pass from the third.
 
-    Returns the state (values of the last pass) and the number of passes.
+    Returns the state (values of the last pass), the number of passes and whether each case
+    settled (a bool, or a bool array over the cases).
     """
     st = _first_guess(f, m)
     active = None if m is floats else np.arange(f["hb"].size)
+    settled: Any = True if m is floats else np.ones(f["hb"].size, dtype=bool)
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         now = _take(st, active)
@@ -387,9 +405,15 @@ def _converge(f: dict, *, curve: str, content_kw: dict, tol: float, max_iteratio
         _store(st, active, new)
         if not m.any(moving):
             break
+        if iterations == max_iterations:  # passes used up, some cases still moving
+            if active is None:
+                settled = False
+            else:
+                settled[active[moving]] = False
+            break
         if active is not None:
             active = active[moving]
-    return st, iterations
+    return st, iterations, settled
 
 
 def _blood(f: dict, st: dict, *, curve: str, content_kw: dict, m) -> dict:
@@ -432,7 +456,7 @@ def _blood(f: dict, st: dict, *, curve: str, content_kw: dict, m) -> dict:
     }
 
 
-def _result(f: dict, st: dict, blood: dict, iterations: int, out) -> TransportResult:
+def _result(f: dict, st: dict, blood: dict, iterations: int, settled, out) -> TransportResult:
     """The :class:`TransportResult`, every value passed through ``out`` (float or array ->
     the returned numpy type and shape)."""
     cao2, cvo2 = st["cao2"], st["cvo2"]
@@ -466,6 +490,9 @@ def _result(f: dict, st: dict, blood: dict, iterations: int, out) -> TransportRe
         arterial=BloodState(**{k: out(("arterial", k), v) for k, v in blood["arterial"].items()}),
         venous=BloodState(**{k: out(("venous", k), v) for k, v in blood["venous"].items()}),
         iterations=iterations,
+        converged=np.asarray(
+            settled if isinstance(settled, bool) else out("converged", settled), dtype=bool
+        ),
         arterial_conditions=conditions(blood["arterial_conditions"]),
         venous_conditions=conditions(blood["venous_conditions"]),
     )
@@ -498,11 +525,11 @@ def _solve(
         hufner_ml_g=content_kw["hufner_ml_g"],
         m=m,
     )
-    st, iterations = _converge(
+    st, iterations, settled = _converge(
         f, curve=curve, content_kw=content_kw, tol=tol, max_iterations=max_iterations, m=m
     )
     blood = _blood(f, st, curve=curve, content_kw=content_kw, m=m)
-    return _result(f, st, blood, iterations, out)
+    return _result(f, st, blood, iterations, settled, out)
 
 
 def _on_floats(given: dict, options: dict) -> TransportResult | None:
@@ -624,7 +651,10 @@ def solve_transport(
     VO2 250, sea level): DO2 about 1000 mL/min, SvO2 about 0.75, PvO2 about 40 mmHg.
     One case of plain numbers runs the same stage functions on floats (``m`` =
     :mod:`model.floats` instead of numpy: about 1 ms instead of tens of ms through numpy);
-    arrays, NaN and refusals take the vectorised path.
+    arrays, NaN and refusals take the vectorised path. A scalar NaN input (or an array of
+    NaN only) is refused with a ValueError naming field, value, range and unit; a NaN element
+    of an array leaves that case out (NaN results). ``converged`` says, per case, whether
+    the passes settled; False means the values are the last pass's, not a solution.
 
     Examples
     --------

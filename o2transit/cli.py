@@ -66,6 +66,11 @@ def format_table(record: dict) -> str:
     for label, key, unit, fmt in _ROWS:
         vals = [_get(record, k) for k in (key if isinstance(key, tuple) else (key,))]
         lines.append(f"  {label:<30} {fmt.format(*vals):>16}  {unit}")
+    if record.get("converged") is False:
+        lines.append(
+            f"  warning: the chain did not converge in {record.get('iterations')} passes; "
+            "these are the last pass's values, not a solution"
+        )
     return "\n".join(lines)
 
 
@@ -98,7 +103,19 @@ def _batch_columns_help() -> str:
             wrap([column(k) for k in optional]),
             "columns written: the input columns, then",
             wrap(list(BATCH_OUTPUTS)),
-            "  ('error' says, per row, which cell could not be used; that row's outputs are blank).",
+            "  ('error' says, per row, which cell could not be used; that row's outputs are blank;",
+            "  'reasons' says why a value is blank although its inputs were given; 'flags' marks",
+            "  values outside their usual range),",
+            "  and last, in CSV only, rows_in_output: blank on every row except the last, which",
+            "  holds the number of data rows. A complete output passes the check 'last row's",
+            "  rows_in_output = number of rows read'; an output cut short (a killed run on",
+            "  standard output, a truncated copy) fails it.",
+            "output: plain CSV, the header on line 1, no comment lines (the caution goes to",
+            "standard error and into Parquet metadata); a file is written under a temporary",
+            "name in the same folder and renamed when complete, with the mode of the file it",
+            "replaces (else the usual mode, 0644 under umask 022). SIGINT, SIGTERM and SIGHUP",
+            "remove the temporary file and exit non-zero.",
+            "caution: " + CAUTION,
         ]
     )
 
@@ -156,13 +173,19 @@ def build_parser() -> argparse.ArgumentParser:
         "...) for every row of a table of blood gases. " + CAUTION,
         epilog=_batch_columns_help(),
     )
-    bt.add_argument("input", metavar="IN", help="the blood gases (.csv)")
+    bt.add_argument(
+        "input",
+        metavar="IN",
+        help="the blood gases: delimited text (.csv, .tsv, .txt; UTF-8) or Parquet (.parquet, .pq)",
+    )
     bt.add_argument(
         "-o",
         "--output",
         required=True,
         metavar="OUT",
-        help="where to write the derived values (.csv); '-' for standard output",
+        help="where to write the derived values: .csv/.tsv/.txt (plain CSV) or .parquet/.pq, "
+        "chosen by the ending; '-' for CSV on standard output. Never the input, never a "
+        "device, FIFO or symbolic link",
     )
     bt.add_argument(
         "--all-columns",
@@ -195,6 +218,13 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _report(exc: BaseException | str, prefix: str = "") -> None:
+    """An error on standard error, one ``error:`` line per problem (control characters
+    shown, not obeyed)."""
+    for line in str(exc).splitlines() or [""]:
+        print(f"error: {prefix}{printable(line)}", file=sys.stderr)
+
+
 def _evaluate(files: list[str], as_json: bool) -> int:
     records, failed = [], 0
     for f in files:
@@ -202,7 +232,7 @@ def _evaluate(files: list[str], as_json: bool) -> int:
             records.append(evaluation(f))
         except ScenarioError as exc:
             failed += 1
-            print(f"error: {printable(exc)}", file=sys.stderr)
+            _report(exc)
     if as_json:
         print(json.dumps(records, indent=2))
     elif records:
@@ -217,12 +247,17 @@ def _ascent(files: list[str], as_json: bool) -> int:
     from .model.ascent import AscentError, format_ascent, load_ascent, run_ascent
 
     results, failed = [], 0
+    from .model.files import read_text
+
     for f in files:
         try:
+            # the shared reader's refusals (special, empty, oversized, not UTF-8) before the
+            # loader, whose CSV path reads the file itself
+            read_text(f, AscentError)
             results.append(run_ascent(load_ascent(f)).to_dict())
         except AscentError as exc:
             failed += 1
-            print(f"error: {printable(exc)}", file=sys.stderr)
+            _report(exc)
         except ValueError as exc:
             failed += 1
             print(f"error: {printable(f)}: the schedule cannot be solved: {exc}", file=sys.stderr)
@@ -237,9 +272,26 @@ def _ascent(files: list[str], as_json: bool) -> int:
     return 2 if failed else 0
 
 
-def _batch(args) -> int:
-    from .model.batch import BatchError, run_batch
+class _Signalled(BaseException):
+    """SIGTERM or SIGHUP arrived: unwind (removing temporary files) and exit non-zero."""
 
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _raise_signalled(signum, _frame) -> None:
+    raise _Signalled(signum)
+
+
+def _batch(args) -> int:
+    import signal
+
+    from .model.batch import END_COLUMN, BatchError, run_batch
+
+    for name in ("SIGTERM", "SIGHUP"):
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), _raise_signalled)
     try:
         summary = run_batch(
             args.input,
@@ -247,13 +299,20 @@ def _batch(args) -> int:
             all_columns=args.all_columns,
             progress=False if args.no_progress else None,
         )
+    except BrokenPipeError:
+        raise
     except (BatchError, OSError) as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        _report(exc)
         return 2
     where = "standard output" if summary.output == "-" else summary.output
+    end = (
+        f"; complete: the last row's {END_COLUMN} is {summary.rows}"
+        if summary.format == "csv"
+        else f"; Parquet metadata o2transit.rows = {summary.rows}"
+    )
     print(
         f"{summary.rows} rows -> {where}; {summary.rows_with_errors} with an error "
-        "(see the error column)",
+        f"(see the error column){end}",
         file=sys.stderr,
     )
     print(CAUTION, file=sys.stderr)
@@ -283,10 +342,22 @@ def main(argv=None) -> int:
             return _batch(args)
         return _serve(args)
     except KeyboardInterrupt:
-        print("interrupted", file=sys.stderr)
+        print("interrupted (SIGINT); no output file left behind", file=sys.stderr)
         return 130
+    except _Signalled as stop:
+        import signal
+
+        name = signal.Signals(stop.signum).name
+        print(f"interrupted ({name}); no output file left behind", file=sys.stderr)
+        return 128 + stop.signum
     except BrokenPipeError:
         # the reader went away (`| head`): stop quietly, as other command-line tools do
+        import os
+
+        try:
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        except (OSError, ValueError):
+            pass
         sys.stderr.close()
         return 0
 

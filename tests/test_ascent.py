@@ -11,8 +11,10 @@ from o2transit.model.ascent import (
     AscentDay,
     AscentError,
     AscentProfile,
+    Baseline,
     days_from_csv,
     days_to_csv,
+    forecast_points,
     guidance_flags,
     load_ascent,
     read_days_csv,
@@ -355,3 +357,72 @@ def test_batched_runs_match_single_runs():
             r.high.arterial.po2_mmhg, alone.high.arterial.po2_mmhg, rtol=1e-6
         )
         assert r.summary["flag_count"] == alone.summary["flag_count"]
+
+
+# The predicted SpO2 band and the forecast at a reading
+
+
+def test_band_brackets_the_forecast_and_narrows_with_a_smaller_sd():
+    p = load_ascent(SLOW)
+    r = run_ascent(p)
+    s, lo, hi = r.night.arterial.so2, r.sao2_low, r.sao2_high
+    assert np.all(lo <= s) and np.all(s <= hi)
+    assert np.all(hi - lo > 0.005)  # every night has a spread between people
+    narrow = run_ascent(p, offset_sd_mmhg=0.5)
+    assert np.all(narrow.sao2_high - narrow.sao2_low < hi - lo)
+    np.testing.assert_allclose(narrow.night.arterial.so2, s, rtol=1e-12)
+    # a reading's own scatter widens a fitted band (added in quadrature)
+    fitted = run_ascent(p, offset_sd_mmhg=0.5, reading_sd_pct=1.0)
+    assert np.all(fitted.sao2_high - fitted.sao2_low > narrow.sao2_high - narrow.sao2_low)
+
+
+def test_band_is_wider_where_the_curve_is_steeper():
+    # The same spread of ventilation moves SpO2 more on the steep part of the curve.
+    r = run_ascent(load_ascent(SLOW))
+    width = r.sao2_high - r.sao2_low
+    assert width[int(np.argmin(r.night.arterial.so2))] > width[0]
+
+
+def test_person_offset_moves_every_altitude_night():
+    p = load_ascent(SLOW)
+    typical, weak = run_ascent(p), run_ascent(p, person_offset_mmhg=2.0)
+    above = np.array([d.sleep_altitude_m > 3000.0 for d in p.days])
+    assert np.all(weak.night.arterial.so2[above] < typical.night.arterial.so2[above])
+    assert np.all(weak.night.arterial.pco2_mmhg > typical.night.arterial.pco2_mmhg - 1e-9)
+
+
+def test_forecast_at_the_sleeping_altitude_is_that_night():
+    # A reading the morning after night d at the same altitude sees night d's state; only
+    # cardiac output differs (the high-point rule takes that of a fresh gain, which at
+    # altitude shortens the capillary transit): up to 0.4 points.
+    p = load_ascent(SLOW)
+    r = run_ascent(p)
+    days = np.arange(2, len(p.days) + 1)
+    sleep = r.sleep_altitude_m[days - 2]
+    s = forecast_points(p, days, sleep)
+    np.testing.assert_allclose(s, r.night.arterial.so2[days - 2], atol=4e-3)
+    many = forecast_points(p, days, sleep, [0.0, 2.0])
+    assert many.shape == (2, days.size) and np.all(many[1] <= many[0] + 1e-12)
+    with pytest.raises(ValueError, match="outside the allowed range 1-13"):
+        forecast_points(p, [14], [5300.0])
+
+
+def test_pressure_model_is_explicit_and_reported():
+    # The planner's schedules carry their pressure model (default "mountain", West 1996);
+    # the record says which one gave the numbers.
+    p = load_ascent(SLOW)
+    assert p.baseline.pressure_model == "mountain"
+    record = run_ascent(p).to_dict()
+    assert record["pressure_model"] == "mountain"
+    std = AscentProfile("std", p.days, Baseline(pressure_model="standard"))
+    assert run_ascent(std).to_dict()["pressure_model"] == "standard"
+    assert float(run_ascent(std).night.barometric_pressure_mmhg[-1]) < float(
+        run_ascent(p).night.barometric_pressure_mmhg[-1]
+    )
+
+
+def test_record_carries_the_band():
+    record = run_ascent(load_ascent(FAST)).to_dict()
+    day = record["days"][4]
+    assert day["sao2_low"] < day["sao2"] < day["sao2_high"]
+    assert record["band"]["z"] == 2.0 and record["band"]["person_offset_mmhg"] == 0.0

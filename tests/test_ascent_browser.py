@@ -3,7 +3,10 @@
 A planner's session: load the examples, edit a day (and have a bad value refused), add,
 move and remove days, choose what to compare, open a night on the case screen from a plot,
 export the comparison (CSV and an HTML page that is then opened offline), and restore the
-comparison from the address. Skipped only without Chromium and without CI.
+comparison from the address. A trekker's readings: entered in the form (a bad one refused),
+pasted as CSV, drawn against the forecast; the link that carries an edited schedule, the
+readings and the pressure unit into a new page; the workspace file. Skipped only without
+Chromium and without CI.
 """
 
 import csv
@@ -19,9 +22,11 @@ from browser_session import (
     checked_context,
     require_chromium,
     served_screens,
+    wait_address,
     wait_for,
 )
 from o2transit.dashboard.app import SCREENS
+from playwright.sync_api import TimeoutError as PlaywrightTimeoutError
 from playwright.sync_api import expect
 
 # Two cores are often shared with other work: allow a loaded machine time for each change.
@@ -323,3 +328,152 @@ def test_address_restores_the_comparison(context, base_url):
     page.goto(f"{base_url}/ascent")
     for name in ("Fast ascent", "Slow ascent", "Expedition with oxygen"):
         expect(summary).to_contain_text(name)
+
+
+def readings_rows(page) -> list[list[str]]:
+    """The readings table as text, one list per row (day, altitude, SpO2, HR, LLS)."""
+    return page.locator(".o2-asc-readings .tabulator-row").evaluate_all(
+        "(rs, fields) => rs.map(r => fields.map(f => "
+        "(r.querySelector(`.tabulator-cell[tabulator-field=${f}]`)?.textContent ?? '').trim()))",
+        ["day", "altitude_m", "spo2_pct", "heart_rate_min", "lake_louise_score"],
+    )
+
+
+def _glyph_points(page, title: str, marker: str) -> int:
+    """Number of points drawn with ``marker`` on the figure titled ``title``."""
+    return page.evaluate(
+        """([title, marker]) => {
+            const seen = new Set();
+            let n = 0;
+            const walk = (v) => {
+                if (!v || seen.has(v)) return;
+                seen.add(v);
+                if (v.model.type === "Figure" && v.model.title?.text === title) {
+                    for (const r of v.model.renderers) {
+                        const g = r.glyph;
+                        if (g?.marker?.value === marker) n += r.data_source.data.x.length;
+                    }
+                }
+                for (const c of v.child_views ?? []) walk(c);
+            };
+            Object.values(Bokeh.index).forEach(walk);
+            return n;
+        }""",
+        [title, marker],
+    )
+
+
+def _axis_label(page, title: str) -> str:
+    return page.evaluate(
+        """(title) => {
+            const seen = new Set();
+            let out = null;
+            const walk = (v) => {
+                if (!v || seen.has(v) || out !== null) return;
+                seen.add(v);
+                if (v.model.type === "Figure" && v.model.title?.text === title)
+                    out = v.model.left[0].axis_label;
+                for (const c of v.child_views ?? []) walk(c);
+            };
+            Object.values(Bokeh.index).forEach(walk);
+            return out;
+        }""",
+        title,
+    )
+
+
+def test_readings_units_and_a_link_that_carries_edits(context, base_url, tmp_path):
+    page = context.new_page()
+    page.goto(f"{base_url}/ascent?schedules=fast-to-5300m,slow-to-5300m")
+    summary = page.locator(".o2-asc-summary")
+    expect(summary).to_contain_text("Slow ascent to a 5300 m camp")
+    expect(page.locator(".o2-asc-band-note")).to_contain_text("below the band's lower edge")
+
+    # log a reading for the slow schedule in the form; a bad one is refused, nothing added
+    page.locator(".o2-asc-edit-select select").select_option(label="Slow ascent to a 5300 m camp")
+    expect(page.locator(".o2-asc-readings-panel")).to_contain_text("For Slow ascent")
+    fields = {"day": "3", "altitude_m": "3300", "spo2_pct": "84", "lake_louise_score": "2"}
+    for name, value in fields.items():
+        page.locator(f".o2-asc-rd-{name} input").fill(value)
+    page.locator(".o2-asc-rd-add button").click()
+    wait_for(lambda: readings_rows(page), lambda r: len(r) == 1, 20, lambda r: r)
+    expect(page.locator(".o2-asc-fit")).to_contain_text("Fitted to 1 reading")
+    page.locator(".o2-asc-rd-spo2_pct input").fill("130")
+    page.locator(".o2-asc-rd-day input").fill("4")
+    page.locator(".o2-asc-rd-add button").click()
+    expect(page.locator(".o2-asc-error")).to_contain_text(
+        "reading spo2_pct = '130' is outside the allowed range 50-100 %"
+    )
+    assert len(readings_rows(page)) == 1
+
+    # paste CSV text: it replaces the readings; they are drawn against the forecast
+    page.locator(".o2-asc-rd-paste textarea").fill(
+        "day,altitude_m,spo2_pct,heart_rate_min,lake_louise_score\n3,3300,85,90,1\n4,3800,81,,\n"
+    )
+    page.locator(".o2-asc-rd-paste-apply button").click()
+    wait_for(
+        lambda: readings_rows(page),
+        lambda r: [x[:3] for x in r] == [["3", "3300", "85"], ["4", "3800", "81"]],
+        20,
+        lambda r: r,
+    )
+    expect(page.locator(".o2-asc-fit")).to_contain_text("Fitted to 2 readings")
+    wait_for(lambda: _glyph_points(page, "SaO2 at night", "diamond"), lambda n: n == 2, 20, str)
+    expect(summary).to_contain_text("this person, from 2 readings")
+
+    # edit the fast schedule; the address now carries its days and the readings
+    page.locator(".o2-asc-edit-select select").select_option(label="Fast ascent to a 5300 m camp")
+    expect(page.locator(".o2-asc-readings-panel")).to_contain_text("For Fast ascent")
+    wait_rows(page, lambda r: r[2][1] == "4000")
+    page.wait_for_timeout(500)  # let the editor's last redraw after the switch land
+    box = page.locator(".o2-asc-table .tabulator-cell input")
+    for attempt in range(3):  # a redraw arriving after the click closes the cell editor
+        cell(page, 2, "sleep_altitude_m").click()
+        try:
+            box.wait_for(timeout=5000)
+        except PlaywrightTimeoutError:
+            if attempt == 2:
+                raise
+        else:
+            break
+    box.fill("3650")
+    box.press("Enter")
+    wait_rows(page, lambda r: r[2][1] == "3650")
+    link = wait_address(page, r"plan=1\.[^&]+&schedules=fast-to-5300m%2Cslow-to-5300m$")
+
+    # the pressure unit: the toggle, the axis and the address
+    page.locator(".o2-asc-unit button", has_text="kPa").click()
+    link = wait_address(page, r"pressure_unit=kPa&schedules=")
+    wait_for(lambda: _axis_label(page, "PaO2 at night"), lambda a: a == "kPa", 20, str)
+
+    # the link, opened in a new page, gives back the edited day, the readings and the unit
+    shared = context.new_page()
+    shared.goto(link)
+    expect(shared.locator(".o2-asc-summary")).to_contain_text("this person, from 2 readings")
+    wait_rows(shared, lambda r: len(r) == 8 and r[2][1] == "3650")
+    wait_for(lambda: _axis_label(shared, "PaO2 at night"), lambda a: a == "kPa", 20, str)
+    expect(shared.locator(".o2-asc-unit .bk-active")).to_have_text("kPa")
+    shared.locator(".o2-asc-edit-select select").select_option(label="Slow ascent to a 5300 m camp")
+    wait_for(lambda: readings_rows(shared), lambda r: len(r) == 2, 20, lambda r: r)
+    shared.close()
+
+    # the workspace file: save here, open in a fresh page
+    with page.expect_download() as dl:
+        page.locator(".o2-asc-ws-save button").click()
+    saved = tmp_path / "workspace.json"
+    dl.value.save_as(saved)
+    fresh = context.new_page()
+    fresh.goto(f"{base_url}/ascent?schedules=")
+    expect(fresh.locator(".o2-asc-legend")).to_contain_text("Nothing compared yet")
+    fresh.locator(".o2-asc-ws-open input[type=file]").set_input_files(str(saved))
+    expect(fresh.locator(".o2-asc-summary")).to_contain_text("this person, from 2 readings")
+    wait_rows(fresh, lambda r: len(r) == 8 and r[2][1] == "3650")
+
+    # the table to read: % and the chosen unit in the column names
+    with page.expect_download() as dl:
+        page.locator(".o2-asc-export-table button").click()
+    head = Path(dl.value.path()).read_text(encoding="utf-8").splitlines()[0]
+    assert "SaO2 at rest, model (%)" in head and "PaO2 at rest (kPa)" in head
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.locator(".o2-asc-plots").scroll_into_view_if_needed()
+    page.screenshot(path=str(ARTIFACTS / "ascent-readings.png"))

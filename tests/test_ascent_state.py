@@ -6,6 +6,7 @@ import re
 from html.parser import HTMLParser
 from urllib.parse import parse_qsl, urlsplit
 
+import numpy as np
 import pytest
 from bokeh.document import Document
 from o2transit.dashboard.ascent.export import comparison_csv, comparison_html
@@ -299,7 +300,8 @@ def test_comparison_html_is_standalone_and_holds_the_data(ws):
 # ---------------------------------------------------------------- views without a server
 def test_views_render_and_follow_the_state(ws):
     from o2transit.dashboard.ascent.app import create_ascent_app
-    from o2transit.dashboard.ascent.views import ComparisonPlots, ScheduleEditor, SummaryTable
+    from o2transit.dashboard.ascent.comparison_views import ComparisonPlots, SummaryTable
+    from o2transit.dashboard.ascent.editor_view import ScheduleEditor
 
     assert create_ascent_app(AscentWorkspace()).server_doc(Document()) is not None
     plots = ComparisonPlots(ws)
@@ -319,3 +321,223 @@ def test_views_render_and_follow_the_state(ws):
     assert "Nights below 90 %" in table.__panel__().object
     ws.set_threshold("threshold_high_pct", 88.0)
     assert "Nights below 88 %" in table.__panel__().object
+
+
+# ---------------------------------------------------------------- readings
+READING = {"day": "3", "altitude_m": "3300", "spo2_pct": "84", "heart_rate_min": ""}
+
+
+def test_readings_are_added_fitted_and_reforecast():
+    w = AscentWorkspace()
+    w.load_examples()
+    assert w.select_editing("slow-to-5300m")
+    before = w.results["slow-to-5300m"].night.arterial.so2.copy()
+    assert w.add_reading(READING), w.error_message
+    assert w.add_reading({"day": 4, "altitude_m": 3800, "spo2_pct": 80, "lake_louise_score": 2})
+    fit = w.fits["slow-to-5300m"]
+    assert fit.n == 2 and fit.offset_mmhg > 0.0
+    assert np.all(w.results["slow-to-5300m"].night.arterial.so2[4:] < before[4:])
+    assert "Fitted to 2 readings" in w.fit_text("slow-to-5300m")
+    series = w.series("slow-to-5300m")
+    assert list(series["readings_day"]) == [3, 4] and len(series["readings_forecast_pct"]) == 2
+    assert w.edit_reading(1, "spo2_pct", "88")
+    assert w.readings["slow-to-5300m"][0].spo2_pct == 88.0
+    assert w.remove_reading(2) and len(w.readings["slow-to-5300m"]) == 1
+    assert w.clear_readings() and "slow-to-5300m" not in w.fits
+    np.testing.assert_allclose(w.results["slow-to-5300m"].night.arterial.so2, before)
+
+
+@pytest.mark.parametrize(
+    ("fields", "words"),
+    [
+        ({**READING, "spo2_pct": "130"}, ["spo2_pct = '130'", "50-100 %"]),
+        ({**READING, "day": "30"}, ["day = '30'", "1-13"]),
+        ({**READING, "altitude_m": ""}, ["altitude_m is missing"]),
+        ({**READING, "heart_rate_min": "fast"}, ["heart_rate_min = 'fast'", "number"]),
+        ({**READING, "lake_louise_score": "20"}, ["lake_louise_score = '20'", "0-12 points"]),
+    ],
+)
+def test_bad_reading_is_refused_and_nothing_changes(fields, words):
+    w = AscentWorkspace()
+    w.load_examples()
+    w.select_editing("slow-to-5300m")
+    assert w.add_reading(READING)
+    state = (dict(w.readings), dict(w.fits), dict(w.results))
+    assert not w.add_reading(fields)
+    for word in words:
+        assert word in w.error_message, w.error_message
+    assert (dict(w.readings), dict(w.fits), dict(w.results)) == state
+
+
+def test_readings_from_a_file_or_pasted_text_all_or_nothing(ws):
+    ws.select_editing("slow-to-5300m")
+    good = "day,altitude_m,spo2_pct,heart_rate_min,lake_louise_score\n3,3300,86,88,1\n4,3800,83,,\n"
+    assert ws.import_readings(good.encode(), "log.csv")
+    assert "2 readings read from log.csv" in ws.status_message
+    assert ws.export_readings() == good
+    kept = ws.readings["slow-to-5300m"]
+    bad = good + "5,3800,83,,\n6,4200,200,,\n"
+    assert not ws.import_readings(bad, "pasted text")
+    assert "pasted text: row 4 spo2_pct = '200'" in ws.error_message
+    assert ws.readings["slow-to-5300m"] == kept
+
+
+def test_a_schedule_with_readings_keeps_their_days(ws):
+    ws.select_editing("fast-to-5300m")
+    assert ws.add_reading({"day": 8, "altitude_m": 2800, "spo2_pct": 92})
+    days = _days(ws)
+    assert not ws.remove_day(8)
+    assert "reading on day 8" in ws.error_message and _days(ws) == days
+    assert ws.edit_cell(8, "sleep_altitude_m", 3000.0)  # other edits still re-fit
+    assert ws.fits["fast-to-5300m"].n == 1
+    copy = ws.duplicate()
+    assert ws.readings[copy] == ws.readings["fast-to-5300m"]  # the same person's log
+
+
+# ---------------------------------------------------------------- sharing
+def test_address_names_untouched_examples_only(ws):
+    q = ws.address_query()
+    assert q["plan"] is None and q["pressure_unit"] is None
+    assert list(q) == ["plan", "pressure_unit", "schedules"]  # "schedules" stays last
+    assert q["schedules"] == "fast-to-5300m,oxygen-above-6000m,slow-to-5300m"
+
+
+def test_link_carries_edited_copied_and_uploaded_schedules_and_readings(ws):
+    assert ws.edit_cell(3, "sleep_altitude_m", 3600.0)
+    assert ws.rename("Fast, slower on day 3")
+    copy = ws.duplicate()
+    assert ws.edit_cell(2, "fio2", 0.3) and ws.add_day(4)
+    own = ws.open_text(
+        "name = 'Own'\ndescription = 'mine'\n[baseline]\nhb_g_dl = 13.5\n"
+        "pressure_model = 'standard'\n[[day]]\nsleep_altitude_m = 2000\n"
+        "[[day]]\nsleep_altitude_m = 3100\nhigh_altitude_m = 3500\n",
+        "own.toml",
+    )
+    ws.select_editing("slow-to-5300m")
+    assert ws.add_reading(READING)
+    assert ws.set_compared(["fast-to-5300m", copy, own, "slow-to-5300m"])
+    q = ws.address_query()
+    assert q["plan"] and len(q["plan"]) < 2000
+    other = AscentWorkspace()
+    assert other.restore_address(q) == []
+    assert other.compared == ws.compared
+    for key in ws.compared:
+        a, b = ws.schedules[key], other.schedules[key]
+        assert (a.name, a.description, a.baseline, a.days) == (
+            b.name,
+            b.description,
+            b.baseline,
+            b.days,
+        )
+        np.testing.assert_allclose(
+            other.results[key].night.arterial.so2, ws.results[key].night.arterial.so2, rtol=1e-12
+        )
+    assert other.readings == ws.readings and set(other.fits) == {"slow-to-5300m"}
+    # the example opened by name is still an untouched example in the new workspace
+    assert other.address_query() == q
+
+
+def test_too_long_a_plan_is_left_to_the_file(ws, monkeypatch):
+    # A 400-day schedule fits in the 6000 characters; the limit is tried on a small one.
+    from o2transit.dashboard.ascent import sharing
+
+    ws.edit_cell(3, "sleep_altitude_m", 3600.0)
+    assert ws.address_query()["plan"]
+    monkeypatch.setattr(sharing, "MAX_PLAN_CHARS", 40)
+    plan, note = ws.sharing.plan()
+    assert plan is None and "Save the workspace as a file" in note and "(40)" in note
+    assert ws.address_query()["plan"] is None
+    assert ws.plan_note() == note
+
+
+def test_a_damaged_link_says_so_and_opens_the_examples_it_names():
+    w = AscentWorkspace()
+    msgs = w.restore_address({"plan": "1.AAAA-broken", "schedules": "slow-to-5300m"})
+    assert any("plan is damaged" in m for m in msgs)
+    assert w.compared == ["slow-to-5300m"]
+    w2 = AscentWorkspace()
+    msgs = w2.restore_address({"schedules": "fast-to-5300m", "pressure_unit": "bar"})
+    assert any("pressure_unit = 'bar' is not one of mmHg, kPa" in m for m in msgs)
+    assert w2.pressure_unit == "mmHg"
+
+
+def test_a_shared_schedule_that_fails_the_checks_is_named_and_left_out():
+    from o2transit.dashboard.ascent.sharing import encode_plan
+
+    plan = encode_plan([{"k": "bad", "n": "Bad", "t": "2800;12000"}])
+    w = AscentWorkspace()
+    msgs = w.restore_address({"plan": plan, "schedules": "bad,slow-to-5300m"})
+    assert any("sleep_altitude_m = 12000.0" in m and "-500-9000 m" in m for m in msgs), msgs
+    assert w.compared == ["slow-to-5300m"]
+
+
+def test_workspace_file_round_trip_and_refusals(ws):
+    ws.edit_cell(2, "high_altitude_m", 3900.0)
+    ws.select_editing("slow-to-5300m")
+    ws.add_reading(READING)
+    ws.set_threshold("threshold_high_pct", 88.0)
+    ws.set_pressure_unit("kPa")
+    text = ws.workspace_json()
+    other = AscentWorkspace()
+    assert other.open_workspace(text.encode(), "mine.json"), other.error_message
+    assert list(other.schedules) == list(ws.schedules) and other.compared == ws.compared
+    assert all(other.schedules[k].days == ws.schedules[k].days for k in ws.schedules)
+    assert other.readings == ws.readings and other.threshold_high_pct == 88.0
+    assert other.pressure_unit == "kPa"
+    before = dict(other.schedules)
+    broken = text.replace('"sleep_altitude_m": 3400.0', '"sleep_altitude_m": 99999', 1)
+    assert not other.open_workspace(broken, "broken.json")
+    assert "broken.json: schedule 'fast-to-5300m'" in other.error_message
+    assert "99999" in other.error_message and "-500-9000 m" in other.error_message
+    assert other.schedules == before
+    assert not other.open_workspace("{}", "empty.json")
+    assert "not an o2transit ascent workspace file" in other.error_message
+    assert not other.open_workspace("not json", "x.json") and "not a workspace file" in (
+        other.error_message
+    )
+
+
+# ---------------------------------------------------------------- pressure unit
+def test_kpa_on_the_planner(ws):
+    mmhg = ws.series("slow-to-5300m")["pao2"]
+    assert ws.set_pressure_unit("kPa")
+    assert ws.address_query()["pressure_unit"] == "kPa"
+    kpa = ws.series("slow-to-5300m")["pao2"]
+    np.testing.assert_allclose(kpa * 760.0 / 101.325, mmhg)
+    ws.pick("slow-to-5300m", 10)
+    assert " kPa, SaO2 " in ws.picked_text()
+    assert "pressure_unit=kPa" in ws.case_link("slow-to-5300m", 10)
+    assert not ws.set_pressure_unit("psi") and "psi" in ws.error_message
+    other = AscentWorkspace()
+    other.restore_address({"schedules": "slow-to-5300m", "pressure_unit": "kPa"})
+    assert other.pressure_unit == "kPa"
+
+
+# ---------------------------------------------------------------- exports for a reader
+def test_table_csv_is_in_percent_rounded_as_shown(ws):
+    from o2transit.dashboard.ascent.export import comparison_table_csv
+
+    ws.set_pressure_unit("kPa")
+    rows = list(csv.reader(io.StringIO(comparison_table_csv(ws))))
+    head = rows[0]
+    assert head[:3] == ["Schedule", "Day", "Sleeping altitude (m)"]
+    assert "SaO2 at rest, model (%)" in head and "PaO2 at rest (kPa)" in head
+    assert "Predicted SpO2 at rest, low edge (%)" in head
+    r = ws.results["fast-to-5300m"]
+    first = dict(zip(head, rows[1]))
+    assert first["SaO2 at rest, model (%)"] == f"{100 * r.night.arterial.so2[0]:.1f}"
+    assert first["Predicted SpO2 at rest, low edge (%)"] == f"{100 * r.sao2_low[0]:.0f}"
+    pao2 = float(r.night.arterial.po2_mmhg[0]) * 101.325 / 760.0
+    assert first["PaO2 at rest (kPa)"] == f"{pao2:.2f}"
+    assert rows[-1][0] == "Note" and CAUTION in rows[-1][-1]
+    assert "West 1996 mountain model" in rows[-1][-1]
+
+
+def test_html_export_has_a_print_layout_and_the_band(ws):
+    ws.select_editing("slow-to-5300m")
+    ws.add_reading(READING)
+    page = comparison_html(ws)
+    assert "@media print" in page and "break-inside: avoid" in page
+    assert "Predicted SpO2 at rest, low edge (%)" in page
+    assert "Readings logged on the way" in page and "predicted SpO2" in page
+    assert "West 1996 mountain model" in page

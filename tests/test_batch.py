@@ -18,6 +18,7 @@ from o2transit.model.batch import (
     BATCH_OUTPUTS,
     CAUTION,
     CHUNK_ROWS,
+    END_COLUMN,
     BatchError,
     derive_columns,
     read_table,
@@ -67,7 +68,7 @@ def test_every_row_is_kept_and_outputs_added(cohort):
     summary, rows, out = cohort
     header = _header(out)
     inputs = _header(DATA / "batch_cohort_mmhg.csv")
-    assert header == inputs + list(BATCH_OUTPUTS)
+    assert header == inputs + list(BATCH_OUTPUTS) + [END_COLUMN]
     for key in (
         "pao2_fio2_ratio",
         "aa_gradient_mmhg",
@@ -84,10 +85,31 @@ def test_every_row_is_kept_and_outputs_added(cohort):
     assert rows[1]["pao2_mmhg"] == "68" and rows[1]["svo2"] == "0.66"
 
 
-def test_caution_is_the_first_line(cohort):
-    _, _, out = cohort
-    first = out.read_text().splitlines()[0]
-    assert first.startswith("#") and CAUTION in first
+def test_output_is_plain_csv_with_the_header_on_line_1(cohort, tmp_path):
+    # issue 14: line 1 was a '#' caution with commas; every reader must take the output
+    # with its defaults (pandas, csv.DictReader), and a label "bed #4" must survive.
+    import pandas as pd
+
+    _, rows, out = cohort
+    text = out.read_text()
+    assert text.splitlines()[0].startswith("case,pao2_mmhg,")
+    assert CAUTION not in text and not any(line.startswith("#") for line in text.splitlines())
+    frame = pd.read_csv(out)
+    assert list(frame.columns) == _header(out) and len(frame) == len(rows) == 9
+    with open(out, newline="", encoding="utf-8") as f:
+        assert [r["case"] for r in csv.DictReader(f)] == [r["case"] for r in rows]
+    src = tmp_path / "hash.csv"
+    src.write_text(",".join(("case",) + REQUIRED) + "\nbed #4,80,40,7.4,0.95,12,0.4,37\n")
+    run_batch(src, tmp_path / "hash_out.csv", stream=io.StringIO())
+    back = pd.read_csv(tmp_path / "hash_out.csv")
+    assert back["case"].tolist() == ["bed #4"] and back["pao2_fio2_ratio"].tolist() == [200]
+
+
+def test_the_last_row_says_the_output_is_complete(cohort):
+    # The documented check: the last row's rows_in_output equals the rows read; every
+    # other row leaves it blank.
+    _, rows, _ = cohort
+    assert [r[END_COLUMN] for r in rows] == [""] * (len(rows) - 1) + [str(len(rows))]
 
 
 def test_malformed_rows_get_their_message_and_blank_outputs(cohort):
@@ -168,7 +190,7 @@ def test_all_columns_option(tmp_path):
     out = tmp_path / "all.csv"
     run_batch(DATA / "batch_cohort_mmhg.csv", out, all_columns=True, stream=io.StringIO())
     header = _header(out)
-    assert header[-len(ALL_OUTPUTS) :] == list(ALL_OUTPUTS)
+    assert header[-len(ALL_OUTPUTS) - 1 :] == list(ALL_OUTPUTS) + [END_COLUMN]
     assert set(DERIVED_FIELDS) <= set(header)
 
 
@@ -337,7 +359,10 @@ def test_plain_and_quoted_files_give_the_same_rows(tmp_path):
     run_batch(tmp_path / "quoted.csv", tmp_path / "b.csv", stream=io.StringIO())
     a = (tmp_path / "a.csv").read_text().splitlines()
     b = (tmp_path / "b.csv").read_text().splitlines()
-    assert len(b) == len(a) + 1 and b[: len(a)] == a
+    # every row alike but for the end cell (rows_in_output), which only the last row holds
+    assert a[-1].endswith(f",{len(a) - 1}") and b[-1].endswith(f",{len(b) - 1}")
+    cut = [line.rsplit(",", 1)[0] for line in a]
+    assert len(b) == len(a) + 1 and [line.rsplit(",", 1)[0] for line in b[: len(a)]] == cut
     assert b[-1].startswith("Q,80,40,7.4,0.95,12,0.4,37,,,,,,,")
 
 
@@ -396,8 +421,9 @@ def test_cli_to_standard_output(capsys):
     assert main(["batch", str(DATA / "batch_cohort_kpa.csv"), "-o", "-"]) == 0
     captured = capsys.readouterr()
     lines = captured.out.splitlines()
-    assert lines[0].startswith("# o2transit batch") and len(lines) == 2 + 4
-    assert "standard output" in captured.err
+    assert lines[0].startswith("case;pao2_kpa;") and len(lines) == 1 + 4
+    assert lines[-1].endswith(";4") and CAUTION not in captured.out
+    assert "standard output" in captured.err and CAUTION in captured.err
 
 
 @pytest.mark.parametrize("kind", ["missing file", "missing column"])
@@ -412,3 +438,172 @@ def test_cli_exit_2(tmp_path, capsys, kind):
     assert ("input file not found" if kind == "missing file" else "required column missing") in err
     assert "Traceback" not in err
     assert not (tmp_path / "o.csv").exists()
+
+
+# --- files, formats, targets, signals (issues 14 and 18) -------------------------------
+
+GOOD = ",".join(("case",) + REQUIRED) + "\nc1,80,40,7.4,0.95,12,0.4,37\nc2,90,40,7.4,0.96,12,0.4,37\n"
+
+
+def _src(tmp_path, text=GOOD, name="in.csv"):
+    p = tmp_path / name
+    p.write_text(text)
+    return p
+
+
+def test_output_gets_the_users_usual_mode_or_the_replaced_files(tmp_path):
+    import os
+    import stat
+
+    old = os.umask(0o022)
+    try:
+        run_batch(_src(tmp_path), tmp_path / "new.csv", stream=io.StringIO())
+        assert stat.S_IMODE((tmp_path / "new.csv").stat().st_mode) == 0o644
+        kept = tmp_path / "kept.csv"
+        kept.write_text("old")
+        kept.chmod(0o640)
+        run_batch(_src(tmp_path), kept, stream=io.StringIO())
+        assert stat.S_IMODE(kept.stat().st_mode) == 0o640 and kept.read_text() != "old"
+    finally:
+        os.umask(old)
+
+
+@pytest.mark.parametrize("kind", ["fifo", "symlink", "folder", "device"])
+def test_a_target_that_is_not_a_regular_file_is_refused_and_left_alone(tmp_path, kind):
+    import os
+
+    target = tmp_path / "target.csv"
+    if kind == "fifo":
+        os.mkfifo(target)
+    elif kind == "symlink":
+        (tmp_path / "real.csv").write_text("keep me")
+        target.symlink_to(tmp_path / "real.csv")
+    elif kind == "folder":
+        target.mkdir()
+    else:
+        target = Path("/dev/null")
+    with pytest.raises(BatchError, match="not a regular file; batch writes only to a regular"):
+        run_batch(_src(tmp_path), target, stream=io.StringIO())
+    if kind == "symlink":
+        assert target.is_symlink() and (tmp_path / "real.csv").read_text() == "keep me"
+    if kind == "device":
+        assert Path("/dev/null").is_char_device()
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]
+
+
+def test_rows_end_only_at_newline_cr_lf_and_cr(tmp_path):
+    # issue 18: U+2028, \v, \f, \x1c-\x1e and 0x85 inside a cell must not split a row.
+    weird = ["a\u2028b", "c\x0bd", "e\x0cf", "g\x1ch", "i\x1dj", "k\x1el", "m\u0085n"]
+    lines = [",".join(("case",) + REQUIRED)] + [f"{w},80,40,7.4,0.95,12,0.4,37" for w in weird]
+    src = tmp_path / "odd.csv"
+    src.write_bytes(("\r\n".join(lines[:4]) + "\r" + "\n".join(lines[4:]) + "\n").encode())
+    out = tmp_path / "odd_out.csv"
+    summary = run_batch(src, out, stream=io.StringIO())
+    assert summary.rows == len(weird) and summary.rows_with_errors == 0
+    with open(out, newline="", encoding="utf-8") as f:
+        rows = list(csv.DictReader(f))
+    assert [r["case"] for r in rows] == weird
+
+
+def test_unknown_extensions_are_refused(tmp_path):
+    with pytest.raises(BatchError, match=r"unknown output file type '.xlsx'"):
+        run_batch(_src(tmp_path), tmp_path / "o.xlsx", stream=io.StringIO())
+    with pytest.raises(BatchError, match=r"unknown input file type '.json'"):
+        run_batch(_src(tmp_path, name="in.json"), tmp_path / "o.csv", stream=io.StringIO())
+    assert not (tmp_path / "o.xlsx").exists()
+
+
+def test_a_hard_link_to_the_input_is_not_overwritten(tmp_path):
+    import os
+
+    src = _src(tmp_path)
+    os.link(src, tmp_path / "same.csv")
+    with pytest.raises(BatchError, match="overwrite the input"):
+        run_batch(src, tmp_path / "same.csv", stream=io.StringIO())
+    assert src.read_text() == GOOD
+
+
+@pytest.mark.parametrize(
+    "data, message",
+    [
+        (b"", "the file is empty"),
+        ("\ufeff".encode("utf-16-le") + GOOD.encode("utf-16-le"), "UTF-16 text, not UTF-8"),
+        (GOOD.replace("c1", "caf\xe9").encode("latin-1"), r"not UTF-8 text \(byte 0xe9"),
+        (b"\x00\x01\x02binary\xff" * 50, "NUL bytes"),
+        (b",".join(REQUIRED[i].encode() for i in range(7)) + b"\n", "no data rows"),
+    ],
+)
+def test_bad_input_files_are_refused_in_one_line(tmp_path, data, message):
+    src = tmp_path / "bad.csv"
+    src.write_bytes(data)
+    with pytest.raises(BatchError, match=message) as info:
+        run_batch(src, tmp_path / "o.csv", stream=io.StringIO())
+    assert "\n" not in str(info.value) and str(src) in str(info.value)
+    assert list(tmp_path.iterdir()) == [src]
+
+
+def test_a_fifo_input_is_refused_without_hanging(tmp_path):
+    import os
+
+    fifo = tmp_path / "gases.csv"
+    os.mkfifo(fifo)
+    with pytest.raises(BatchError, match="FIFO"):
+        run_batch(fifo, tmp_path / "o.csv", stream=io.StringIO())
+
+
+def test_parquet_in_and_out_with_the_caution_in_its_metadata(tmp_path):
+    import pyarrow.parquet as pq
+    from o2transit.model.batch import PARQUET_METADATA_KEYS
+
+    out_pq = tmp_path / "derived.parquet"
+    summary = run_batch(DATA / "batch_cohort_mmhg.csv", out_pq, stream=io.StringIO())
+    assert summary.format == "parquet" and out_pq.read_bytes()[:4] == b"PAR1"
+    table = pq.read_table(out_pq)
+    meta = {k.decode(): v.decode() for k, v in pq.read_metadata(out_pq).metadata.items()}
+    assert set(PARQUET_METADATA_KEYS) <= set(meta) and meta["o2transit.caution"] == CAUTION
+    assert meta["o2transit.rows"] == "9" and table.num_rows == 9
+    assert table.column_names == _header(DATA / "batch_cohort_mmhg.csv") + list(BATCH_OUTPUTS)
+    # Parquet in, CSV out: the same numbers as the CSV path
+    again = tmp_path / "again.csv"
+    src = tmp_path / "gases.parquet"
+    pq.write_table(table.select(_header(DATA / "batch_cohort_mmhg.csv")), src)
+    run_batch(src, again, stream=io.StringIO())
+    direct = tmp_path / "direct.csv"
+    run_batch(DATA / "batch_cohort_mmhg.csv", direct, stream=io.StringIO())
+    a, b = _rows(again), _rows(direct)
+    same = [i for i, r in enumerate(b) if not r["error"].startswith("row has")]  # G is ragged
+    assert len(a) == len(b) and len(same) == len(b) - 1
+    for key in BATCH_OUTPUTS:
+        assert [a[i][key] for i in same] == [b[i][key] for i in same], key
+
+
+def test_a_kill_leaves_no_temporary_file_and_no_traceback(tmp_path):
+    # SIGTERM, SIGINT and SIGHUP in the middle of a long run: non-zero, no traceback,
+    # nothing left in the output folder.
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    big = tmp_path / "big.csv"
+    row = "80,40,7.4,0.95,12,0.4,37\n"
+    big.write_text(",".join(REQUIRED) + "\n" + row * 400_000)
+    outdir = tmp_path / "out"
+    outdir.mkdir()
+    for sig in (signal.SIGTERM, signal.SIGINT, signal.SIGHUP):
+        proc = subprocess.Popen(
+            [sys.executable, "-m", "o2transit", "batch", str(big), "-o", str(outdir / "o.csv")],
+            stderr=subprocess.PIPE,
+        )
+        deadline = time.time() + 30
+        while not list(outdir.iterdir()) and time.time() < deadline and proc.poll() is None:
+            time.sleep(0.02)
+        proc.send_signal(sig)
+        _, err = proc.communicate(timeout=60)
+        text = err.decode()
+        if proc.returncode == 0:  # finished before the signal arrived: nothing to check
+            (outdir / "o.csv").unlink()
+            continue
+        assert proc.returncode == 128 + sig, text
+        assert "Traceback" not in text and "interrupted" in text
+        assert list(outdir.iterdir()) == []

@@ -1,4 +1,5 @@
-"""Lecture mode in headless Chromium: keys, buttons, index, address, motion, exports, offline.
+"""Lecture mode in headless Chromium: keys, buttons, index, address, motion, exports, offline;
+the layout at projector and laptop sizes, combined factors, the content view, the lesson maker.
 
 Skipped only on a machine without Chromium and without CI; under CI a missing browser fails.
 """
@@ -20,11 +21,15 @@ from browser_session import (
     wait_match,
 )
 from o2transit.dashboard.app import SCREENS
+from o2transit.dashboard.lecture.state import LESSON_DIR
 from o2transit.dashboard.lecture.views import GLIDE_MS
 from o2transit.dashboard.look import CAUTION
+from o2transit.model.lesson import load_lesson
 from playwright.sync_api import expect
 
 require_chromium()
+
+LESSON_FILE = LESSON_DIR / "rest-to-altitude.toml"
 
 
 @pytest.fixture(scope="module")
@@ -121,9 +126,9 @@ def test_buttons_and_index_jump(context, base_url):
 
 
 def test_address_restores_lesson_step_and_factor(context, base_url):
-    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=4")
-    wait_title(page, r"^Step 4 of 7 · First day at 4500 m")
-    expect(page.locator(".o2-lecture-index select")).to_have_value("4. First day at 4500 m")
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=5")
+    wait_title(page, r"^Step 5 of 7 · First day at 4500 m")
+    expect(page.locator(".o2-lecture-index select")).to_have_value("5. First day at 4500 m")
 
     page = open_lecture(
         context, base_url + "?factor=temperature_c&temperature_c=40&pressure_unit=kPa"
@@ -131,7 +136,9 @@ def test_address_restores_lesson_step_and_factor(context, base_url):
     wait_title(page, r"^One factor · Temperature 40\.0 °C")
     text = readout(page)
     assert re.match(r"P50 \d\.\d\d kPa:  \+0\.\d\d kPa  vs reference", text[0]), text
-    assert re.match(r"O2 unloaded at 5\.3 kPa:  \d+ mL/L,  \+\d+\.\d vs reference", text[1]), text
+    assert re.match(r"O2 extracted per litre:  \d+ mL/L,  \+\d+\.\d mL/L vs reference$", text[1]), (
+        text
+    )
     # Moving the factor rewrites the address; opening that address gives the same view.
     page.locator(".o2-lecture-factor button", has_text="2,3-DPG").click()
     wait_title(page, r"^One factor · 2,3-DPG 5\.0 mmol/L")
@@ -299,3 +306,198 @@ def test_page_asks_only_the_local_server(context, base_url):
     hosts = {urlsplit(u).hostname for u in context.requests if urlsplit(u).scheme != "blob"}
     assert hosts <= LOCAL_HOSTS, hosts
     expect(page.locator(".o2-nav")).to_contain_text("Lecture")
+
+
+# ---------------------------------------------------------------------- layout and new tools
+SIZES = [(1024, 768), (1280, 720), (1920, 1080)]
+
+
+def caption_text(page) -> str:
+    """The caption shown under the plot (its text is inside the pane's shadow root)."""
+    return page.locator(".o2-lecture-caption").evaluate(
+        "(e) => (e.shadowRoot ? e.shadowRoot.textContent : e.textContent).trim()"
+    )
+
+
+def no_sideways_scroll(page) -> None:
+    width, inner = page.evaluate("() => [document.documentElement.scrollWidth, window.innerWidth]")
+    assert width <= inner, (width, inner)
+
+
+def reachable(page, selector: str, min_width: float = 1, min_height: float = 1) -> dict:
+    """The element is shown, at a usable size, inside the page's width (scrolled to if below)."""
+    item = page.locator(selector).first
+    item.scroll_into_view_if_needed()
+    expect(item).to_be_visible()
+    box = item.bounding_box()
+    inner = page.evaluate("window.innerWidth")
+    assert box["width"] >= min_width and box["height"] >= min_height, (selector, box)
+    assert box["x"] >= 0 and box["x"] + box["width"] <= inner + 0.5, (selector, box, inner)
+    return box
+
+
+@pytest.mark.parametrize(("width", "height"), SIZES, ids=[f"{w}x{h}" for w, h in SIZES])
+def test_page_fits_each_screen_without_sideways_scroll(browser, base_url, width, height):
+    options = {"viewport": {"width": width, "height": height}}
+    with checked_context(browser, **options) as ctx:
+        page = open_lecture(ctx, base_url + "?lesson=rest-to-altitude&step=2")
+        wait_title(page, r"^Step 2 of 7")
+        no_sideways_scroll(page)
+        for selector in (".o2-lecture-html button", ".o2-lecture-png button", ".o2-nav"):
+            reachable(page, selector)
+        # The plot is the page; the figure (and the caution drawn in it, two lines under the
+        # legend) fits the width.
+        fig = page.evaluate(
+            "() => { const f = Bokeh.documents[0].get_model_by_name('o2-lecture-figure');"
+            " const v = Bokeh.index.find_one(f); const r = v.el.getBoundingClientRect();"
+            " return {x: r.x, w: r.width, h: r.height,"
+            " below: f.below.filter((m) => m.type === 'Title').map((m) => m.text)}; }"
+        )
+        assert fig["h"] >= 0.6 * height or fig["h"] >= 470, fig
+        assert fig["x"] >= 0 and fig["x"] + fig["w"] <= width, fig
+        assert any("not a medical device" in t for t in fig["below"]), fig
+        # The lesson picker is shown at a size that can be read and clicked.
+        picker = reachable(page, ".o2-lecture-lesson select", 200, 30)
+        assert picker["height"] <= 80
+        for selector in (".o2-lecture-next button", ".o2-lecture-view", ".o2-lecture-make"):
+            reachable(page, selector)
+        # Factor mode, combined: the sliders and the tissue PO2 are there too.
+        page = open_lecture(ctx, base_url + "?factor=ph&ph=7.2&temperature_c=39.5&combine=true")
+        wait_title(page, r"^Factors combined · pH 7\.20 \+ Temperature 39\.5 °C")
+        no_sideways_scroll(page)
+        for selector in (
+            ".o2-lecture-tissue",
+            ".o2-lecture-value-ph",
+            ".o2-lecture-combine",
+            ".o2-lecture-factor",
+            ".o2-lecture-html button",
+        ):
+            reachable(page, selector)
+        # The lesson maker opened: the page may grow downwards, never sideways.
+        page.locator(".o2-lecture-make button").click()
+        reachable(page, ".o2-maker-add button")
+        reachable(page, ".o2-maker-save button")
+        no_sideways_scroll(page)
+
+
+def test_home_and_end_go_to_the_first_and_last_step(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=3")
+    wait_title(page, r"^Step 3 of 7")
+    page.keyboard.press("End")
+    wait_title(page, r"^Step 7 of 7 · Carbon monoxide")
+    wait_address(page, r"step=7$")
+    expect(page.locator(".o2-lecture-next button")).to_be_disabled()
+    page.keyboard.press("Home")
+    wait_title(page, r"^Step 1 of 7 · Resting adult")
+    wait_address(page, r"step=1$")
+    # Home and End on a focused slider move the slider, not the lesson (factor mode).
+    page = open_lecture(context, base_url + "?factor=ph")
+    wait_title(page, r"pH 7\.40")
+    page.locator(".o2-lecture-value-ph .noUi-handle").press("End")
+    wait_title(page, r"^One factor · pH 7\.70")
+
+
+def test_factors_combine_and_show_their_shares(context, base_url):
+    page = open_lecture(context, base_url + "?factor=temperature_c")
+    wait_title(page, r"^One factor · Temperature 37\.0 °C")
+    page.locator(".o2-lecture-combine button", has_text="Combined").click()
+    wait_title(page, r"^Factors combined · Temperature 37\.0 °C")
+    page.locator(".o2-lecture-value-temperature_c .noUi-handle").press("End")  # 42 °C
+    wait_title(page, r"^Factors combined · Temperature 42\.0 °C")
+    page.locator(".o2-lecture-factor button", has_text=re.compile(r"^pH$")).click()
+    handle = page.locator(".o2-lecture-value-ph .noUi-handle")
+    expect(handle).to_be_visible()  # the pH slider is shown once the choice is applied
+    wait_title(page, r"· Temperature 42\.0 °C$")  # the fever stays while pH is chosen
+    handle.press("Home")  # pH 6.90
+    wait_title(page, r"^Factors combined · pH 6\.90 \+ Temperature 42\.0 °C$")
+    caption = page.locator(".o2-lecture-caption")
+    expect(caption).to_contain_text("Together the P50 moves +")
+    expect(caption).to_contain_text("Each factor moved alone from the reference: pH 6.90 +")
+    expect(caption).to_contain_text("Temperature 42.0 °C +")
+    expect(caption).to_contain_text("is their interaction")
+    shared = wait_address(page, r"combine=true")
+    assert "factor=ph&ph=6.9" in shared and "temperature_c=42" in shared
+    numbers = wait_readout(page, lambda text: text[0].split(":  ")[1].startswith("+"))
+    again = open_lecture(context, shared)
+    wait_title(again, r"^Factors combined · pH 6\.90 \+ Temperature 42\.0 °C$")
+    assert readout(again) == numbers
+    assert caption_text(again) == caption_text(page)
+    # Back to one factor at a time: the temperature is dropped, pH stays.
+    again.locator(".o2-lecture-combine button", has_text="One at a time").click()
+    wait_title(again, r"^One factor · pH 6\.90$")
+
+
+def test_content_view_shows_co_as_a_lower_plateau(context, base_url):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=7")
+    wait_title(page, r"^Step 7 of 7 · Carbon monoxide")
+    page.locator(".o2-lecture-view button", has_text="O2 content").click()
+    wait_address(page, r"view=content")
+
+    def curves():
+        return page.evaluate(
+            "() => { const d = Bokeh.documents[0];"
+            " const c = d.get_model_by_name('o2-curves-target').data;"
+            " const f = d.get_model_by_name('o2-lecture-figure');"
+            " return {top: c.current[c.current.length - 1],"
+            " ref: c.reference[c.reference.length - 1], label: f.left[0].axis_label,"
+            " end: f.y_range.end}; }"
+        )
+
+    # The axis and the data are two updates: wait for both.
+    shown = wait_for(
+        curves, lambda c: c["label"].startswith("O2 content") and c["top"] < 30, 10, str
+    )
+    # A quarter of the sites hold CO: the plateau is about three quarters of the reference's.
+    assert shown["top"] / shown["ref"] == pytest.approx(0.75, abs=0.02)
+    assert shown["end"] == 25
+    page.locator(".o2-lecture-view button", has_text="SO2").click()
+    shown = wait_for(curves, lambda c: c["label"] == "SO2 (%)" and c["top"] > 50, 10, str)
+    assert shown["top"] > 99  # the saturation of the sites left still reaches 100 %
+
+
+def test_make_a_lesson_save_it_and_read_it_back(context, base_url, tmp_path):
+    page = open_lecture(context, base_url + "?lesson=rest-to-altitude&step=3")
+    wait_title(page, r"^Step 3 of 7 · Fever")
+    page.locator(".o2-lecture-make button").click()
+    title = page.locator(".o2-maker-title input")
+    expect(title).to_have_value("Fever at 39.5 °C")  # the slide's own title, to edit
+    name = page.locator(".o2-maker-name input")
+    name.fill("Heat and acid")
+    name.press("Tab")
+    note = page.locator(".o2-maker-msg")
+    # A title too long is refused, with the field, the count and the allowed range.
+    title.fill("x" * 61)
+    title.press("Tab")
+    page.locator(".o2-maker-add button").click()
+    expect(note).to_contain_text("title has 61 characters; allowed 1–60 characters")
+    title.fill("Fever")
+    title.press("Tab")
+    page.locator(".o2-maker-add button").click()
+    expect(note).to_contain_text("Added step 1: Fever")
+    page.locator(".o2-lecture-next button").click()
+    wait_title(page, r"^Step 4 of 7 · Metabolic acidosis")
+    expect(title).to_have_value("Metabolic acidosis")  # the fields follow the slide
+    page.locator(".o2-maker-add button").click()
+    expect(note).to_contain_text("Added step 2: Metabolic acidosis")
+    steps = page.locator(".o2-maker-steps select")
+    steps.select_option(label="2. Metabolic acidosis")
+    page.locator(".o2-maker-up button").click()
+    expect(steps.locator("option").first).to_have_text("1. Metabolic acidosis")
+    with page.expect_download() as info:
+        page.locator(".o2-maker-save button").click()
+    assert info.value.suggested_filename == "heat-and-acid.toml"
+    path = tmp_path / info.value.suggested_filename
+    info.value.save_as(path)
+    lesson = load_lesson(path)
+    assert lesson.name == "Heat and acid"
+    assert [s.title for s in lesson.steps] == ["Metabolic acidosis", "Fever"]
+    shipped = load_lesson(LESSON_FILE)
+    assert lesson.steps[0].inputs == shipped.steps[3].inputs
+    assert lesson.steps[1].inputs == shipped.steps[2].inputs
+    assert lesson.steps[1].caption == shipped.steps[2].caption
+    # Shown here: the lesson is in the picker and steps like the others.
+    page.locator(".o2-maker-try button").click()
+    wait_title(page, r"^Step 1 of 2 · Metabolic acidosis")
+    wait_address(page, r"lesson=heat-and-acid&step=1$")
+    page.keyboard.press("End")
+    wait_title(page, r"^Step 2 of 2 · Fever")

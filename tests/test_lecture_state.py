@@ -27,7 +27,7 @@ def test_opens_on_the_first_step_of_the_example_lesson(state):
     f = state.frame
     assert f["tag"] == "Step 1 of 7" and f["heading"] == "Resting adult at sea level"
     assert f["p50_shift"] == pytest.approx(0.0, abs=1e-9)  # the first step is the reference
-    assert f["unloaded_change_ml_per_l"] == pytest.approx(0.0, abs=1e-9)
+    assert f["extracted_change_ml_per_l"] == pytest.approx(0.0, abs=1e-9)
     assert len(f["x"]) == len(f["current"]) == len(f["reference"]) == 300
 
 
@@ -111,27 +111,27 @@ def test_unloading_at_the_tissue_point_follows_the_curve():
     state = LectureState()
     state.choose_factor("ph")
     state.set_factor_value(7.20)  # right shift: more O2 given up at the same tissue PO2
-    right = state.frame["unloaded_change_ml_per_l"]
+    right = state.frame["extracted_change_ml_per_l"]
     state.set_factor_value(7.60)
-    left = state.frame["unloaded_change_ml_per_l"]
+    left = state.frame["extracted_change_ml_per_l"]
     assert right > 5.0 and left < -5.0
     # A lower tissue PO2 frees more O2 from the same blood.
     state.set_factor_value(7.40)
-    at40 = state.frame["unloaded_ml_per_l"]
+    at40 = state.frame["extracted_ml_per_l"]
     assert state.set_tissue_po2(20.0)
-    assert state.frame["unloaded_ml_per_l"] > at40 + 20
+    assert state.frame["extracted_ml_per_l"] > at40 + 20
     # The amount is the content difference, 10 (CaO2 - C(tissue)) mL/L: Hb-bound plus dissolved.
     f = state.frame
     bound = model.HUFNER_ML_G * 15.0 * (f["arterial_so2"] - f["tissue_so2"]) / 100 * 10
     dissolved = model.O2_SOLUBILITY_ML_DL_MMHG * (f["loading"][0] - 20.0) * 10
-    assert f["unloaded_ml_per_l"] == pytest.approx(bound + dissolved, rel=1e-9)
+    assert f["extracted_ml_per_l"] == pytest.approx(bound + dissolved, rel=1e-9)
 
 
 def test_anaemia_unloads_less_per_litre(state):
     state.go_to(6)
     f = state.frame
     assert f["p50_shift"] == pytest.approx(0.0, abs=0.05)  # the curve itself does not move
-    ratio = f["unloaded_ml_per_l"] / f["reference_unloaded_ml_per_l"]
+    ratio = f["extracted_ml_per_l"] / f["reference_extracted_ml_per_l"]
     assert ratio == pytest.approx(8.0 / 15.0, abs=0.03)  # Hb 8 vs 15, less the dissolved part
 
 
@@ -166,7 +166,10 @@ def test_refused_values_name_field_value_range_and_unit(state):
     assert not state.choose_factor("salt")
     assert "Factor 'salt' unknown" in state.message
     assert not state.choose_lesson("nope")
-    assert state.message == "Lesson 'nope' not found; lessons here: rest-to-altitude."
+    assert state.message == (
+        "Lesson 'nope' not found; lessons here: rest-to-altitude, shunt-anaemia-and-flow, "
+        "staying-at-altitude."
+    )
 
 
 def test_address_round_trip(state):
@@ -190,7 +193,7 @@ def test_address_round_trip(state):
     copy = LectureState()
     assert copy.restore_query(query) == []
     assert copy.frame["heading"] == state.frame["heading"]
-    assert copy.frame["unloaded_ml_per_l"] == pytest.approx(state.frame["unloaded_ml_per_l"])
+    assert copy.frame["extracted_ml_per_l"] == pytest.approx(state.frame["extracted_ml_per_l"])
 
 
 def test_bad_address_values_fall_back_with_messages(state):
@@ -216,7 +219,10 @@ def test_bad_address_values_fall_back_with_messages(state):
     assert (
         LectureState()
         .restore_query({"lesson": "gone"})[0]
-        .startswith("lesson = 'gone' not found (lessons: rest-to-altitude)")
+        .startswith(
+            "lesson = 'gone' not found (lessons: rest-to-altitude, shunt-anaemia-and-flow, "
+            "staying-at-altitude)"
+        )
     )
 
 

@@ -9,9 +9,12 @@ from o2transit.model.lesson import (
     DEFAULT_TISSUE_PO2_MMHG,
     MAX_STEPS,
     LessonError,
+    LessonStep,
     lesson_files,
     lesson_from_mapping,
+    lesson_to_toml,
     load_lesson,
+    step_mapping,
 )
 
 from o2transit import model
@@ -50,7 +53,9 @@ def test_example_lesson_loads_and_every_step_solves():
     assert lesson.steps[0].title == "Resting adult at sea level"
     assert lesson.steps[1].tissue_po2_mmhg == 20.0  # exercise names its own tissue PO2
     assert lesson.steps[0].tissue_po2_mmhg == 40.0
-    assert lesson.steps[3].inputs["pressure_model"] == "mountain"
+    assert lesson.steps[4].inputs["pressure_model"] == "mountain"
+    assert lesson.steps[4].tissue_point == "venous"  # altitude reads the venous solve
+    assert {s.tissue_point for s in lesson.steps[:4]} == {"held"}
     for step in lesson.steps:
         assert CAPTION_CHARS[0] <= len(step.caption) <= CAPTION_CHARS[1]
         model.solve_transport(**step.inputs)
@@ -166,3 +171,70 @@ def test_lesson_level_tissue_po2_is_the_default_of_each_step(tmp_path):
     rest, anaemia = load_lesson(write(tmp_path, text)).steps
     assert rest.tissue_po2_mmhg == 25.0
     assert anaemia.tissue_po2_mmhg == pytest.approx(30.0, abs=0.01)  # its own 4.0 kPa
+
+
+def test_tissue_point_venous_and_its_refusals(tmp_path):
+    text = textwrap.dedent(GOOD).replace(
+        'description = "Two invented steps."', 'description = "d"\ntissue_point = "venous"'
+    )
+    rest, anaemia = load_lesson(write(tmp_path, text)).steps
+    assert rest.tissue_point == "venous"  # the lesson's default
+    assert anaemia.tissue_point == "held"  # a step naming a PO2 holds it there
+    assert anaemia.tissue_po2_mmhg == pytest.approx(30.0, abs=0.01)
+    held = text.replace('title = "Rest"', 'title = "Rest"\ntissue_point = "held"')
+    assert load_lesson(write(tmp_path, held)).steps[0].tissue_point == "held"
+    for change, expected in [
+        (
+            ('title = "Rest"', 'title = "Rest"\ntissue_point = "arterial"'),
+            "step 1: tissue_point = 'arterial' is not one of held, venous",
+        ),
+        (
+            ("tissue_po2_kpa = 4.0", 'tissue_po2_kpa = 4.0\ntissue_point = "venous"'),
+            "step 2: tissue_point = 'venous' and tissue_po2_kpa both given; keep one",
+        ),
+    ]:
+        with pytest.raises(LessonError) as err:
+            load_lesson(write(tmp_path, text.replace(*change)))
+        assert expected in str(err.value)
+
+
+def test_written_lesson_reads_back_step_for_step(tmp_path):
+    lesson = load_lesson(EXAMPLE)
+    path = tmp_path / "copy.toml"
+    path.write_text(lesson_to_toml(lesson.name, lesson.description, lesson.steps), "utf-8")
+    again = load_lesson(path)
+    assert again.name == lesson.name and again.description == lesson.description
+    assert len(again.steps) == len(lesson.steps)
+    for a, b in zip(lesson.steps, again.steps):
+        assert (a.number, a.title, a.caption, a.tissue_point) == (
+            b.number,
+            b.title,
+            b.caption,
+            b.tissue_point,
+        )
+        assert b.tissue_po2_mmhg == pytest.approx(a.tissue_po2_mmhg)
+        assert b.inputs.keys() == a.inputs.keys()
+        for key, value in a.inputs.items():
+            assert b.inputs[key] == (
+                value if isinstance(value, (bool, str)) else pytest.approx(value)
+            )
+    text = path.read_text("utf-8")
+    assert text.startswith("# A lesson for the o2transit lecture page")
+    assert 'tissue_point = "venous"' in text and "[step.air]" in text
+
+
+def test_writing_refuses_what_reading_would(tmp_path):
+    rest = LessonStep(1, "Rest", "A resting adult.", 40.0)
+    with pytest.raises(LessonError, match="step 2: title has 61 characters; allowed 1–60"):
+        lesson_to_toml("n", "", [rest, LessonStep(2, "x" * 61, "c", 40.0)])
+    with pytest.raises(
+        LessonError,
+        match=r"step 1: \[blood\] hb_g_dl = 99 is outside the allowed range 2-25 g/dL",
+    ):
+        lesson_to_toml("n", "", [LessonStep(1, "t", "c", 40.0, {"hb_g_dl": 99.0})])
+    with pytest.raises(LessonError, match="tissue_po2_mmhg = 200 is outside the allowed range"):
+        lesson_to_toml("n", "", [LessonStep(1, "t", "c", 200.0)])
+    with pytest.raises(LessonError, match="0 steps; allowed 1–30 steps per lesson"):
+        lesson_to_toml("n", "", [])
+    with pytest.raises(LessonError, match="unknown case input 'colour'"):
+        step_mapping(LessonStep(1, "t", "c", 40.0, {"colour": 1.0}))

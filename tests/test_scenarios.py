@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import numpy as np
@@ -142,9 +143,62 @@ def test_unsolvable_case_raises_scenario_error(tmp_path):
 
 
 @pytest.mark.parametrize("drop", ["name", "description"])
-def test_name_and_description_required(tmp_path, drop):
-    # scenarios/README.md: name and description are required.
+def test_name_and_description_are_optional(tmp_path, drop):
+    # scenarios/README.md: every key is optional; the name falls back to the file's name.
     lines = [ln for ln in VALID.splitlines() if not ln.startswith(drop + " =")]
-    path = _write(tmp_path, "\n".join(lines) + "\n")
-    with pytest.raises(ScenarioError, match=drop):
+    sc = load_scenario(_write(tmp_path, "\n".join(lines) + "\n", name="my-case.toml"))
+    assert sc.name == ("my-case" if drop == "name" else "Test case")
+    assert sc.description == ("" if drop == "description" else VALID.split('"')[3])
+
+
+def test_one_table_alone_is_a_case(tmp_path):
+    # issue 14: printf '[blood]\nhb_g_dl = 10\n' > x.toml; o2transit evaluate x.toml
+    sc = load_scenario(_write(tmp_path, "[blood]\nhb_g_dl = 10\n", name="x.toml"))
+    assert sc.name == "x" and sc.inputs == {"hb_g_dl": 10.0}
+
+
+def test_misspelt_table_is_reported_as_such(tmp_path):
+    path = _write(tmp_path, "[blod]\nhb_g_dl = 10\n")
+    with pytest.raises(ScenarioError) as info:
         load_scenario(path)
+    msg = str(info.value)
+    assert "unknown table [blod]" in msg and "did you mean 'blood'" in msg
+    assert "name" not in msg.split(";")[0]  # not reported as a missing name
+
+
+def test_every_problem_in_a_file_is_reported_at_once(tmp_path):
+    text = (
+        "[blood]\nhb_g_dl = 40\nph = 7.3\nbase_excess_mmol_l = -5\n"
+        "[air]\nfio2 = 2\nhb_g_l = 90\n[lungs]\nshunt = 0.1\n[heart]\nrate = 60\n"
+    )
+    path = _write(tmp_path, text, name="many.toml")
+    with pytest.raises(ScenarioError) as info:
+        load_scenario(path)
+    problems = info.value.problems
+    assert str(info.value).splitlines() == list(problems)
+    assert all(p.startswith(f"{path}: ") for p in problems)
+    expected = [
+        r"\[blood\] hb_g_dl = 40 is outside the allowed range 2-25 g/dL \(Haemoglobin\)",
+        r"\[air\] fio2 = 2 is outside the allowed range 0.05-1 \(FiO2\)",
+        r"\[air\] unknown key 'hb_g_l'; it belongs in \[blood\]",
+        r"\[lungs\] unknown key 'shunt'; did you mean 'shunt_fraction'",
+        r"unknown table \[heart\]",
+        r"\[blood\] ph and base_excess_mmol_l are both given; keep one",
+    ]
+    for pattern in expected:
+        assert any(re.search(pattern, p) for p in problems), pattern
+    assert len(problems) == len(expected)
+
+
+def test_a_value_of_the_wrong_type_names_the_allowed_range_and_unit(tmp_path):
+    path = _write(tmp_path, '[lungs]\npaco2_kpa = "five"\n[blood]\nhb_g_dl = nan\n')
+    with pytest.raises(ScenarioError) as info:
+        load_scenario(path)
+    a, b = info.value.problems
+    assert "[lungs] paco2_kpa = 'five' must be a number; allowed range 0.6666-20 kPa" in a
+    assert "[blood] hb_g_dl = nan is not a number; allowed range 2-25 g/dL" in b
+
+
+def test_a_top_level_key_is_sent_to_its_table(tmp_path):
+    with pytest.raises(ScenarioError, match=r"hb_g_dl is not a top-level key; put it in the \[blood\]"):
+        load_scenario(_write(tmp_path, "hb_g_dl = 10\n"))

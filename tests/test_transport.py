@@ -529,3 +529,22 @@ def test_float_path_agrees_with_array_path_everywhere(case):
     arr_leaves = dict(_leaves(arr.to_dict()))
     for name, value in _leaves(one.to_dict()):
         assert value == pytest.approx(arr_leaves[name][0], rel=1e-9, abs=1e-9), name
+
+
+@pytest.mark.parametrize("name", ["hb_g_dl", "fio2", "paco2_mmhg", "cardiac_output_l_min"])
+def test_a_nan_input_is_refused_with_field_range_and_unit(name):
+    # issue 18: NaN inputs returned NaN results without an error.
+    label = INPUT_LIMITS[name][3]
+    with pytest.raises(ValueError, match=rf"{name} = nan is not a number \({label}; allowed"):
+        solve_transport(**{name: float("nan")})
+    with pytest.raises(ValueError, match=name):
+        solve_transport(**{name: float("inf")})
+
+
+def test_running_out_of_passes_is_said_not_hidden():
+    # issue 18: 60 passes without converging returned silently.
+    capped = solve_transport(altitude_m=4000.0, max_iterations=2)
+    assert not bool(capped.converged) and capped.to_dict()["converged"] is False
+    assert bool(solve_transport(altitude_m=4000.0).converged)
+    both = solve_transport(altitude_m=np.array([0.0, 4000.0]), max_iterations=60)
+    assert both.converged.tolist() == [True, True]

@@ -1,7 +1,9 @@
 """The ascent planner screen (``/ascent``): one independent workspace per browser session.
 
-The address carries the compared schedules (``/ascent?schedules=fast-to-5300m,slow-to-5300m``)
-and restores them on load.
+The address carries the compared schedules: unedited examples by name
+(``/ascent?schedules=fast-to-5300m,slow-to-5300m``), edited, copied or uploaded ones and any
+readings in ``plan`` (:mod:`dashboard.ascent.sharing`), and the pressure unit in
+``pressure_unit``; it is rewritten on every change and restores the comparison on load.
 """
 
 from __future__ import annotations
@@ -11,20 +13,34 @@ import panel as pn
 from ..look import ACCENT, caution_pane
 from ..nav import screen_links
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
-from .state import QUERY_KEY, AscentWorkspace
-from .views import (
+from .comparison_views import (
     CaseLink,
     ComparisonPlots,
     ExportButtons,
     FlagList,
-    ScheduleEditor,
-    ScheduleLibrary,
-    StatusLine,
+    SharePanel,
     SummaryTable,
     Thresholds,
 )
+from .editor_view import ScheduleEditor
+from .export import PRINT_CSS
+from .readings_view import ReadingsPanel
+from .state import PLAN_KEY, QUERY_KEY, UNIT_KEY, AscentWorkspace
+from .views import ScheduleLibrary, StatusLine, UnitToggle
 
 TITLE = "o2transit · ascent planner"
+
+PAGE_PRINT_CSS = (
+    PRINT_CSS
+    + """
+@media print {
+  #header, #sidebar, .pn-busy-container, .o2-nav { display: none !important; }
+  #main, #content, .main { margin: 0 !important; padding: 0 !important; width: 100% !important;
+    max-width: none !important; }
+}
+"""
+)
+"""The live planner on paper: the comparison without the sidebar, header and controls."""
 
 
 def _heading(text: str) -> pn.pane.HTML:
@@ -35,29 +51,33 @@ def _heading(text: str) -> pn.pane.HTML:
 
 
 def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.BootstrapTemplate:
-    """Page for one session: schedules and the day editor in the sidebar, the comparison in
-    the main area."""
+    """Page for one session: schedules, the day editor and the readings in the sidebar, the
+    comparison in the main area."""
     pn.extension("tabulator")
     ws = AscentWorkspace() if ws is None else ws
     notice = url_message_pane()
     query = read_query()
-    if QUERY_KEY in query:
-        messages = ws.restore_selection(query[QUERY_KEY])
+    if QUERY_KEY in query or PLAN_KEY in query:
+        messages = ws.restore_address(query)
     else:
         # A first visit opens on the examples, so the page shows a comparison at once.
+        messages = ws.restore_address({k: v for k, v in query.items() if k == UNIT_KEY})
         ws.load_examples()
-        messages = []
     show_url_messages(notice, messages)
 
     def sync_address(*_events) -> None:
         # "?schedules=" (empty) is kept, so an empty workspace reloads empty.
-        write_query({QUERY_KEY: ws.selection_query()}, [QUERY_KEY])
+        write_query(ws.address_query(), [PLAN_KEY, UNIT_KEY, QUERY_KEY])
 
-    ws.param.watch(sync_address, ["compared"])
+    ws.param.watch(sync_address, ["compared", "schedules", "readings", "pressure_unit"])
     sync_address()
 
     template = pn.template.BootstrapTemplate(
-        title=TITLE, header_background=ACCENT, sidebar_width=470, collapsed_sidebar=False
+        title=TITLE,
+        header_background=ACCENT,
+        sidebar_width=470,
+        collapsed_sidebar=False,
+        raw_css=[PAGE_PRINT_CSS],
     )
     template.header.append(screen_links("/ascent"))
     template.sidebar.append(
@@ -66,6 +86,8 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
             ScheduleLibrary(ws),
             _heading("Edit a schedule"),
             ScheduleEditor(ws),
+            _heading("Readings logged on the way"),
+            ReadingsPanel(ws),
             sizing_mode="stretch_width",
         )
     )
@@ -74,6 +96,7 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
             notice,
             caution_pane(),
             StatusLine(ws),
+            UnitToggle(ws),
             ComparisonPlots(ws),
             CaseLink(ws),
             _heading("Side by side"),
@@ -82,10 +105,12 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
             _heading("Days breaking the ascent-rate guidance"),
             pn.pane.HTML(
                 "Wilderness Medical Society consensus guidelines (Luks et al. 2019, 2024), in "
-                "our words; night values are at rest at the sleeping altitude.",
+                "our words; night values are at rest, awake, at the sleeping altitude.",
                 styles={"font-size": "13px", "color": "#46545c"},
             ),
             FlagList(ws),
+            _heading("Share the comparison"),
+            SharePanel(ws),
             _heading("Export the comparison"),
             ExportButtons(ws),
             sizing_mode="stretch_width",

@@ -1,10 +1,10 @@
 """The planner's comparison drawn: day-by-day Bokeh figures (built once, data replaced),
 the legend, the side-by-side summary table and the list of flags, as HTML.
 
-Used by the live screen (:mod:`dashboard.ascent.views`) and by the offline HTML export
-(:mod:`dashboard.ascent.export`), so both show the same drawing. Schedules are told apart by
-colour and by line dash; a flagged day is a triangle, an ordinary night a circle, so neither
-depends on colour alone.
+Used by the live screen (:mod:`dashboard.ascent.comparison_views`) and by the offline HTML
+export (:mod:`dashboard.ascent.export`), so both show the same drawing. Schedules are told
+apart by colour and by line dash; a flagged day is a triangle, an ordinary night a circle, so
+neither depends on colour alone.
 """
 
 from __future__ import annotations
@@ -29,12 +29,23 @@ SLOT_COLORS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
 SLOT_DASHES = ("solid", "dashed", "dotdash", "dotted")
 SVG_DASHES = {"solid": "", "dashed": "8 5", "dotdash": "2 4 8 4", "dotted": "2 4"}
 NIGHT_MARKER, FLAG_MARKER = "circle", "triangle"
+READING_MARKER = "diamond"
 FLAG_LINE = "#7a1414"
+BAND_ALPHA = 0.16
+BAND_NOTE = (
+    "The shaded band is the predicted SpO2 of a resting reading at the sleeping altitude "
+    "(pulse oximeter, awake, on air unless oxygen is scheduled) for about 95 % of lowlanders "
+    "on this schedule, or for this person once their readings are entered. A reading at rest "
+    "below the band's lower edge is unusual for this schedule: recheck it (warm hands, still, "
+    "a minute of steady reading) and, if it stays low, act on it as your local protocol says. "
+    "A reading within the band is not a sign of health: altitude illness is diagnosed by "
+    "symptoms, not by SpO2. Readings taken asleep or just after effort run lower."
+)
 
 PANELS = (
     # key, series column, title, y-axis label, digits for the hover
     ("altitude", "sleep_altitude_m", "Sleeping altitude and the day's high point", "m", 0),
-    ("pao2", "pao2_mmhg", "PaO2 at night", "mmHg", 1),
+    ("pao2", "pao2", "PaO2 at night", "mmHg", 1),
     ("sao2", "sao2_pct", "SaO2 at night", "%", 1),
     ("cao2", "cao2_ml_dl", "CaO2 at night", "mL O2/dL", 1),
 )
@@ -70,6 +81,10 @@ class ComparisonFigures:
         self._lines = {p[0]: [] for p in PANELS}
         self.threshold_spans = []
         self.threshold_labels = []
+        self.band_sources = []
+        self.reading_source = ColumnDataSource(
+            data={k: [] for k in ("x", "y", "key", "name", "fill", "text")}
+        )
         for key, _col, title, unit, digits in PANELS:
             kw = {"width": width} if width else {"sizing_mode": "stretch_width"}
             fig = figure(
@@ -89,6 +104,18 @@ class ComparisonFigures:
             fig.axis.axis_label_text_font_style = "normal"
             fig.axis.major_label_text_font_size = "12px"
             fig.outline_line_color = None
+            if key == "sao2":
+                for slot in range(len(SLOT_COLORS)):
+                    band = ColumnDataSource(data={"x": [], "y1": [], "y2": []})
+                    fig.varea(
+                        "x",
+                        "y1",
+                        "y2",
+                        source=band,
+                        fill_color=SLOT_COLORS[slot],
+                        fill_alpha=BAND_ALPHA,
+                    )
+                    self.band_sources.append(band)
             for slot in range(len(SLOT_COLORS)):
                 src = ColumnDataSource(data={"x": [], "y": []})
                 line = fig.line(
@@ -151,6 +178,19 @@ class ComparisonFigures:
             if tap:
                 fig.add_tools(TapTool(renderers=[scatter]))
             if key == "sao2":
+                logged = fig.scatter(
+                    "x",
+                    "y",
+                    source=self.reading_source,
+                    marker=READING_MARKER,
+                    size=12,
+                    fill_color="fill",
+                    line_color=INK,
+                    line_width=1.5,
+                )
+                fig.add_tools(
+                    HoverTool(renderers=[logged], tooltips=[("", "@name"), ("", "@text")])
+                )
                 for _ in range(2):
                     span = Span(
                         location=np.nan,
@@ -179,7 +219,11 @@ class ComparisonFigures:
         """Replace the data: ``compared`` is ``[(key, series), ...]`` (at most four), each
         series as :meth:`dashboard.ascent.state.AscentWorkspace.series` gives it (with its
         ``name`` and drawing ``slot``)."""
+        pressure = compared[0][1].get("pressure_unit", "mmHg") if compared else "mmHg"
         for key, col, _title, unit, digits in PANELS:
+            if key == "pao2":
+                unit, digits = pressure, (2 if pressure == "kPa" else 1)
+                self.figures[key].yaxis.axis_label = unit
             pts = {k: [] for k in _EMPTY_POINTS}
             drawn = {int(s["slot"]): (skey, s) for skey, s in compared}
             for slot in range(len(SLOT_COLORS)):
@@ -203,11 +247,40 @@ class ComparisonFigures:
                     pts["fill"].append(color)
                     pts["line"].append(FLAG_LINE if flagged else color)
                     pts["flags"].append(f"⚠ {s['flags'][i]}" if flagged else "")
+                    extra = ""
+                    if key == "sao2":
+                        extra = (
+                            f"; predicted SpO2 {s['spo2_low_pct'][i]:.0f}-"
+                            f"{s['spo2_high_pct'][i]:.0f} %"
+                        )
                     pts["text"].append(
-                        f"night {xi}: {_night_text(s, i)} — {key_text(key, yi, unit, digits)}"
+                        f"night {xi}: {_night_text(s, i)} — "
+                        f"{key_text(key, yi, unit, digits)}{extra}"
                     )
             self.point_sources[key].data = pts
             self.point_sources[key].selected.indices = []
+        drawn = {int(s["slot"]): s for _skey, s in compared}
+        for slot, band in enumerate(self.band_sources):
+            s = drawn.get(slot)
+            band.data = (
+                {"x": [], "y1": [], "y2": []}
+                if s is None
+                else {
+                    "x": [int(v) for v in s["day"]],
+                    "y1": [float(v) for v in s["spo2_low_pct"]],
+                    "y2": [float(v) for v in s["spo2_high_pct"]],
+                }
+            )
+        logged = {k: [] for k in ("x", "y", "key", "name", "fill", "text")}
+        for skey, s in compared:
+            for i, day in enumerate(s.get("readings_day", [])):
+                logged["x"].append(int(day))
+                logged["y"].append(float(s["readings_spo2_pct"][i]))
+                logged["key"].append(skey)
+                logged["name"].append(s["name"])
+                logged["fill"].append(SLOT_COLORS[int(s["slot"])])
+                logged["text"].append(reading_text(s, i))
+        self.reading_source.data = logged
         hi = {k: [] for k in ("x", "y0", "y1", "color", "name", "text")}
         for _skey, s in compared:
             slot = int(s["slot"])
@@ -217,9 +290,11 @@ class ComparisonFigures:
                 hi["y1"].append(float(s["high_altitude_m"][i]))
                 hi["color"].append(SLOT_COLORS[slot])
                 hi["name"].append(s["name"])
+                pd = 2 if pressure == "kPa" else 1
                 hi["text"].append(
                     f"day {int(s['day'][i])} high point {s['high_altitude_m'][i]:.0f} m: "
-                    f"PaO2 {s['high_pao2_mmhg'][i]:.1f} mmHg, SaO2 {s['high_sao2_pct'][i]:.1f} %"
+                    f"PaO2 {s['high_pao2'][i]:.{pd}f} {pressure}, SaO2 "
+                    f"{s['high_sao2_pct'][i]:.1f} %"
                 )
         self.high_source.data = hi
         for span, label, t in zip(self.threshold_spans, self.threshold_labels, thresholds_pct):
@@ -233,6 +308,23 @@ class ComparisonFigures:
 
         f = self.figures
         return gridplot([[f["altitude"], f["pao2"]], [f["sao2"], f["cao2"]]], toolbar_location=None)
+
+
+def reading_text(s: dict, i: int) -> str:
+    """Hover text of reading ``i`` of a series: the reading beside its forecast."""
+    day, alt = int(s["readings_day"][i]), float(s["readings_altitude_m"][i])
+    text = f"reading day {day} at {alt:.0f} m: SpO2 {s['readings_spo2_pct'][i]:.0f} %"
+    if len(s.get("readings_forecast_pct", [])) > i:
+        text += (
+            f"; forecast for this person {s['readings_forecast_pct'][i]:.0f} %, for a typical "
+            f"lowlander {s['readings_typical_pct'][i]:.0f} %"
+        )
+    hr, lls = s["readings_heart_rate"][i], s["readings_lake_louise"][i]
+    if hr is not None:
+        text += f"; heart rate {hr:.0f}/min"
+    if lls is not None:
+        text += f"; Lake Louise score {lls}"
+    return text
 
 
 def key_text(panel: str, value: float, unit: str, digits: int) -> str:
@@ -262,6 +354,16 @@ def legend_html(entries: list[tuple[str, int]]) -> str:
         "<span class='o2-legend-item'><svg width='18' height='16' aria-hidden='true'>"
         f"<polygon points='9,2 16,14 2,14' fill='#9aa5a8' stroke='{FLAG_LINE}' "
         "stroke-width='1.5'/></svg> day breaking ascent-rate guidance</span>"
+    )
+    items.append(
+        "<span class='o2-legend-item'><svg width='26' height='14' aria-hidden='true'>"
+        f"<rect x='1' y='2' width='24' height='10' fill='#5b6770' fill-opacity='{BAND_ALPHA * 2}'/>"
+        "</svg> predicted SpO2 at rest (band)</span>"
+    )
+    items.append(
+        "<span class='o2-legend-item'><svg width='18' height='16' aria-hidden='true'>"
+        f"<polygon points='9,2 16,8 9,14 2,8' fill='#9aa5a8' stroke='{INK}' stroke-width='1.5'/>"
+        "</svg> logged reading</span>"
     )
     items.append(
         "<span class='o2-legend-item'><svg width='18' height='16' aria-hidden='true'>"
@@ -307,6 +409,13 @@ def summary_html(summaries: list[dict], thresholds_pct=(90.0, 80.0)) -> str:
     rows = [
         ("Days in the schedule", lambda s: f"{s['days']}", "days"),
         ("Lowest night SaO2", lambda s: f"{100 * s['lowest_night_sao2']:.1f} %", "lowest"),
+        (
+            "Predicted SpO2 that night (band)",
+            lambda s: (
+                f"{100 * s['lowest_night_band'][0]:.0f}–{100 * s['lowest_night_band'][1]:.0f} %"
+            ),
+            "lowest_band",
+        ),
         (f"Nights below {hi:g} %", lambda s: f"{s['nights_below_high']}", "below_high"),
         (f"Nights below {lo:g} %", lambda s: f"{s['nights_below_low']}", "below_low"),
         (
@@ -321,6 +430,8 @@ def summary_html(summaries: list[dict], thresholds_pct=(90.0, 80.0)) -> str:
         ),
         ("Highest night", lambda s: f"{s['highest_sleep_altitude_m']:.0f} m", "highest_night"),
         ("Guidance flags", lambda s: f"{s['flag_count']}", "flags"),
+        ("Forecast for", _fit_text, "fit"),
+        ("Pressures from", lambda s: html.escape(s["pressure_model"]), "pressure_model"),
     ]
     head = (
         "<tr><th class='what'>Measure</th>"
@@ -345,6 +456,21 @@ def summary_html(summaries: list[dict], thresholds_pct=(90.0, 80.0)) -> str:
         f"<tr data-row='risk'><td class='what'>Risk category (guideline table)</td>{risk}</tr>"
     )
     return f"<table class='o2s'>{head}{''.join(body)}</table>"
+
+
+def _fit_text(s: dict) -> str:
+    fit = s.get("fit")
+    if fit is None:
+        return "a typical lowlander (no readings)"
+    sign = "+" if fit.offset_mmhg >= 0 else "−"
+    more = "less" if fit.offset_mmhg >= 0 else "more"
+    text = (
+        f"this person, from {fit.n} reading{'s' if fit.n != 1 else ''}: breathes {more} than "
+        f"typical (PaCO2 {sign}{abs(fit.offset_mmhg):.1f} ± {fit.sd_mmhg:.1f} mmHg)"
+    )
+    if fit.at_limit:
+        text += "; at the limit of the model: check the readings"
+    return text
 
 
 def flags_html(flagged: list[tuple[str, list[tuple[int, float, str]], int]]) -> str:

@@ -1,88 +1,62 @@
 """Session state of the ascent planner: open schedules, the one being edited, the ones
-compared, their results and the day picked to open as a case.
+compared, their results, the readings logged for them and the day picked to open as a case.
 
-No Panel import here: every action is a method that either applies completely or refuses
-with :attr:`AscentWorkspace.error_message` naming the field, the value, the allowed range and
-the unit, leaving every schedule as it was. Results come from :mod:`model.ascent`; the views
-only format them.
+No Panel import here. :class:`AscentWorkspace` holds every parameter the views watch and
+composes five parts that act on them: :class:`~.schedules.OpenSchedules` (open, close,
+copy, rename, compare), :class:`~.editing.DayTableEditor` (the day table),
+:class:`~.readings.ReadingsLog` (a trekker's readings and the re-forecast from them),
+:class:`~.comparison.Comparison` (the model's results under the chosen thresholds and
+pressure unit, the picked night) and :class:`~.sharing.Sharing` (the page address and the
+workspace file). Every action either applies completely, in one update of the parameters, or
+refuses with :attr:`AscentWorkspace.error_message` naming the field, the value, the allowed
+range and the unit, leaving every schedule as it was. Results come from :mod:`model.ascent`;
+the views only format them.
 """
 
 from __future__ import annotations
 
-import dataclasses
-import math
-import re
-import tomllib
 from pathlib import Path
-from urllib.parse import urlencode
 
 import numpy as np
 import param
 
-from ...model.ascent import (
-    AscentDay,
-    AscentError,
-    AscentProfile,
-    AscentResult,
-    ascent_from_mapping,
-    days_from_csv,
-    days_to_csv,
-    load_ascent,
-    run_ascent,
-)
-from ...model.ascent_report import CASE_KEYS, hypoxic_burden, night_case_inputs, nights_below
-from ...model.scenario import ASCENT_EXAMPLES_DIR
+from ...model.ascent import AscentProfile
+from .comparison import Comparison
+from .editing import DAY_FIELDS, DayTableEditor
+from .readings import READING_FIELDS, ReadingsLog
+from .schedules import EXAMPLE_DIR, MAX_COMPARED, QUERY_KEY, OpenSchedules
+from .sharing import PLAN_KEY, UNIT_KEY, Sharing
 
-EXAMPLE_DIR = ASCENT_EXAMPLES_DIR
-MAX_COMPARED = 4
-QUERY_KEY = "schedules"
-"""Address key of the planner screen: the compared schedules, e.g. ``fast-to-5300m,slow``."""
-
-DAY_FIELDS = {
-    "sleep_altitude_m": "Sleeping altitude (m)",
-    "high_altitude_m": "High point (m)",
-    "fio2": "FiO2 (fraction)",
-}
-"""Editable columns of a day, with their labels; the keys are the CSV and TOML key names."""
-
-
-def _slug(text: str) -> str:
-    s = re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
-    return s or "schedule"
-
-
-def _day_mapping(day: AscentDay) -> dict:
-    out: dict = {"sleep_altitude_m": day.sleep_altitude_m}
-    if day.high_altitude_m is not None:
-        out["high_altitude_m"] = day.high_altitude_m
-    if day.fio2 != 0.21:
-        out["fio2"] = day.fio2
-    return out
-
-
-def _profile_mapping(profile: AscentProfile, days) -> dict:
-    base = {k: v for k, v in dataclasses.asdict(profile.baseline).items() if v is not None}
-    return {
-        "name": profile.name,
-        "description": profile.description,
-        "baseline": base,
-        "day": [_day_mapping(d) for d in days],
-    }
-
-
-def _is_blank(value) -> bool:
-    if value is None:
-        return True
-    if isinstance(value, str):
-        return value.strip() == ""
-    return isinstance(value, float) and math.isnan(value)
+__all__ = [
+    "DAY_FIELDS",
+    "EXAMPLE_DIR",
+    "MAX_COMPARED",
+    "PLAN_KEY",
+    "QUERY_KEY",
+    "READING_FIELDS",
+    "UNIT_KEY",
+    "AscentWorkspace",
+]
 
 
 class AscentWorkspace(param.Parameterized):
-    """The planner's open schedules and what is compared, edited and picked."""
+    """The planner's open schedules and what is compared, edited and picked.
+
+    The methods hand each action to the part that holds it (``open_schedules``,
+    ``day_editor``, ``comparison``); their docstrings say what each does.
+    """
 
     schedules = param.Dict(default={}, doc="key -> AscentProfile, in the order opened.")
-    results = param.Dict(default={}, doc="key -> AscentResult of every open schedule.")
+    results = param.Dict(
+        default={},
+        doc="key -> AscentResult of every open schedule (re-forecast for the person when the "
+        "schedule has readings).",
+    )
+    readings = param.Dict(default={}, doc="key -> tuple of Reading logged on that schedule.")
+    fits = param.Dict(default={}, doc="key -> PersonFit of the schedule's readings.")
+    pressure_unit = param.Selector(
+        default="mmHg", objects=["mmHg", "kPa"], label="Pressures in", doc="Display unit."
+    )
     compared = param.List(default=[], item_type=str, doc="Keys of the compared schedules.")
     slots = param.Dict(
         default={},
@@ -113,441 +87,146 @@ class AscentWorkspace(param.Parameterized):
     error_message = param.String(default="", doc="Why the last action was not applied.")
     status_message = param.String(default="", doc="What the last action did.")
 
-    # ------------------------------------------------------------------ opening
-    @staticmethod
-    def example_files(directory: Path | str = EXAMPLE_DIR) -> list[Path]:
-        return sorted(Path(directory).glob("*.toml"))
+    def __init__(self, **params):
+        super().__init__(**params)
+        self.open_schedules = OpenSchedules(self)
+        self.day_editor = DayTableEditor(self)
+        self.readings_log = ReadingsLog(self)
+        self.comparison = Comparison(self)
+        self.sharing = Sharing(self)
 
-    def _refuse(self, message: str) -> bool:
+    def refuse(self, message: str) -> bool:
+        """Say why an action was not applied (False, for ``return ws.refuse(...)``)."""
         self.param.update(error_message=message.replace("[[day]] ", "day "), status_message="")
         return False
 
-    def _new_key(self, hint: str) -> str:
-        base = _slug(hint)
-        key, n = base, 2
-        while key in self.schedules:
-            key, n = f"{base}-{n}", n + 1
-        return key
-
-    def _solve(self, profile: AscentProfile) -> AscentResult:
-        """Run the model; a chain that cannot be solved is an AscentError for the screen."""
-        try:
-            return run_ascent(profile)
-        except AscentError:
-            raise
-        except ValueError as exc:
-            raise AscentError(f"{profile.name}: the model cannot solve this schedule ({exc})")
+    # ------------------------------------------------------------------ open schedules
+    example_files = staticmethod(OpenSchedules.example_files)
 
     def add_profile(self, profile: AscentProfile, key_hint: str = "") -> str | None:
-        """Open a schedule under a new key (returned); None and a message if unsolvable."""
-        try:
-            result = self._solve(profile)
-        except AscentError as exc:
-            self._refuse(str(exc))
-            return None
-        key = self._new_key(key_hint or profile.name)
-        updates = {
-            "schedules": {**self.schedules, key: profile},
-            "results": {**self.results, key: result},
-            "error_message": "",
-            "status_message": f"Opened {profile.name}.",
-        }
-        if not self.editing:
-            updates.update(editing=key, selected_day=None)
-        if len(self.compared) < MAX_COMPARED:
-            updates["compared"] = [*self.compared, key]
-            updates["slots"] = self._slots_for(updates["compared"])
-        self.param.update(**updates)
-        return key
+        return self.open_schedules.add_profile(profile, key_hint)
 
     def open_file(self, path: Path | str) -> str | None:
-        """Open a schedule file (``*.toml``); its key is the file's stem."""
-        try:
-            profile = load_ascent(path)
-        except AscentError as exc:
-            self._refuse(str(exc))
-            return None
-        return self.add_profile(profile, Path(path).stem)
+        return self.open_schedules.open_file(path)
 
     def open_text(self, text: str | bytes, filename: str = "uploaded.toml") -> str | None:
-        """Open a schedule from the text of a ``*.toml`` file (an upload)."""
-        try:
-            if isinstance(text, bytes):
-                text = text.decode("utf-8-sig")
-            data = tomllib.loads(text)
-            profile = ascent_from_mapping(data, filename)
-        except UnicodeDecodeError:
-            return self._refuse(f"{filename}: not a text file (UTF-8 expected)") or None
-        except tomllib.TOMLDecodeError as exc:
-            return self._refuse(f"{filename}: not valid TOML ({exc})") or None
-        except AscentError as exc:
-            return self._refuse(str(exc)) or None
-        return self.add_profile(profile, Path(filename).stem)
+        return self.open_schedules.open_text(text, filename)
 
     def load_examples(self, directory: Path | str = EXAMPLE_DIR) -> bool:
-        """Open every example schedule not open yet; compare the first ones opened."""
-        open_paths = {p.path for p in self.schedules.values()}
-        opened = []
-        for path in self.example_files(directory):
-            if str(path) in open_paths:
-                continue
-            key = self.open_file(path)
-            if key is None:
-                return False
-            opened.append(key)
-        self.status_message = (
-            f"Opened {len(opened)} example schedule(s)." if opened else "Examples already open."
-        )
-        return True
+        return self.open_schedules.load_examples(directory)
 
     def close(self, key: str) -> bool:
-        if key not in self.schedules:
-            return self._refuse(f"no open schedule {key!r}")
-        schedules = {k: v for k, v in self.schedules.items() if k != key}
-        results = {k: v for k, v in self.results.items() if k != key}
-        updates = {
-            "schedules": schedules,
-            "results": results,
-            "compared": [k for k in self.compared if k != key],
-            "slots": {k: v for k, v in self.slots.items() if k != key},
-            "error_message": "",
-            "status_message": f"Closed {self.schedules[key].name}.",
-        }
-        if self.editing == key:
-            updates.update(editing=next(iter(schedules), ""), selected_day=None)
-        if self.picked and self.picked[0] == key:
-            updates["picked"] = None
-        self.param.update(**updates)
-        return True
-
-    # ------------------------------------------------------------------ comparing
-    def set_compared(self, keys) -> bool:
-        """Compare these schedules (at most four, in the order given)."""
-        keys = list(dict.fromkeys(keys))
-        unknown = [k for k in keys if k not in self.schedules]
-        if unknown:
-            return self._refuse(f"no open schedule {unknown[0]!r}")
-        if len(keys) > MAX_COMPARED:
-            return self._refuse(f"{len(keys)} schedules chosen; compare 2-{MAX_COMPARED} at a time")
-        self.param.update(slots=self._slots_for(keys), compared=keys, error_message="")
-        return True
-
-    def _slots_for(self, keys) -> dict[str, int]:
-        kept = {k: v for k, v in self.slots.items() if k in keys}
-        free = [i for i in range(MAX_COMPARED) if i not in kept.values()]
-        for k in keys:
-            if k not in kept:
-                kept[k] = free.pop(0)
-        return kept
-
-    def selection_query(self) -> str:
-        """The address value of the compared schedules: keys joined by commas."""
-        return ",".join(self.compared)
-
-    def restore_selection(self, text: str, directory: Path | str = EXAMPLE_DIR) -> list[str]:
-        """Open and compare the schedules named in the address; messages for unknown names.
-
-        A key that is not open yet is looked for as ``<key>.toml`` among the examples.
-        """
-        messages, keys = [], []
-        for key in [k.strip() for k in (text or "").split(",") if k.strip()]:
-            if key not in self.schedules:
-                path = Path(directory) / f"{key}.toml"
-                if not re.fullmatch(r"[A-Za-z0-9_.-]+", key) or not path.is_file():
-                    messages.append(f"schedules: {key!r} is not an example schedule; ignored")
-                    continue
-                if self.open_file(path) is None:
-                    messages.append(self.error_message)
-                    continue
-            keys.append(key)
-        if len(keys) > MAX_COMPARED:
-            messages.append(f"schedules: only the first {MAX_COMPARED} are compared")
-            keys = keys[:MAX_COMPARED]
-        if keys:
-            self.set_compared(keys)
-            if self.editing not in self.schedules:
-                self.editing = keys[0]
-        return messages
-
-    # ------------------------------------------------------------------ editing
-    def select_editing(self, key: str) -> bool:
-        if key not in self.schedules:
-            return self._refuse(f"no open schedule {key!r}")
-        self.param.update(editing=key, selected_day=None, error_message="")
-        return True
-
-    def select_day(self, day: int | None) -> bool:
-        """Pick a day of the edited schedule (for moving, removing and opening as a case)."""
-        if day is None:
-            self.selected_day = None
-            return True
-        profile = self.schedules.get(self.editing)
-        if profile is None or not 1 <= day <= len(profile.days):
-            n = 0 if profile is None else len(profile.days)
-            return self._refuse(f"day = {day} is outside the allowed range 1-{n}")
-        self.param.update(selected_day=day, picked=(self.editing, day))
-        return True
-
-    def _replace(self, key: str, days, name: str | None = None, status: str = "") -> bool:
-        """Validate and solve the new days (and name) of ``key``; all or nothing."""
-        old = self.schedules[key]
-        name = old.name if name is None else name
-        try:
-            profile = ascent_from_mapping(
-                _profile_mapping(dataclasses.replace(old, name=name), days), name
-            )
-            profile = dataclasses.replace(profile, path=old.path)
-            result = self._solve(profile)
-        except AscentError as exc:
-            return self._refuse(str(exc))
-        self.param.update(
-            schedules={**self.schedules, key: profile},
-            results={**self.results, key: result},
-            error_message="",
-            status_message=status,
-        )
-        return True
-
-    def _edited(self) -> AscentProfile | None:
-        return self.schedules.get(self.editing)
-
-    def _day_index(self, day: int | None) -> int | None:
-        profile = self._edited()
-        if profile is None:
-            self._refuse("no schedule open to edit: load the examples or open a file")
-            return None
-        if day is None:
-            self._refuse("pick a day first: click a row of the day table")
-            return None
-        if not 1 <= int(day) <= len(profile.days):
-            self._refuse(f"day = {day} is outside the allowed range 1-{len(profile.days)}")
-            return None
-        return int(day) - 1
-
-    def edit_cell(self, day: int, field: str, value) -> bool:
-        """Set one field of one day; a blank high point or FiO2 goes back to its default
-        (the sleeping altitude, air)."""
-        i = self._day_index(day)
-        if i is None:
-            return False
-        if field not in DAY_FIELDS:
-            return self._refuse(f"{field!r} is not an editable column ({', '.join(DAY_FIELDS)})")
-        profile = self._edited()
-        entry = _day_mapping(profile.days[i])
-        if _is_blank(value):
-            if field == "sleep_altitude_m":
-                return self._refuse(
-                    f"day {day} sleep_altitude_m is required (sleeping altitude, m)"
-                )
-            entry.pop(field, None)
-        else:
-            try:
-                entry[field] = float(value)
-            except (TypeError, ValueError):
-                return self._refuse(f"day {day} {field} = {value!r} must be a number")
-        days = list(profile.days)
-        days[i] = AscentDay(**{"high_altitude_m": None, "fio2": 0.21, **entry})
-        return self._replace(self.editing, days, status=f"Day {day}: {field} changed.")
-
-    def add_day(self, after: int | None = None) -> bool:
-        """Insert a day after ``after`` (the end when None): a rest day at that day's
-        sleeping altitude."""
-        profile = self._edited()
-        if profile is None:
-            return self._refuse("no schedule open to edit: load the examples or open a file")
-        n = len(profile.days)
-        after = n if after is None else after
-        if self._day_index(max(after, 1)) is None:
-            return False
-        source = profile.days[after - 1] if after >= 1 else profile.days[0]
-        new = AscentDay(source.sleep_altitude_m, None, source.fio2)
-        days = [*profile.days[:after], new, *profile.days[after:]]
-        if self._replace(self.editing, days, status=f"Day {after + 1} added (a rest day)."):
-            self.param.update(selected_day=after + 1, picked=(self.editing, after + 1))
-            return True
-        return False
-
-    def remove_day(self, day: int) -> bool:
-        i = self._day_index(day)
-        if i is None:
-            return False
-        profile = self._edited()
-        if len(profile.days) == 1:
-            return self._refuse("a schedule keeps at least 1 day; close it instead")
-        days = [d for j, d in enumerate(profile.days) if j != i]
-        if self._replace(self.editing, days, status=f"Day {day} removed."):
-            keep = min(day, len(days))
-            self.param.update(selected_day=keep, picked=(self.editing, keep))
-            return True
-        return False
-
-    def move_day(self, day: int, offset: int) -> bool:
-        """Move a day earlier (offset -1) or later (+1)."""
-        i = self._day_index(day)
-        if i is None:
-            return False
-        profile = self._edited()
-        j = i + offset
-        if not 0 <= j < len(profile.days):
-            return self._refuse(
-                f"day {day} cannot move {'up' if offset < 0 else 'down'}: it is already "
-                f"{'the first' if offset < 0 else 'the last'}"
-            )
-        days = list(profile.days)
-        days[i], days[j] = days[j], days[i]
-        if self._replace(self.editing, days, status=f"Day {day} moved to day {j + 1}."):
-            self.param.update(selected_day=j + 1, picked=(self.editing, j + 1))
-            return True
-        return False
-
-    def rename(self, name: str) -> bool:
-        profile = self._edited()
-        if profile is None:
-            return self._refuse("no schedule open to edit: load the examples or open a file")
-        name = (name or "").strip()
-        if not 1 <= len(name) <= 120:
-            return self._refuse(f"name = {name!r} must be 1-120 characters of text")
-        return self._replace(self.editing, profile.days, name=name, status=f"Renamed to {name}.")
+        return self.open_schedules.close(key)
 
     def duplicate(self) -> str | None:
-        """Open a copy of the edited schedule (to try a variant beside the original)."""
-        profile = self._edited()
-        if profile is None:
-            self._refuse("no schedule open to edit: load the examples or open a file")
-            return None
-        copy = dataclasses.replace(profile, name=f"{profile.name} (copy)", path="")
-        key = self.add_profile(copy, f"{self.editing}-copy")
-        if key is not None:
-            self.param.update(editing=key, selected_day=None)
-        return key
+        return self.open_schedules.duplicate()
+
+    def rename(self, name: str) -> bool:
+        return self.open_schedules.rename(name)
+
+    def set_compared(self, keys) -> bool:
+        return self.open_schedules.set_compared(keys)
+
+    def selection_query(self) -> str:
+        return self.open_schedules.selection_query()
+
+    def restore_selection(self, text: str, directory: Path | str = EXAMPLE_DIR) -> list[str]:
+        return self.open_schedules.restore_selection(text, directory)
+
+    # ------------------------------------------------------------------ sharing
+    def address_query(self) -> dict[str, str | None]:
+        return self.sharing.query()
+
+    def plan_note(self) -> str:
+        return self.sharing.plan()[1]
+
+    def restore_address(self, pairs: dict[str, str]) -> list[str]:
+        return self.sharing.restore(pairs)
+
+    def workspace_json(self) -> str:
+        return self.sharing.workspace_json()
+
+    def open_workspace(self, text: str | bytes, filename: str = "workspace.json") -> bool:
+        return self.sharing.open_workspace(text, filename)
+
+    def set_pressure_unit(self, unit: str) -> bool:
+        if unit not in self.param.pressure_unit.objects:
+            return self.refuse(f"pressure unit = {unit!r} is not one of mmHg, kPa")
+        self.param.update(pressure_unit=unit, error_message="")
+        return True
+
+    # ------------------------------------------------------------------ readings
+    def add_reading(self, fields: dict) -> bool:
+        return self.readings_log.add_reading(fields)
+
+    def edit_reading(self, row: int, field: str, value) -> bool:
+        return self.readings_log.edit_reading(row, field, value)
+
+    def remove_reading(self, row: int) -> bool:
+        return self.readings_log.remove_reading(row)
+
+    def clear_readings(self) -> bool:
+        return self.readings_log.clear()
+
+    def import_readings(self, text: str | bytes, filename: str = "readings.csv") -> bool:
+        return self.readings_log.import_csv(text, filename)
+
+    def export_readings(self) -> str:
+        return self.readings_log.export_csv()
+
+    def fit_text(self, key: str) -> str:
+        return self.readings_log.fit_text(key)
+
+    # ------------------------------------------------------------------ the day table
+    def select_editing(self, key: str) -> bool:
+        return self.day_editor.select_editing(key)
+
+    def select_day(self, day: int | None) -> bool:
+        return self.day_editor.select_day(day)
+
+    def edit_cell(self, day: int, field: str, value) -> bool:
+        return self.day_editor.edit_cell(day, field, value)
+
+    def add_day(self, after: int | None = None) -> bool:
+        return self.day_editor.add_day(after)
+
+    def remove_day(self, day: int) -> bool:
+        return self.day_editor.remove_day(day)
+
+    def move_day(self, day: int, offset: int) -> bool:
+        return self.day_editor.move_day(day, offset)
 
     def import_csv(self, text: str | bytes, filename: str = "days.csv") -> bool:
-        """Replace the edited schedule's days with a CSV day table."""
-        if self._edited() is None:
-            return self._refuse("no schedule open to edit: load the examples or open a file")
-        try:
-            if isinstance(text, bytes):
-                text = text.decode("utf-8-sig")
-            days = days_from_csv(text, filename)
-        except UnicodeDecodeError:
-            return self._refuse(f"{filename}: not a text file (UTF-8 expected)")
-        except AscentError as exc:
-            return self._refuse(str(exc))
-        ok = self._replace(self.editing, days, status=f"{len(days)} days read from {filename}.")
-        if ok:
-            self.selected_day = None
-        return ok
+        return self.day_editor.import_csv(text, filename)
 
     def export_csv(self) -> str:
-        """The edited schedule's day table as CSV ('' when nothing is open)."""
-        profile = self._edited()
-        return days_to_csv(profile.days) if profile else ""
+        return self.day_editor.export_csv()
 
+    # ------------------------------------------------------------------ the comparison
     def set_threshold(self, name: str, value) -> bool:
-        """Set ``threshold_high_pct`` or ``threshold_low_pct``; refuse a value off its range."""
-        p = self.param[name]
-        lo, hi = p.bounds
-        label = p.label.rsplit(" (", 1)[0]
-        if value is None or not isinstance(value, (int, float)) or not lo <= value <= hi:
-            return self._refuse(f"{label} = {value!r} is outside the allowed range {lo:g}-{hi:g} %")
-        self.param.update({name: float(value), "error_message": ""})
-        return True
+        return self.comparison.set_threshold(name, value)
 
-    # ------------------------------------------------------------------ reading
     @property
     def thresholds(self) -> tuple[float, float]:
-        """(upper, lower) SaO2 thresholds as fractions."""
-        return self.threshold_high_pct / 100.0, self.threshold_low_pct / 100.0
+        return self.comparison.thresholds
 
     def summary(self, key: str) -> dict:
-        """The model's summary of ``key`` with the chosen thresholds applied."""
-        r = self.results[key]
-        hi, lo = self.thresholds
-        s = dict(r.summary)
-        s.update(
-            name=r.profile.name,
-            days=int(r.sleep_altitude_m.size),
-            nights_below_high=nights_below(r, hi),
-            nights_below_low=nights_below(r, lo),
-            hypoxic_burden=hypoxic_burden(r, hi),
-            slot=self.slots.get(key, 0),
-        )
-        return s
+        return self.comparison.summary(key)
 
     def series(self, key: str) -> dict[str, np.ndarray]:
-        """Day-by-day arrays of ``key`` for plotting (SaO2 in %, pressures in mmHg)."""
-        r = self.results[key]
-        n, h = r.night, r.high
-        given = np.array([d.high_altitude_m is not None for d in r.profile.days], dtype=bool) & (
-            r.high_altitude_m > r.sleep_altitude_m
-        )
-        return {
-            "day": np.arange(1, r.sleep_altitude_m.size + 1),
-            "sleep_altitude_m": r.sleep_altitude_m,
-            "high_altitude_m": r.high_altitude_m,
-            "high_given": given,
-            "fio2": r.fio2,
-            "pao2_mmhg": np.asarray(n.arterial.po2_mmhg, dtype=float),
-            "sao2_pct": 100.0 * np.asarray(n.arterial.so2, dtype=float),
-            "cao2_ml_dl": np.asarray(n.arterial.o2_content_ml_dl, dtype=float),
-            "high_pao2_mmhg": np.asarray(h.arterial.po2_mmhg, dtype=float),
-            "high_sao2_pct": 100.0 * np.asarray(h.arterial.so2, dtype=float),
-            "high_cao2_ml_dl": np.asarray(h.arterial.o2_content_ml_dl, dtype=float),
-            "flagged": np.array([bool(f) for f in r.flags]),
-            "flags": ["; ".join(f) for f in r.flags],
-            "name": r.profile.name,
-            "slot": self.slots.get(key, 0),
-        }
-
-    def case_inputs(self, key: str, day: int) -> dict:
-        return night_case_inputs(self.results[key], day)
-
-    def case_link(self, key: str, day: int, path: str = "/") -> str:
-        """Address of the case screen showing night ``day`` of ``key``."""
-        inputs = self.case_inputs(key, day)
-        pairs = {
-            k: (v if isinstance(v, str) else format(v, ".10g"))
-            for k, v in inputs.items()
-            if k in CASE_KEYS
-        }
-        return f"{path}?{urlencode(pairs)}"
-
-    def pick(self, key: str, day: int) -> bool:
-        """Pick night ``day`` of ``key`` (a click on a plot) to open as a case."""
-        r = self.results.get(key)
-        if r is None:
-            return self._refuse(f"no open schedule {key!r}")
-        if not 1 <= day <= r.sleep_altitude_m.size:
-            return self._refuse(
-                f"day = {day} is outside the allowed range 1-{r.sleep_altitude_m.size}"
-            )
-        self.param.update(picked=(key, int(day)), error_message="")
-        return True
-
-    def picked_text(self) -> str:
-        if not self.picked or self.picked[0] not in self.results:
-            return ""
-        key, day = self.picked
-        r = self.results[key]
-        if day > r.sleep_altitude_m.size:
-            return ""
-        i = day - 1
-        return (
-            f"{r.profile.name}, night {day}: {r.sleep_altitude_m[i]:.0f} m, FiO2 "
-            f"{r.fio2[i]:.2f}, PaO2 {float(r.night.arterial.po2_mmhg[i]):.1f} mmHg, SaO2 "
-            f"{100 * float(r.night.arterial.so2[i]):.1f} %"
-        )
+        return self.comparison.series(key)
 
     def flag_list(self) -> list[tuple[str, list[tuple[int, float, str]], int]]:
-        """For each compared schedule: its name, its (day, sleeping altitude, flag text)
-        and its drawing slot."""
-        out = []
-        for key in self.compared:
-            r = self.results[key]
-            days = [
-                (i + 1, float(r.sleep_altitude_m[i]), "; ".join(f))
-                for i, f in enumerate(r.flags)
-                if f
-            ]
-            out.append((r.profile.name, days, self.slots[key]))
-        return out
+        return self.comparison.flag_list()
+
+    def case_inputs(self, key: str, day: int) -> dict:
+        return self.comparison.case_inputs(key, day)
+
+    def case_link(self, key: str, day: int, path: str = "/") -> str:
+        return self.comparison.case_link(key, day, path)
+
+    def pick(self, key: str, day: int) -> bool:
+        return self.comparison.pick(key, day)
+
+    def picked_text(self) -> str:
+        return self.comparison.picked_text()

@@ -15,6 +15,9 @@ import param
 from ...model import casebook
 from .entry import GasEntry
 from .fit import PatientFit
+from .identifiers import identifier_message
+from .plans_stack import PlanStack
+from .series import GasSeries
 
 
 class CaseFiles(param.Parameterized):
@@ -22,6 +25,12 @@ class CaseFiles(param.Parameterized):
 
     entry = param.ClassSelector(class_=GasEntry, doc="The form a case is saved from.")
     fitting = param.ClassSelector(class_=PatientFit, doc="The fit saved with the case.")
+    plan_stack = param.ClassSelector(
+        class_=PlanStack, allow_None=True, doc="The plans saved with the case."
+    )
+    series = param.ClassSelector(
+        class_=GasSeries, allow_None=True, doc="The shift's gases saved with the case."
+    )
     case_dir = param.Path(default=None, allow_None=True, check_exists=False)
     case_label = param.String(default="", label="Case label (no names or record numbers)")
     notes = param.String(default="", label="Notes")
@@ -86,13 +95,17 @@ class CaseFiles(param.Parameterized):
                 self.fitting.fit,
                 self.notes,
                 overwrite=overwrite,
+                plans=self.plan_stack.saved() if self.plan_stack is not None else (),
+                gases=self.series.saved() if self.series is not None else (),
             )
         except (casebook.CaseFileError, ValueError) as exc:
             self.param.update(case_message=f"Not saved: {exc}", overwrite_offer="")
             return False
+        warning = identifier_message(self.case_label, self.notes)
         self.param.update(
             case_message=f"Saved {path.name} in {path.parent}"
-            + (" (replaced the earlier file)." if overwrite else "."),
+            + (" (replaced the earlier file)." if overwrite else ".")
+            + (f" {warning}" if warning else ""),
             overwrite_offer="",
         )
         self.refresh_cases()
@@ -110,6 +123,10 @@ class CaseFiles(param.Parameterized):
             self.case_message = f"Not opened: {exc}"
             return False
         self.entry.set_draft_model_units(record.measured)
+        if self.plan_stack is not None:
+            self.plan_stack.restore(record.plans)
+        if self.series is not None:
+            self.series.restore(record.gases)
         self.param.update(case_label=record.label, notes=record.notes, overwrite_offer="")
         if not self.entry.calculate():
             self.case_message = f"Opened {Path(path).name}, but: {self.entry.entry_message}"
@@ -117,6 +134,14 @@ class CaseFiles(param.Parameterized):
         message = f"Opened {record.label} (saved {record.saved_at.astimezone():%Y-%m-%d %H:%M})."
         if record.fitted:
             message += " " + self._refit_against(record.fitted)
+        kept = []
+        if record.plans:
+            kept.append(f"{len(record.plans)} plan{'s' if len(record.plans) > 1 else ''}")
+        if record.gases:
+            n = len(record.gases)
+            kept.append(f"{n} {'gas' if n == 1 else 'gases'} of the shift")
+        if kept:
+            message += " With " + " and ".join(kept) + "."
         self.case_message = message
         return True
 

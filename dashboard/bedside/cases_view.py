@@ -70,7 +70,7 @@ class CaseKeeping(BedsidePanel):
             "", css_classes=["o2-bs-summary-link"], margin=(12, 10), styles=NOTE_STYLE
         )
         self._layout = pn.Column(
-            heading("5 · Keep the case and hand over"),
+            heading("7 · Keep the case and hand over"),
             pn.Row(self._label, self._save, self._overwrite),
             self._warning,
             self._notes,
@@ -116,5 +116,5 @@ class CaseKeeping(BedsidePanel):
         else:
             self._problems.visible = False
         self._overwrite.visible = bool(st.overwrite_offer)
-        bad = st.case_message.startswith("Not ")
+        bad = st.case_message.startswith("Not ") or "⚠" in st.case_message
         show(self._message, st.case_message, error=bad)

@@ -6,15 +6,19 @@ import panel as pn
 from bokeh.models import ColumnDataSource, LabelSet
 
 from ..look import ARTERIAL, INK, REFERENCE, VENOUS
+from ..responsive import Deferred, Gate, set_data
 from ..widgets import saturation_figure
 from .panes import BedsidePanel
 from .state import BedsideState
 
 
 class PatientCurve(BedsidePanel):
-    """The fitted (else live) curve with the measured arterial and venous points on it."""
+    """The fitted (else live) curve with the measured arterial and venous points on it.
 
-    def __init__(self, state: BedsideState, **params):
+    Redrawn after the numbers of a change, and only while ``gate`` (the tab) is shown.
+    """
+
+    def __init__(self, state: BedsideState, gate: Gate | None = None, **params):
         super().__init__(state, **params)
         self._lines = ColumnDataSource(data={"x": [], "arterial": [], "venous": [], "standard": []})
         self._points = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": []})
@@ -73,17 +77,23 @@ class PatientCurve(BedsidePanel):
         )
         # The fit is set anew (to None at least) on every accepted measurement: watching
         # it, even when set to an equal value, follows both with one redraw.
-        state.fitting.param.watch(self._update, ["fit"], onlychanged=False)
-        state.case.param.watch(self._update, ["pressure_unit", "result"])
+        later = Deferred(self._update, gate)
+        state.fitting.param.watch(later, ["fit"], onlychanged=False)
+        state.case.param.watch(later, ["pressure_unit", "result"])
         self._update()
 
     def _update(self, *_events) -> None:
         st = self._state
         view = st.patient_curve()
         self._fig.title.text = view["title"]
-        self._fig.xaxis.axis_label = f"PO2 ({st.case.pressure_unit})"
+        t_c = (st.entry.measured or {}).get("temperature_c")
+        # The analyser's 37 degC PO2 is moved to the patient's temperature to sit on the
+        # curve: say so, since the numbers differ from the gas report's.
+        where = f" at the patient's {t_c:.1f} °C" if t_c is not None else ""
+        moved = " (moved from 37 °C)" if t_c is not None and abs(t_c - 37.0) > 0.05 else ""
+        self._fig.xaxis.axis_label = f"PO2 ({st.case.pressure_unit}){where}"
         self._fig.x_range.end = view["x_max"]
-        self._lines.data = {k: view[k] for k in ("x", "arterial", "venous", "standard")}
+        set_data(self._lines, {k: view[k] for k in ("x", "arterial", "venous", "standard")})
         xs, ys, colors, labels = [], [], [], []
         for key, color, text in (
             ("measured_arterial", ARTERIAL, "measured PaO2, SaO2"),
@@ -94,5 +104,5 @@ class PatientCurve(BedsidePanel):
                 xs.append(x)
                 ys.append(y)
                 colors.append(color)
-                labels.append(text)
-        self._points.data = {"x": xs, "y": ys, "color": colors, "label": labels}
+                labels.append(text + moved)
+        set_data(self._points, {"x": xs, "y": ys, "color": colors, "label": labels})

@@ -12,6 +12,7 @@ import math
 from ...model import bedside
 from ..case.state import CaseState
 from .display import Row
+from .wording import expected_aa, shown_value, usual_range
 
 FRACTION_AS_PERCENT = frozenset({"shunt_fraction", "extraction_ratio", "sao2_from_curve"})
 """Derived fractions shown in percent."""
@@ -64,18 +65,21 @@ CATEGORY_SETS = {
 
 @dataclasses.dataclass(frozen=True)
 class DerivedRow(Row):
-    """One derived value as shown: key, label, formatted value, unit, flag, source, note."""
+    """One derived value as shown: key, label, formatted value, unit, flag, source, note,
+    and its usual range in display units ('' where none is set)."""
 
     flag: str
     source: str
     note: str
+    usual: str = ""
 
 
 def flag(key: str, value: float, derived: dict | None) -> str:
     """'▲ high' / '▼ low' against model.bedside.USUAL_RANGES, else ''.
 
     P/F is flagged by its Berlin category and the A-a gradient against the age-expected
-    one, both read from ``derived``.
+    one, both read from ``derived``; without an age, against the value expected at the upper
+    end of adult ages (:data:`dashboard.bedside.wording.ADULT_AGE_YEARS`), and said so.
     """
     if key.startswith("pao2_fio2_ratio"):
         codes = bedside.PF_CATEGORIES[1:]
@@ -83,9 +87,9 @@ def flag(key: str, value: float, derived: dict | None) -> str:
             return "▼ ARDS range"
         return ""
     if key == "aa_gradient_mmhg":
-        expected = (derived or {}).get("aa_gradient_expected_mmhg")
-        if expected is not None and math.isfinite(float(expected)) and value > expected:
-            return "▲ above age-expected"
+        expected, adult = expected_aa(derived)
+        if expected is not None and value > expected:
+            return "▲ above adult value (no age)" if adult else "▲ above age-expected"
         return ""
     low, high = bedside.USUAL_RANGES.get(key, (None, None, "", ""))[:2]
     if low is not None and value < low:
@@ -103,6 +107,8 @@ def _shown(case: CaseState, key: str, value: float, unit: str, digits: int):
         return case.pressure_to_display(value), case.pressure_unit, digits
     if key in FRACTION_AS_PERCENT:
         return 100.0 * value, "%", max(digits - 2, 0)
+    if key == "sao2_fio2_ratio":
+        return value, "", digits  # SaO2 in % over FiO2 as a fraction: a ratio, no unit
     return value, unit.replace("m2", "m²"), digits
 
 
@@ -145,9 +151,11 @@ def derived_rows(derived: dict | None, case: CaseState) -> list[DerivedRow]:
                 label.replace("degC", "°C"),
                 f"{shown:.{shown_digits}f}".replace("-", "−"),
                 shown_unit,
-                flag(key, value, derived),
+                # Flagged as shown: a value that rounds onto a bound is not beyond it.
+                flag(key, shown_value(case, key, value, shown_digits), derived),
                 DERIVED_SOURCES.get(key, ""),
                 "",
+                usual_range(case, key, derived),
             )
         )
     return rows

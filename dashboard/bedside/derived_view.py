@@ -8,6 +8,7 @@ import panel as pn
 
 from .panes import BedsidePanel, heading, table_pane
 from .state import BedsideState
+from .wording import flag_items, in_display_units
 
 DERIVED_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
     (
@@ -75,7 +76,7 @@ class DerivedTable(BedsidePanel):
             present = [rows[k] for k in keys if k in rows]
             if not present:
                 continue
-            body.append(f"<tr class='grp'><td colspan='4'>{html.escape(title)}</td></tr>")
+            body.append(f"<tr class='grp'><td colspan='5'>{html.escape(title)}</td></tr>")
             for r in present:
                 flag_cls = "flag-high" if r.flag.startswith("▲") else "flag-low" if r.flag else ""
                 note = f"<div class='note'>{html.escape(r.note)}</div>" if r.note else ""
@@ -84,11 +85,13 @@ class DerivedTable(BedsidePanel):
                     f"{note}</td>"
                 )
                 if "_category_" in r.key:
-                    cells = f"<td class='cat' colspan='3'>{html.escape(r.value)}</td>"
+                    cells = f"<td class='cat' colspan='4'>{html.escape(r.value)}</td>"
                 else:
                     cells = (
                         f"<td class='val'>{html.escape(r.value)}</td>"
                         f"<td>{html.escape(r.unit)}</td>"
+                        "<td class='range' style='white-space:nowrap'>"
+                        f"{html.escape(r.usual)}</td>"
                         f"<td><span class='flag'>{html.escape(r.flag)}</span></td>"
                     )
                 body.append(
@@ -126,7 +129,11 @@ class DerivedTable(BedsidePanel):
             ("reasons", "Not computed"),
             ("notes", "Assumed"),
         ):
-            items = entry.derived_text(name)
+            items = [in_display_units(self._state.case, i) for i in entry.derived_text(name)]
+            if name == "flags":
+                items = flag_items(
+                    self._state.case, entry.measured, list(rows.values()), entry.derived_text(name)
+                )
             if items:
                 extra.append(
                     f"<div class='o2-bs-{name}'><b>{title}:</b> "
@@ -135,7 +142,7 @@ class DerivedTable(BedsidePanel):
                 )
         self._pane.object = (
             "<table class='o2t o2-bs-dt'><tr><th>Quantity · method</th>"
-            "<th style='text-align:right'>Value</th><th>Unit</th><th></th></tr>"
+            "<th style='text-align:right'>Value</th><th>Unit</th><th>Usual</th><th></th></tr>"
             + "".join(body)
             + "</table>"
             + temp_table

@@ -63,7 +63,9 @@ class MeasuredEntry(BedsidePanel):
         self._layout = pn.Column(
             heading("1 · Measured values"),
             pn.pane.HTML(
-                "Lactate is shown, not modelled. Leave optional fields empty.",
+                "Lactate is shown, not modelled. Leave optional fields empty. FiO2 and Hb "
+                "here are the patient's measurement; the Model inputs sidebar holds the model "
+                "case, which <b>Use fitted case</b> fills from this gas.",
                 styles=NOTE_STYLE,
                 margin=(0, 10),
             ),

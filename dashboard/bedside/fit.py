@@ -16,6 +16,7 @@ from ...model import bedside, fitting
 from ..case.state import PO2_GRID_MMHG, CaseState
 from .display import Row, pressure_digits, signed
 from .entry import GasEntry
+from .wording import fit_words
 
 
 def tidy(inputs: dict) -> dict:
@@ -79,7 +80,8 @@ class PatientFit(param.Parameterized):
                 "The model reproduces these measurements together: they are consistent with "
                 "each other within the usual analyser and co-oximeter error."
             )
-        return "The measurements do not fit together: " + " ".join(fit.messages)
+        words = " ".join(fit_words(self.case, m) for m in fit.messages)
+        return "The measurements do not fit together: " + words
 
     # ------------------------------------------------------------------ rows for views
     def fitted_rows(self) -> list[Row]:

@@ -18,6 +18,7 @@ from .panes import (
     table_pane,
 )
 from .state import BedsideState
+from .wording import fit_words
 
 
 class FitPanel(BedsidePanel):
@@ -96,7 +97,9 @@ class FitPanel(BedsidePanel):
             f"<td>{'✓ match' if row[6] == 'match' else '✗ off'}</td></tr>"
             for row in st.fit_rows()
         )
-        assumed = "".join(f"<li>{html.escape(a)}</li>" for a in fit.assumptions)
+        assumed = "".join(
+            f"<li>{html.escape(fit_words(self._state.case, a))}</li>" for a in fit.assumptions
+        )
         self._table.object = (
             "<table class='o2t'><tr><th>Fitted parameter</th><th style='text-align:right'>"
             f"Value</th><th>Unit</th></tr>{params}</table>"

@@ -10,6 +10,7 @@ import html
 import panel as pn
 
 from ..look import ACCENT, TABLE_CSS
+from ..responsive import held
 from .state import BedsideState
 
 ERROR_STYLE = {
@@ -62,10 +63,12 @@ def action_button(label: str, css: str, action, **params) -> pn.widgets.Button:
     """A button (CSS class ``css``) that runs ``action()``.
 
     Clicks arrive outside the document lock and the actions edit figures and panes, so
-    ``action`` runs on the next tick with the lock (``pn.state.execute(..., schedule=True)``).
+    ``action`` runs on the next tick with the lock, all it changes sent in one message
+    (:func:`dashboard.responsive.held`).
     """
     button = pn.widgets.Button(label=label, css_classes=[css], **params)
-    button.on_click(lambda _event: pn.state.execute(action, schedule=True))
+    run = held(action)
+    button.on_click(lambda _event: run())
     return button
 
 

@@ -13,6 +13,7 @@ from ...model import levers
 from ..case.state import CaseState
 from .display import display_range, format_value, from_display, pressure_digits, signed, to_display
 from .fit import PatientFit
+from .wording import in_display_units, lever_label
 
 
 class LeverPlans(param.Parameterized):
@@ -158,25 +159,26 @@ class LeverPlans(param.Parameterized):
         rows = []
         for i, o in enumerate(self.lever_table, start=1):
             if o.error:
-                rows.append([str(i), o.label, "", "", "", "", "", f"refused: {o.error}"])
+                label = lever_label(self.case, o.label)
+                rows.append([str(i), label, "", "", "", "", "", f"refused: {o.error}"])
                 continue
             rows.append(
                 [
                     str(i),
-                    o.label,
+                    lever_label(self.case, o.label),
                     signed(o.delta_do2_ml_min, 0),
                     signed(p(o.delta_pao2_mmhg), d),
                     signed(100.0 * o.delta_svo2, 1),
                     signed(p(o.delta_pvo2_mmhg), d),
                     signed(100.0 * o.delta_extraction_ratio, 1),
-                    o.note,
+                    in_display_units(self.case, o.note),
                 ]
             )
         return rows
 
     def lever_choices(self) -> dict[str, str]:
         """Label -> key of the what-ifs that can be applied."""
-        return {o.label: o.key for o in self.lever_table if not o.error}
+        return {lever_label(self.case, o.label): o.key for o in self.lever_table if not o.error}
 
     def apply_lever(self, key: str, case_label: str = "") -> bool:
         """Make a what-if the live case, with the fitted case as the baseline."""
@@ -184,6 +186,7 @@ class LeverPlans(param.Parameterized):
         if outcome is None or outcome.error:
             self.lever_message = "Choose a what-if from the ranked table first."
             return False
-        why_not = self.fitting.apply_what_if(outcome.inputs, outcome.label, case_label)
-        self.lever_message = why_not or (f"Live case: {outcome.label}. Baseline: the fitted case.")
+        label = lever_label(self.case, outcome.label)
+        why_not = self.fitting.apply_what_if(outcome.inputs, label, case_label)
+        self.lever_message = why_not or (f"Live case: {label}. Baseline: the fitted case.")
         return not why_not

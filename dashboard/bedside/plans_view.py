@@ -7,6 +7,7 @@ import html
 import panel as pn
 
 from .panes import BedsidePanel, action_button, heading, message_pane, show, table_pane
+from .plans_compare_view import LeverToPlan
 from .state import BedsideState
 
 
@@ -57,7 +58,7 @@ class WhatIfTable(BedsidePanel):
             pn.Row(self._rank, self._target_hb, self._stored),
             pn.Row(self._shunt, self._cool, self._co),
             self._table,
-            pn.Row(self._pick, self._apply),
+            pn.Row(self._pick, self._apply, LeverToPlan(state, self._pick)),
             self._message,
             sizing_mode="stretch_width",
         )
@@ -65,7 +66,7 @@ class WhatIfTable(BedsidePanel):
         state.plans.param.watch(self._update, ["lever_table", "lever_message"])
         state.plans.param.watch(self._refresh_hb, ["target_hb_g_dl"])
         state.case.param.watch(self._refresh_hb, ["hb_unit"])
-        state.case.param.watch(self._update, ["pressure_unit"])
+        state.case.param.watch(self._update, ["pressure_unit", "hb_unit"])
         self._syncing = False
         self._update()
 
@@ -116,7 +117,7 @@ class WhatIfTable(BedsidePanel):
                 body.append(f"<tr class='{cls}' data-key='{st.lever_table[i].key}'>{cells}</tr>")
             self._table.object = f"<table class='o2t o2-bs-lv'><tr>{th}</tr>{''.join(body)}</table>"
         choices = st.lever_choices()
-        order = tuple(choices.values())
+        order = tuple(choices.items())  # labels too: they follow the display units
         if order != self._order:
             # A new ranking: the picker lists it in rank order with the best chosen. A
             # reordered dict compares equal to the old one and would not be sent, so the
@@ -125,7 +126,7 @@ class WhatIfTable(BedsidePanel):
             self._pick.options = {}
             self._pick.options = choices
             if order:
-                self._pick.value = order[0]
+                self._pick.value = order[0][1]
         self._apply.disabled = not choices
         bad = st.lever_message.startswith(("What-ifs not", "Transfusion target", "Case not"))
         show(self._message, st.lever_message, error=bad)

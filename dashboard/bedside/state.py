@@ -10,7 +10,13 @@ No Panel import here. :class:`BedsideState` sits beside the session's
   and the fitted case as the live case's baseline (``fit.py``);
 - ``plans``, :class:`~dashboard.bedside.plans.LeverPlans`: the ranked what-ifs, their
   settings and applying one (``plans.py``);
-- ``cases``, :class:`~dashboard.bedside.cases.CaseFiles`: saved case files (``cases.py``).
+- ``cases``, :class:`~dashboard.bedside.cases.CaseFiles`: saved case files (``cases.py``);
+- ``plan_stack``, :class:`~dashboard.bedside.plans_stack.PlanStack`: up to four plans, each a
+  stack of changes solved from the fit and compared with the patient (``plans_stack.py``);
+- ``series``, :class:`~dashboard.bedside.series.GasSeries`: the gases of a shift, each
+  fitted in turn, and their trend (``series.py``);
+- ``doubt``, :class:`~dashboard.bedside.spread.MeasurementDoubt`: ranges from the analyser
+  tolerances and the curve models (``spread.py``).
 
 The parts follow each other by watching (an accepted Calculate drops the fit, a new fit
 ranks the what-ifs again), so an action does all it did whichever object it is called on.
@@ -35,6 +41,9 @@ from .display import Row
 from .entry import EXAMPLE_GAS, FORM_GROUPS, MEASURED_KEYS, GasEntry
 from .fit import PatientFit
 from .plans import LeverPlans
+from .plans_stack import PlanStack
+from .series import GasSeries
+from .spread import MeasurementDoubt
 
 __all__ = [
     "DERIVED_SOURCES",
@@ -69,6 +78,9 @@ class BedsideState(param.Parameterized):
     fitting = param.ClassSelector(class_=PatientFit, constant=True, doc="The fit to it.")
     plans = param.ClassSelector(class_=LeverPlans, constant=True, doc="What-ifs from the fit.")
     cases = param.ClassSelector(class_=CaseFiles, constant=True, doc="Cases kept on disk.")
+    plan_stack = param.ClassSelector(class_=PlanStack, constant=True, doc="Plans from the fit.")
+    series = param.ClassSelector(class_=GasSeries, constant=True, doc="Gases of the shift.")
+    doubt = param.ClassSelector(class_=MeasurementDoubt, constant=True, doc="How sure.")
 
     def __init__(self, case: CaseState | None = None, case_dir: Path | str | None = None, **kw):
         """``kw`` may set any parameter of a part by its name (``rank_by="pao2"``)."""
@@ -76,8 +88,30 @@ class BedsideState(param.Parameterized):
         entry = GasEntry(case=case, **_taken(GasEntry, kw))
         fitting = PatientFit(case=case, entry=entry, **_taken(PatientFit, kw))
         plans = LeverPlans(case=case, fitting=fitting, **_taken(LeverPlans, kw))
-        cases = CaseFiles(case_dir, entry=entry, fitting=fitting, **_taken(CaseFiles, kw))
-        super().__init__(case=case, entry=entry, fitting=fitting, plans=plans, cases=cases, **kw)
+        stack = PlanStack(case=case, fitting=fitting, levers=plans)
+        series = GasSeries(case=case, entry=entry, fitting=fitting)
+        doubt = MeasurementDoubt(
+            case=case, entry=entry, fitting=fitting, **_taken(MeasurementDoubt, kw)
+        )
+        cases = CaseFiles(
+            case_dir,
+            entry=entry,
+            fitting=fitting,
+            plan_stack=stack,
+            series=series,
+            **_taken(CaseFiles, kw),
+        )
+        super().__init__(
+            case=case,
+            entry=entry,
+            fitting=fitting,
+            plans=plans,
+            cases=cases,
+            plan_stack=stack,
+            series=series,
+            doubt=doubt,
+            **kw,
+        )
 
     # ------------------------------------------------------------------ display units
     def limits(self, key: str) -> tuple[float, float, str, str]:

@@ -17,7 +17,9 @@ from bokeh.plotting import figure
 from bokeh.resources import Resources
 
 from ..look import ACCENT, ARTERIAL, CAUTION, INK, REFERENCE, VENOUS
+from .shift_summary import plans_section, series_section
 from .state import BedsideState
+from .wording import fit_words, flag_items, in_display_units
 
 BOKEH_JS = Resources(mode="inline", components=["bokeh"])
 """Only the core BokehJS library, written into the page (no widgets, tables, GL, MathJax)."""
@@ -154,14 +156,21 @@ def summary_html(state: BedsideState, when: dt.datetime | None = None) -> str:
         "o2-sum-fit",
     )
     assumed = "".join(
-        f"<li>{_esc(a)}</li>" for a in (state.fit.assumptions if state.fit is not None else [])
+        f"<li>{_esc(fit_words(state.case, a))}</li>"
+        for a in (state.fit.assumptions if state.fit is not None else [])
     )
+    reasons, notes_assumed = state.derived_text("reasons"), state.derived_text("notes")
     lists = "".join(
         f"<p class='meta'><b>{title}:</b> {_esc('; '.join(items))}</p>"
         for title, items in (
-            ("Outside usual ranges", state.derived_text("flags")),
-            ("Not computed", state.derived_text("reasons")),
-            ("Assumed", state.derived_text("notes")),
+            (
+                "Outside usual ranges",
+                flag_items(
+                    state.case, state.measured, state.derived_rows(), state.derived_text("flags")
+                ),
+            ),
+            ("Not computed", [in_display_units(state.case, t) for t in reasons]),
+            ("Assumed", [in_display_units(state.case, t) for t in notes_assumed]),
         )
         if items
     )
@@ -205,6 +214,8 @@ def summary_html(state: BedsideState, when: dt.datetime | None = None) -> str:
 <h2>What-ifs from the fitted case (ranked by {_esc(state.rank_label())})</h2>
 {levers}
 <p class='meta'>Live case when printed: {_esc(live or "as entered on the Model inputs tab")}.</p>
+{plans_section(state)}
+{series_section(state)}
 <h2>Notes</h2>
 {notes}
 <p class="meta">Made with o2transit, an open-source physiology model. {_esc(CAUTION)}</p>

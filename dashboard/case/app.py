@@ -8,6 +8,7 @@ from ..bedside.state import BedsideState
 from ..bedside.views import BedsideScreen
 from ..look import ACCENT, caution_pane
 from ..nav import screen_links
+from ..responsive import TEMPLATE_OPTIONS, lazy_tab, quicken
 from ..urlstate import bind_url
 from .figures import CascadePlot, CurvePlot
 from .state import CaseState
@@ -25,6 +26,7 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
         header_background=ACCENT,
         sidebar_width=340,
         collapsed_sidebar=False,
+        **TEMPLATE_OPTIONS,
     )
     template.header.append(screen_links("/"))
     bind_url(state, template)  # case from ?key=value on load; address follows every change
@@ -40,13 +42,15 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
     )
     # Both tabs share the one CaseState; the measured-gas tab's case folder follows
     # $O2TRANSIT_CASE_DIR, else the user's data folder (model.casebook.default_case_dir).
-    measured_tab = BedsideScreen(BedsideState(state))
+    # Its views are built when the tab is first opened; its curve waits while it is hidden.
+    bedside = BedsideState(state)
     tabs = pn.Tabs(
         ("Model inputs", model_tab),
-        ("Measured gas", measured_tab),
+        ("Measured gas", pn.Column(sizing_mode="stretch_width", margin=0, min_height=400)),
         css_classes=["o2-case-tabs"],
         sizing_mode="stretch_width",
     )
+    lazy_tab(tabs, 1, lambda gate: BedsideScreen(bedside, gate=gate))
     template.main.append(
         pn.Column(
             caution_pane(),
@@ -55,4 +59,5 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
             sizing_mode="stretch_width",
         )
     )
+    quicken(template)  # browser changes at once, one message per change
     return template

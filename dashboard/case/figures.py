@@ -1,8 +1,9 @@
 """The case screen's figures: the dissociation curves with their points, the PO2 cascade.
 
-Thin views: each Bokeh figure is built once on ``ColumnDataSource``s whose ``.data`` is
-replaced when the state's result, baseline or pressure unit changes; every number drawn is
-read from :class:`~dashboard.case.state.CaseState`, already in display units.
+Thin views: each Bokeh figure is built once on ``ColumnDataSource``s whose changed columns
+are sent when the state's result, baseline or pressure unit changes (after the numbers, in a
+second message: :class:`dashboard.responsive.Deferred`); every number drawn is read from
+:class:`~dashboard.case.state.CaseState`, already in display units.
 """
 
 from __future__ import annotations
@@ -13,6 +14,7 @@ from bokeh.models import ColumnDataSource, FactorRange, LabelSet, Range1d
 from bokeh.plotting import figure
 
 from ..look import ARTERIAL, INK, REFERENCE, VENOUS
+from ..responsive import Deferred, set_data
 from ..widgets import saturation_figure
 from .formatting import fmt
 from .state import CaseState
@@ -142,7 +144,7 @@ class CurvePlot(pn.viewable.Viewer):
             css_classes=["o2-curve"],
             sizing_mode="stretch_width",
         )
-        state.param.watch(self._update, ["result", "baseline", "pressure_unit"])
+        state.param.watch(Deferred(self._update), ["result", "baseline", "pressure_unit"])
         self._update()
 
     def _update(self, *_events) -> None:
@@ -156,45 +158,57 @@ class CurvePlot(pn.viewable.Viewer):
             if self._standard_line in item.renderers:
                 item.label = fixed_value(f"standard ({st.standard_conditions_text()})")
         self._fig.x_range.end = st.x_max_display()
-        self._now.data = {k: view[k] for k in ("x", "arterial", "venous", "standard")}
+        set_data(self._now, {k: view[k] for k in ("x", "arterial", "venous", "standard")})
         (xa, ya), (xv, yv) = view["loading"], view["unloading"]
-        self._points.data = {
-            "x": [xa, xv],
-            "y": [ya, yv],
-            "color": [ARTERIAL, VENOUS],
-            "label": ["loading (arterial)", "unloading (venous)"],
-        }
+        set_data(
+            self._points,
+            {
+                "x": [xa, xv],
+                "y": [ya, yv],
+                "color": [ARTERIAL, VENOUS],
+                "label": ["loading (arterial)", "unloading (venous)"],
+            },
+        )
         d = st.pressure_digits
-        self._p50.data = {
-            "x": [view["arterial_p50"][0], view["venous_p50"][0]],
-            "y": [view["arterial_p50"][1], view["venous_p50"][1]],
-            "color": [ARTERIAL, VENOUS],
-            "dx": [-5, 5],
-            "dy": [0, 0],
-            "align": ["right", "left"],
-            "label_y": [9, 3],
-            "label": [
-                f"P50 {fmt(view['arterial_p50'][0], d + 1)}",
-                f"P50 {fmt(view['venous_p50'][0], d + 1)}",
-            ],
-        }
-        self._segment.data = {"x0": [xv], "y0": [yv], "x1": [xv], "y1": [ya]}
-        self._bridge.data = {"x0": [xv], "y0": [ya], "x1": [xa], "y1": [ya]}
-        self._note.data = {
-            "x": [xv],
-            "y": [(ya + yv) / 2],
-            "text": [f"{view['extracted_ml_per_l']:.0f} mL O2 extracted per L"],
-        }
+        set_data(
+            self._p50,
+            {
+                "x": [view["arterial_p50"][0], view["venous_p50"][0]],
+                "y": [view["arterial_p50"][1], view["venous_p50"][1]],
+                "color": [ARTERIAL, VENOUS],
+                "dx": [-5, 5],
+                "dy": [0, 0],
+                "align": ["right", "left"],
+                "label_y": [9, 3],
+                "label": [
+                    f"P50 {fmt(view['arterial_p50'][0], d + 1)}",
+                    f"P50 {fmt(view['venous_p50'][0], d + 1)}",
+                ],
+            },
+        )
+        set_data(self._segment, {"x0": [xv], "y0": [yv], "x1": [xv], "y1": [ya]})
+        set_data(self._bridge, {"x0": [xv], "y0": [ya], "x1": [xa], "y1": [ya]})
+        set_data(
+            self._note,
+            {
+                "x": [xv],
+                "y": [(ya + yv) / 2],
+                "text": [f"{view['extracted_ml_per_l']:.0f} mL O2 extracted per L"],
+            },
+        )
         base = st.curve_view(baseline=True)
         if base is None:
-            self._base.data = {"x": [], "arterial": [], "venous": []}
-            self._base_points.data = {"x": [], "y": []}
+            set_data(self._base, {"x": [], "arterial": [], "venous": []})
+            set_data(self._base_points, {"x": [], "y": []})
         else:
-            self._base.data = {k: base[k] for k in ("x", "arterial", "venous")}
-            self._base_points.data = {
-                "x": [base["loading"][0], base["unloading"][0]],
-                "y": [base["loading"][1], base["unloading"][1]],
-            }
+            set_data(self._base, {k: base[k] for k in ("x", "arterial", "venous")})
+            set_data(
+                self._base_points,
+                {
+                    "x": [base["loading"][0], base["unloading"][0]],
+                    "y": [base["loading"][1], base["unloading"][1]],
+                },
+            )
         self._caption.object = (
             f"Black bar: O2 given up per litre of blood between arterial and venous points. "
             f"The venous curve's shift frees {view['shift_gain_ml_per_l']:.1f} mL O2/L more than "
@@ -226,6 +240,7 @@ class CascadePlot(pn.viewable.Viewer):
             height=300,
             sizing_mode="stretch_width",
             toolbar_location=None,
+            tools="pan",  # the only tool active without a toolbar
             title="PO2 cascade: the drop at each step",
         )
         fig.title.text_font_size = "15px"
@@ -253,7 +268,7 @@ class CascadePlot(pn.viewable.Viewer):
             css_classes=["o2-cascade"],
             sizing_mode="stretch_width",
         )
-        state.param.watch(self._update, ["result", "pressure_unit"])
+        state.param.watch(Deferred(self._update), ["result", "pressure_unit"])
         self._update()
 
     def _update(self, *_events) -> None:
@@ -262,8 +277,9 @@ class CascadePlot(pn.viewable.Viewer):
         d = st.pressure_digits
         self._fig.yaxis.axis_label = f"PO2 ({st.pressure_unit})"
         self._fig.y_range.end = max(max(data["po2"]) * 1.15, 1.0)
-        self._source.data = dict(
-            self._source.data, po2=data["po2"], label=[fmt(v, d) for v in data["po2"]]
+        set_data(
+            self._source,
+            dict(self._source.data, po2=data["po2"], label=[fmt(v, d) for v in data["po2"]]),
         )
 
     def __panel__(self):

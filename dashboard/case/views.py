@@ -13,6 +13,7 @@ from pathlib import Path
 import panel as pn
 
 from ..look import TABLE_CSS
+from ..responsive import held, later_part
 from .formatting import fmt
 from .state import CaseState
 
@@ -21,7 +22,8 @@ class NumberInput(pn.viewable.Viewer):
     """A typed numeric input bound to one state parameter, in display units.
 
     A value outside the bounds is refused: the field keeps its last valid value and an
-    inline message names the field, the allowed range and the unit.
+    inline message names the field, the allowed range and the unit (the message pane is
+    made at the first refusal: twenty empty panes would slow every page load).
     """
 
     def __init__(self, state: CaseState, name: str, **params):
@@ -36,27 +38,39 @@ class NumberInput(pn.viewable.Viewer):
             css_classes=["o2-input", f"o2-in-{name}"],
             sizing_mode="stretch_width",
         )
-        self._message = pn.pane.HTML(
-            "",
-            visible=False,
-            css_classes=["o2-input-msg", f"o2-msg-{name}"],
-            styles={"color": "#9a1b1b", "font-size": "13px"},
-            margin=(0, 10, 6, 10),
-        )
+        self._message: pn.pane.HTML | None = None  # made at the first refusal
         self._syncing = False
         self._widget.param.watch(self._typed, "value")
         state.param.watch(self._refresh, [name, "pressure_unit", "hb_unit"])
-        self._layout = pn.Column(self._widget, self._message, sizing_mode="stretch_width", margin=0)
+        self._layout = pn.Column(self._widget, sizing_mode="stretch_width", margin=0)
 
     def _typed(self, event) -> None:
         if self._syncing:
             return
         if self._state.set_display_input(self._name, event.new):
-            self._message.object, self._message.visible = "", False
+            self._say("")
             return
-        self._message.object = html.escape(self._state.error_message)
-        self._message.visible = True
+        self._say(html.escape(self._state.error_message))
         self._refresh()
+
+    def _say(self, text: str) -> None:
+        """Show (or hide, for "") the inline message under the field."""
+        if self._message is None:
+            if not text:
+                return
+            with later_part():
+                self._message = pn.pane.HTML(
+                    "",
+                    visible=False,
+                    css_classes=["o2-input-msg", f"o2-msg-{self._name}"],
+                    styles={"color": "#9a1b1b", "font-size": "13px"},
+                    margin=(0, 10, 6, 10),
+                )
+            self._layout.append(self._message)
+        self._message.object, self._message.visible = text, bool(text)
+
+    def show(self, visible: bool) -> None:
+        self._layout.visible = visible
 
     def _refresh(self, *_events) -> None:
         self._syncing = True
@@ -98,19 +112,13 @@ class InputPanel(pn.viewable.Viewer):
         self._altitude = num("altitude_m")
         self._ph, self._be = num("ph"), num("base_excess_mmol_l")
         self._p50 = num("p50_mmhg")
-        self._pb_col = pn.Column(self._pb, margin=0, sizing_mode="stretch_width")
-        self._alt_col = pn.Column(self._altitude, margin=0, sizing_mode="stretch_width")
-        self._ph_col = pn.Column(self._ph, margin=0, sizing_mode="stretch_width")
-        self._be_col = pn.Column(self._be, margin=0, sizing_mode="stretch_width")
-        self._p50_col = pn.Column(self._p50, margin=0, sizing_mode="stretch_width")
-
         groups = [
             (
                 "Air",
                 [
-                    self._alt_col,
+                    self._altitude,
                     toggle(s.use_pressure_override),
-                    self._pb_col,
+                    self._pb,
                     choice(s.pressure_model, pn.widgets.RadioButtonGroup),
                     num("fio2"),
                 ],
@@ -131,14 +139,14 @@ class InputPanel(pn.viewable.Viewer):
                     num("hb_g_dl"),
                     num("temperature_c"),
                     choice(s.acid_base_input, pn.widgets.RadioButtonGroup),
-                    self._ph_col,
-                    self._be_col,
+                    self._ph,
+                    self._be,
                     num("dpg_mmol_l"),
                     num("cohb_fraction"),
                     num("methb_fraction"),
                     choice(s.curve),
                     toggle(s.use_p50_override),
-                    self._p50_col,
+                    self._p50,
                 ],
             ),
             (
@@ -172,11 +180,11 @@ class InputPanel(pn.viewable.Viewer):
 
     def _visibility(self, *_events) -> None:
         st = self._state
-        self._pb_col.visible = st.use_pressure_override
-        self._alt_col.visible = not st.use_pressure_override
-        self._ph_col.visible = st.acid_base_input == "pH"
-        self._be_col.visible = st.acid_base_input != "pH"
-        self._p50_col.visible = st.use_p50_override
+        self._pb.show(st.use_pressure_override)
+        self._altitude.show(not st.use_pressure_override)
+        self._ph.show(st.acid_base_input == "pH")
+        self._be.show(st.acid_base_input != "pH")
+        self._p50.show(st.use_p50_override)
 
     def __panel__(self):
         return self._layout
@@ -258,15 +266,13 @@ class CaseControls(pn.viewable.Viewer):
         self._clear = pn.widgets.Button(
             label="Clear baseline", css_classes=["o2-clear"], align="end", width=130
         )
-        # Button events arrive outside the document lock; pn.state.execute runs the change
-        # on the next tick with the lock, so the figures may be edited safely.
-        self._load.on_click(
-            lambda _e: pn.state.execute(
-                lambda: state.load_scenario(self._picker.value), schedule=True
-            )
-        )
-        self._keep.on_click(lambda _e: pn.state.execute(state.keep_baseline, schedule=True))
-        self._clear.on_click(lambda _e: pn.state.execute(state.clear_baseline, schedule=True))
+        # Button events arrive outside the document lock; held() runs the change on the
+        # next tick with the lock (so the figures may be edited safely), in one message.
+        load = held(lambda: state.load_scenario(self._picker.value))
+        keep, clear = held(state.keep_baseline), held(state.clear_baseline)
+        self._load.on_click(lambda _e: load())
+        self._keep.on_click(lambda _e: keep())
+        self._clear.on_click(lambda _e: clear())
         units = pn.Row(
             pn.widgets.RadioButtonGroup.from_param(
                 state.param.pressure_unit, css_classes=["o2-pressure-unit"], align="end"

@@ -12,10 +12,11 @@ import html
 
 import panel as pn
 
-from ..look import ACCENT
+from ..look import ACCENT, INK
 from ..nav import screen_links
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
-from .figures import INK, PAPER
+from .figures import PAPER
+from .maker_view import LessonMakerView
 from .state import LESSON_DIR, LectureState
 from .views import LectureControls, LecturePlot
 
@@ -37,7 +38,18 @@ def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
 
     state.param.watch(
         changed,
-        ["mode", "lesson", "step", "factor", "factor_value", "tissue_po2_mmhg", "pressure_unit"],
+        [
+            "mode",
+            "lesson",
+            "step",
+            "factor",
+            "factor_value",
+            "tissue_po2_mmhg",
+            "pressure_unit",
+            "combine",
+            "stacked",
+            "view",
+        ],
     )
     if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
         pn.state.onload(sync)  # after the browser has sent its own address
@@ -46,25 +58,32 @@ def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
 
 
 def create_lecture_app(lesson_dir=None) -> pn.Column:
-    """The lecture page: plot filling the window, caption, step and factor controls."""
+    """The lecture page: plot filling the window, caption, step and factor controls.
+
+    Every row wraps instead of running off the screen, so the page fits 1024 px without a
+    sideways scroll; the plot takes the height that is left.
+    """
     pn.extension()
     state = LectureState(lesson_dir=LESSON_DIR if lesson_dir is None else lesson_dir)
     notice = url_message_pane()
     bind_lecture_url(state, notice)
     plot = LecturePlot(state)
     controls = LectureControls(state, plot)
-    header = pn.Row(
+    maker = LessonMakerView(state)
+    header = pn.FlexBox(
         pn.pane.HTML(
             f"<b>{html.escape(TITLE)}</b>",
-            styles={"color": "#ffffff", "font-size": "18px"},
+            styles={"color": "#ffffff", "font-size": "18px", "white-space": "nowrap"},
             margin=(6, 16),
         ),
         screen_links("/lecture"),
-        pn.layout.HSpacer(),
-        controls.tools,
+        pn.Spacer(styles={"flex": "1 1 0"}, width=0, height=0, margin=0),
+        *controls.tools,
+        maker.toggle,
+        flex_wrap="wrap",
+        align_items="center",
         styles={"background": ACCENT},
         sizing_mode="stretch_width",
-        height=46,
         margin=0,
         css_classes=["o2-lecture-header"],
     )
@@ -75,6 +94,7 @@ def create_lecture_app(lesson_dir=None) -> pn.Column:
         controls.caption,
         controls,
         controls.message,
+        maker,
         sizing_mode="stretch_both",
         styles={"background": PAPER, "color": INK},
         margin=0,

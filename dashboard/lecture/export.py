@@ -14,8 +14,9 @@ from bokeh.layouts import column
 from bokeh.models import ColumnDataSource, Div
 
 from ..case.formatting import fmt
+from ..look import INK
 from ..offline import offline_file_html
-from .figures import FONT, INK, build_figure, frame_data
+from .figures import FONT, build_figure, frame_data, tissue_label
 from .state import LectureState
 
 _PNG_TEMPLATE = """
@@ -77,9 +78,10 @@ def standalone_html(state: LectureState) -> str:
     fig = build_figure(sources, frame, width=1280, height=720)
     numbers = (
         f"Arterial SO2 {frame['arterial_so2']:.1f} %, CaO2 {frame['arterial_content_ml_dl']:.1f} "
-        f"mL/dL, Hb {frame['hb_g_dl']:.1f} g/dL, DO2 {frame['do2_ml_min']:.0f} mL/min. "
+        f"mL/dL, Hb {frame['hb_g_dl']:.1f} g/dL, DO2 {frame['do2_ml_min']:.0f} mL/min; "
+        f"{tissue_label(frame)} {frame['unit']}. "
         f"Reference P50 {fmt(frame['reference_p50'], frame['digits'] + 1)} {frame['unit']}; "
-        f"reference unloading {frame['reference_unloaded_ml_per_l']:.0f} mL/L."
+        f"reference O2 extracted per litre {frame['reference_extracted_ml_per_l']:.0f} mL/L."
     )
     caption = Div(
         text=(

@@ -11,8 +11,9 @@ import param
 class KeyCatcher(pn.reactive.ReactiveHTML):
     """Turns a presenter's keys into ``action`` + ``presses`` (Python watches ``presses``).
 
-    ArrowRight, PageDown and Space mean next; ArrowLeft and PageUp mean back. Keys typed in
-    an input, a text area or a select, and keys on a focused slider, are left alone.
+    ArrowRight, PageDown and Space mean next; ArrowLeft and PageUp mean back; Home and End
+    mean the first and the last step. Keys typed in an input, a text area or a select, and
+    keys on a focused slider, are left alone.
     """
 
     action = param.String(default="")
@@ -32,7 +33,7 @@ window._o2_keys = (e) => {
   }
   if (e.altKey || e.ctrlKey || e.metaKey) { return; }
   const map = {ArrowRight: "next", PageDown: "next", " ": "next", ArrowLeft: "back",
-               PageUp: "back"};
+               PageUp: "back", Home: "first", End: "last"};
   const act = map[e.key];
   if (!act) { return; }
   e.preventDefault();

@@ -3,6 +3,8 @@
 No Panel import. :func:`query_pairs` writes what a :class:`~.state.LectureState` shows;
 :func:`query_updates` reads address pairs back into state updates, with a message for each
 value that cannot be used (its default is kept). Factor values are in model units.
+Combined factors: ``?factor=ph&ph=7.2&temperature_c=39.5&combine=true`` (the factor
+named by ``factor`` is the one whose slider shows). The O2 content plot: ``&view=content``.
 """
 
 from __future__ import annotations
@@ -16,7 +18,17 @@ if TYPE_CHECKING:
     from .state import LectureState
 
 PRESSURE_UNITS = ("mmHg", "kPa")
-QUERY_KEYS = ("lesson", "step", "factor", "tissue_po2_mmhg", "pressure_unit", *FACTORS)
+VIEWS = ("saturation", "content")
+QUERY_KEYS = (
+    "lesson",
+    "step",
+    "factor",
+    "tissue_po2_mmhg",
+    "pressure_unit",
+    "combine",
+    "view",
+    *FACTORS,
+)
 
 
 def query_pairs(state: LectureState) -> dict[str, str]:
@@ -26,10 +38,17 @@ def query_pairs(state: LectureState) -> dict[str, str]:
     else:
         f = state.current_factor
         out = {"factor": f.key, f.key: f.query_text(state.factor_value)}
+        if state.combine:
+            for key, value in state.stacked.items():
+                if key != f.key:
+                    out[key] = FACTORS[key].query_text(value)
+            out["combine"] = "true"
         if state.tissue_po2_mmhg != DEFAULT_TISSUE_PO2_MMHG:
             out["tissue_po2_mmhg"] = format(state.tissue_po2_mmhg, ".10g")
     if state.pressure_unit != "mmHg":
         out["pressure_unit"] = state.pressure_unit
+    if state.view != VIEWS[0]:
+        out["view"] = state.view
     return out
 
 
@@ -48,6 +67,17 @@ def _tissue(raw: str, messages: list[str]) -> float | None:
     return None
 
 
+def _combine(raw: str | None, messages: list[str]) -> bool:
+    if raw is None:
+        return False
+    word = raw.strip().lower()
+    if word in ("true", "1", "yes"):
+        return True
+    if word not in ("false", "0", "no"):
+        messages.append(f"combine = {raw!r} must be true or false; one factor is shown")
+    return False
+
+
 def _factor_updates(pairs: dict[str, str], messages: list[str]) -> dict:
     key = pairs["factor"]
     if key not in FACTORS:
@@ -61,6 +91,23 @@ def _factor_updates(pairs: dict[str, str], messages: list[str]) -> dict:
             messages.append(why)
         else:
             updates["factor_value"] = value
+    combine = _combine(pairs.get("combine"), messages)
+    others = [k for k in FACTORS if k in pairs and k != key]
+    if combine:
+        stacked = {}
+        for other in others:
+            value, why = FACTORS[other].parse(pairs[other])
+            if value is None:
+                messages.append(why)
+            elif value != FACTORS[other].reference:
+                stacked[other] = value
+        updates.update(combine=True, stacked=stacked)
+    else:
+        updates.update(combine=False, stacked={})
+        messages += [
+            f"{other} = {pairs[other]!r} is used only with combine=true; ignored"
+            for other in others
+        ]
     if "tissue_po2_mmhg" in pairs:
         tissue = _tissue(pairs["tissue_po2_mmhg"], messages)
         if tissue is not None:
@@ -101,6 +148,12 @@ def query_updates(state: LectureState, pairs: dict[str, str]) -> tuple[dict, lis
             updates["pressure_unit"] = unit
         else:
             messages.append(f"pressure_unit = {unit!r} is not one of mmHg, kPa; mmHg is used")
+    view = pairs.get("view")
+    if view is not None:
+        if view in VIEWS:
+            updates["view"] = view
+        else:
+            messages.append(f"view = {view!r} is not one of {', '.join(VIEWS)}; saturation is used")
     if "factor" in pairs:
         updates.update(_factor_updates(pairs, messages))
     if updates.get("mode") != "factor":

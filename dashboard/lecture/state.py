@@ -1,23 +1,24 @@
-"""Session state of lecture mode: a lesson's steps, or one factor moved alone.
+"""Session state of lecture mode: a lesson's steps, or factors moved alone or combined.
 
-No Panel import here. :class:`LectureState` steps through lessons and holds the one
-factor's setting; the factors themselves are in :mod:`.factors`, the frame the plot draws
-is made by :mod:`.frame`, and the page address is read and written by :mod:`.query`.
+No Panel import here. :class:`LectureState` steps through lessons and holds the factors'
+settings; the factors themselves are in :mod:`.factors`, their combination and shares in
+:mod:`.stack`, the frame the plot draws is made by :mod:`.frame`, and the page address is
+read and written by :mod:`.query`.
 
 Every number the lecture view shows is made by the model: each step or factor setting
 becomes a :class:`~dashboard.case.state.CaseState` case solved by
-:func:`model.solve_transport`; the faint reference is the default case (a resting adult at
-sea level, pH 7.40, PCO2 40 mmHg, 37 °C). Two derived numbers are written on the plot:
+:func:`model.solve_transport`; the **reference** (one word for it throughout) is the default
+case, a resting adult at sea level (pH 7.40, PCO2 40 mmHg, 37 °C). Two derived numbers are
+written on the plot:
 
 * the **P50 shift**, arterial P50 of the case minus the reference P50;
-* the **change in O2 unloaded per litre at the tissue point**: blood that leaves the lung at
-  its arterial point and comes to equilibrium with a tissue PO2 gives up
-  ``10 (CaO2 - C(P_tissue))`` mL O2 per litre, with ``C`` from :func:`model.oxygen_content`
-  on the case's own curve; the change is that amount minus the reference case's at the same
-  tissue PO2.
+* the **O2 extracted per litre** at the tissue point and its change from the reference
+  (:mod:`.frame` says how it is read, at a held tissue PO2 or at the venous PO2 of the
+  solve).
 
-The curve drawn is the blood under the case's arterial conditions (pH, PCO2, temperature,
-2,3-DPG, CO, P50); the venous Bohr shift is left out so that one factor shows alone.
+The thick curve is the blood under the case's arterial conditions (pH, PCO2, temperature,
+2,3-DPG, CO, P50), the thin one under its venous conditions (with the Bohr shift); the plot
+shows saturation or O2 content (:attr:`LectureState.view`).
 """
 
 from __future__ import annotations
@@ -27,20 +28,25 @@ from pathlib import Path
 import param
 
 from ...model.lesson import (
+    CAPTION_CHARS,
     DEFAULT_TISSUE_PO2_MMHG,
     TISSUE_PO2_LIMITS_MMHG,
+    TITLE_CHARS,
     Lesson,
     LessonError,
+    LessonStep,
     lesson_files,
     load_lesson,
 )
 from ...model.scenario import LESSON_DIR
+from ..case.formatting import fmt
 from ..case.state import CaseState
 from .factors import FACTORS, FETAL_P50_MMHG, Factor
-from .frame import build_frame
-from .query import PRESSURE_UNITS, QUERY_KEYS, query_pairs, query_updates
+from .frame import TissuePoint, build_frame
+from .query import PRESSURE_UNITS, QUERY_KEYS, VIEWS, query_pairs, query_updates
+from .stack import active, combined_inputs, p50_shares
 
-__all__ = ["FACTORS", "FETAL_P50_MMHG", "LESSON_DIR", "MODES", "Factor", "LectureState"]
+__all__ = ["FACTORS", "FETAL_P50_MMHG", "LESSON_DIR", "MODES", "VIEWS", "Factor", "LectureState"]
 
 MODES = ("lesson", "factor")
 
@@ -60,6 +66,17 @@ class LectureState(param.Parameterized):
         doc="PO2 at which the unloading is read in factor mode [mmHg].",
     )
     pressure_unit = param.Selector(default="mmHg", objects=list(PRESSURE_UNITS), label="Unit")
+    combine = param.Boolean(
+        default=False,
+        label="Combine factors",
+        doc="In factor mode, keep each factor set while the next one moves.",
+    )
+    stacked = param.Dict(
+        default={}, doc="With combine: the other factors set, key -> value (model units)."
+    )
+    view = param.Selector(
+        default="saturation", objects=list(VIEWS), label="Plot", doc="SO2 or O2 content."
+    )
 
     frame = param.Dict(default={}, doc="Everything the plot shows, in display units.")
     message = param.String(default="", doc="Why the last request was not applied.")
@@ -128,6 +145,14 @@ class LectureState(param.Parameterized):
             return self.go_to(self.step)
         return self.step > 1 and self.go_to(self.step - 1)
 
+    def first_step(self) -> bool:
+        """Home: the lesson's first step."""
+        return self.go_to(1)
+
+    def last_step(self) -> bool:
+        """End: the lesson's last step."""
+        return self.go_to(self.step_count or 1)
+
     def choose_lesson(self, key: str) -> bool:
         if key not in self._lessons:
             known = ", ".join(self._lessons) or "none"
@@ -137,19 +162,51 @@ class LectureState(param.Parameterized):
         self.param.update(mode="lesson", lesson=key, step=1)
         return True
 
+    def add_lesson(self, lesson: Lesson) -> None:
+        """Offer ``lesson`` (e.g. one just made) in the picker, under its key, and show it."""
+        self._lessons[lesson.key] = lesson
+        self.param.lesson.objects = list(self._lessons)
+        self.choose_lesson(lesson.key)
+        self.param.trigger("lesson")  # the same key may now hold other steps
+
     # ------------------------------------------------------------------ one factor
     @property
     def current_factor(self) -> Factor:
         return FACTORS[self.factor]
 
     def choose_factor(self, key: str) -> bool:
-        """Move to factor mode with ``key`` at its reference value (all else at rest)."""
+        """Move to factor mode with ``key`` to be moved.
+
+        Alone (``combine`` off), ``key`` starts at its reference value with all else at rest;
+        combined, the factors set so far keep their values and ``key`` its last one.
+        """
         if key not in FACTORS:
             self.message = f"Factor {key!r} unknown; choose one of {', '.join(FACTORS)}."
             return False
         self.message = ""
-        self.param.update(mode="factor", factor=key, factor_value=FACTORS[key].reference)
+        if not self.combine:
+            self.param.update(
+                mode="factor", factor=key, factor_value=FACTORS[key].reference, stacked={}
+            )
+            return True
+        stacked = active({**self.stacked, self.factor: self.factor_value})
+        value = stacked.pop(key, FACTORS[key].reference)
+        self.param.update(mode="factor", factor=key, factor_value=value, stacked=stacked)
         return True
+
+    def set_combine(self, on: bool) -> None:
+        """Combine factors or move one alone (which drops the others set)."""
+        updates = {"mode": "factor", "combine": bool(on)}
+        if not on:
+            updates["stacked"] = {}
+        self.message = ""
+        self.param.update(**updates)
+
+    def factor_values(self) -> dict[str, float]:
+        """The factors applied now, key -> value (model units); others are at reference."""
+        if self.combine:
+            return {**self.stacked, self.factor: self.factor_value}
+        return {self.factor: self.factor_value}
 
     def factor_control(self, key: str | None = None) -> dict:
         """A factor's slider in display units: label, unit, lo, hi, step, value, reference.
@@ -191,21 +248,67 @@ class LectureState(param.Parameterized):
         return True
 
     # ------------------------------------------------------------------ derivation
-    def _target(self) -> tuple[dict, float, str, str, str]:
-        """(inputs, tissue PO2, heading, caption, short tag) of what is to be shown."""
+    def _target(self) -> tuple[dict, TissuePoint, dict[str, str]]:
+        """(inputs, tissue point, texts: heading, caption, tag) of what is to be shown."""
         lesson = self.current_lesson
         if self.mode == "lesson" and lesson:
             s = lesson.steps[min(self.step, len(lesson.steps)) - 1]
-            tag = f"Step {s.number} of {len(lesson.steps)}"
-            return s.inputs, s.tissue_po2_mmhg, s.title, s.caption, tag
+            texts = {
+                "heading": s.title,
+                "caption": s.caption,
+                "tag": f"Step {s.number} of {len(lesson.steps)}",
+            }
+            return s.inputs, TissuePoint(s.tissue_point, s.tissue_po2_mmhg), texts
         f = self.current_factor
-        be = float(self.reference.result.arterial.base_excess_mmol_l)
+        be = self._reference_base_excess()
+        tissue = TissuePoint("held", self.tissue_po2_mmhg)
+        if not self.combine:
+            texts = {
+                "heading": f.heading(self.factor_value, self.case),
+                "caption": f.caption,
+                "tag": "One factor",
+            }
+            return f.inputs(self.factor_value, be), tissue, texts
+        moved = active(self.factor_values())
+        heading = " + ".join(FACTORS[k].heading(v, self.case) for k, v in moved.items())
+        texts = {
+            "heading": heading or f.heading(self.factor_value, self.case),
+            "caption": "",  # written from the shares once the case is solved
+            "tag": "Factors combined",
+        }
+        return combined_inputs(moved, be), tissue, texts
+
+    def _reference_base_excess(self) -> float:
+        return float(self.reference.result.arterial.base_excess_mmol_l)
+
+    def _shares_caption(self, shares) -> str:
+        """The caption of combined factors: the total shift and how it is shared."""
+        unit, d = self.pressure_unit, self.case.pressure_digits + 1
+        to = self.case.pressure_to_display
+        ref_p50 = float(self.reference.result.arterial.p50_mmhg)
+        total = to(float(self.case.result.arterial.p50_mmhg)) - to(ref_p50)
+        if not shares:
+            return (
+                f"{self.current_factor.caption} Combined: each factor you set keeps its value "
+                "while you choose and move the next."
+            )
+        # a shift converts as a pressure: mmHg -> kPa is a plain scale
+        parts = [
+            f"{FACTORS[s.key].heading(s.value, self.case)} "
+            f"{fmt(to(s.p50_shift_mmhg), d, True)} {unit}"
+            for s in shares
+        ]
+        if len(shares) == 1:
+            return (
+                f"Alone, {parts[0]} of P50. Choose another factor and move it: the ones set "
+                "keep their values, and each one's share of the shift is written here."
+            )
+        rest = total - sum(to(s.p50_shift_mmhg) for s in shares)
         return (
-            f.inputs(self.factor_value, be),
-            self.tissue_po2_mmhg,
-            f.heading(self.factor_value, self.case),
-            f.caption,
-            "One factor",
+            f"Together the P50 moves {fmt(total, d, True)} {unit}. Each factor moved alone "
+            f"from the reference: {'; '.join(parts)}. The remaining {fmt(rest, d, True)} "
+            f"{unit} is their interaction: each factor scales the P50 rather than adding to "
+            "it, so one-at-a-time shifts do not sum exactly."
         )
 
     @param.depends(
@@ -216,6 +319,9 @@ class LectureState(param.Parameterized):
         "factor_value",
         "tissue_po2_mmhg",
         "pressure_unit",
+        "combine",
+        "stacked",
+        "view",
         watch=True,
     )
     def _update(self) -> None:
@@ -225,11 +331,35 @@ class LectureState(param.Parameterized):
         # The cases convert for the heading and the frame: give them the unit first.
         for s in (self.case, self.reference):
             s.pressure_unit = self.pressure_unit
-        inputs, tissue, heading, caption, tag = self._target()
-        if not self.case.apply_inputs(inputs, name=heading):
+        inputs, tissue, texts = self._target()
+        if not self.case.apply_inputs(inputs, name=texts["heading"]):
             self.message = self.case.error_message
             return
-        self.frame = build_frame(self.case, self.reference, tissue, heading, caption, tag)
+        shares = None
+        if self.mode == "factor" and self.combine:
+            ref_p50 = float(self.reference.result.arterial.p50_mmhg)
+            moved = active(self.factor_values())
+            shares = p50_shares(moved, ref_p50, self._reference_base_excess())
+            texts["caption"] = self._shares_caption(shares)
+        self.frame = build_frame(self.case, self.reference, tissue, texts, self.view, shares)
+
+    # ------------------------------------------------------------------ as a lesson step
+    def shown_step(self) -> LessonStep:
+        """What is shown as a lesson step: its case inputs, tissue point, title and caption.
+
+        The title and caption are the heading and caption shown, cut to the lengths a lesson
+        file allows; the lesson maker lets the lecturer rewrite them.
+        """
+        inputs, tissue, _ = self._target()
+        frame = self.frame
+        return LessonStep(
+            number=0,
+            title=frame["heading"][: TITLE_CHARS[1]],
+            caption=frame["caption"][: CAPTION_CHARS[1]],
+            tissue_po2_mmhg=tissue.po2_mmhg,
+            inputs=dict(inputs),
+            tissue_point=tissue.point,
+        )
 
     # ------------------------------------------------------------------ page address
     QUERY_KEYS = QUERY_KEYS
