@@ -7,7 +7,7 @@ PORT ?= 5006
 # extra options for `make serve`, e.g. make serve ARGS="--no-show --address 0.0.0.0"
 ARGS ?=
 
-.PHONY: serve test fuzz evaluate bench lint format-check venv chromium clean-venv
+.PHONY: typecheck serve test fuzz evaluate bench lint format-check venv chromium clean-venv
 
 venv: $(STAMP)
 
@@ -51,6 +51,7 @@ test: $(STAMP) chromium
 	@rc=0; $(BIN)/python -m pytest -q -p no:cacheprovider --doctest-modules model || rc=$$?; \
 	if [ $$rc -eq 5 ]; then echo "no doctests collected in model/"; exit 1; fi; \
 	[ $$rc -eq 0 ] || exit $$rc
+	$(BIN)/mypy
 
 # Exploration, not a gate: every property test with FUZZ_SCALE times its budget and random
 # seeds (FUZZ_SEED=N repeats one run). Findings replay from .hypothesis/ until fixed; make
@@ -66,6 +67,9 @@ evaluate: $(STAMP)
 
 bench: $(STAMP)
 	@set -e; for f in bench/bench_*.py; do echo "== $$f"; $(BIN)/python $$f; done
+
+typecheck: $(STAMP)
+	$(BIN)/mypy
 
 lint: $(STAMP)
 	$(BIN)/ruff check o2transit model dashboard tests bench

@@ -31,6 +31,7 @@ from __future__ import annotations
 import math
 import time
 import weakref
+from collections import deque
 from collections.abc import Callable
 
 import numpy as np
@@ -184,13 +185,37 @@ def _socket_busy(doc) -> bool:
         return False
 
 
-def _when_free(doc, run: Callable[[], None], waited_ms: int = 0) -> None:
-    """``run()`` now if the websocket is free, else a millisecond later (for at most 30 ms)."""
+_QUEUES: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def _when_free(doc, run: Callable[[], None]) -> None:
+    """``run()`` as soon as the websocket is free (waiting at most 30 ms), in arrival order.
+
+    Changes and clicks share one queue per page, so a button pressed right after a value was
+    typed acts on that value: Panel applies the pending change before it hands over the click,
+    and the change is queued first, so it also runs first.
+    """
+    queue = _QUEUES.setdefault(doc, deque())
+    queue.append(run)
+    if len(queue) == 1:
+        _drain(doc, 0)
+
+
+def _drain(doc, waited_ms: int) -> None:
+    queue = _QUEUES.get(doc)
+    if not queue:
+        return
     if waited_ms < _MAX_WAIT_MS and _socket_busy(doc):
-        doc.add_timeout_callback(lambda: _when_free(doc, run, waited_ms + _RETRY_MS), _RETRY_MS)
+        doc.add_timeout_callback(lambda: _drain(doc, waited_ms + _RETRY_MS), _RETRY_MS)
         return
     with set_curdoc(doc):
-        run()
+        while queue:
+            try:
+                queue[0]()
+            except Exception as exc:  # noqa: BLE001 - one failing action must not stall the queue
+                pn.state._handle_exception(exc)
+            finally:
+                queue.popleft()
 
 
 _acting = 0  # > 0 while an action (one browser change, one click) runs under its hold
@@ -244,7 +269,8 @@ def held(action: Callable[[], object]) -> Callable[[], None]:
     ``button.on_click(lambda _e: run())``)."""
 
     def run() -> None:
-        _act(pn.state.curdoc, action)
+        doc = pn.state.curdoc
+        _when_free(doc, lambda: _act(doc, action))
 
     return lambda: pn.state.execute(run, schedule=True)
 

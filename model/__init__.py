@@ -26,6 +26,7 @@ from .circulation import (
     venous_content_fick,
     vo2_at_temperature,
 )
+from .cohort import derive_frame
 from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
 from .dissociation import (
     CURVE_ALIASES,
@@ -95,7 +96,7 @@ __all__ = [
     "canonical_curve",
     "check_measured",
     "default_case_dir",
-    "derive",
+    "derive", "derive_frame",
     "end_capillary_po2",
     "extraction_ratio",
     "fit_case",

@@ -10,6 +10,7 @@ import csv
 import io
 import math
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 
@@ -255,7 +256,7 @@ def check_reading(entry: dict, n_days: int, label: str = "reading") -> Reading:
     day = _reading_number(label, "day", entry["day"], 1, n_days, "(days of the schedule)")
     if day != int(day):
         raise ReadingError(f"{label} day = {entry['day']!r} must be a whole day 1-{n_days}")
-    values = {}
+    values: dict[str, float | None] = {}
     for key in READING_COLUMNS[1:]:
         raw = entry.get(key)
         if _blank(raw):
@@ -270,8 +271,8 @@ def check_reading(entry: dict, n_days: int, label: str = "reading") -> Reading:
         )
     return Reading(
         day=int(day),
-        altitude_m=values["altitude_m"],
-        spo2_pct=values["spo2_pct"],
+        altitude_m=cast(float, values["altitude_m"]),  # required: refused above when blank
+        spo2_pct=cast(float, values["spo2_pct"]),
         heart_rate_min=values["heart_rate_min"],
         lake_louise_score=None if lls is None else int(lls),
     )
