@@ -25,7 +25,8 @@ from urllib.parse import parse_qsl, urlencode
 import panel as pn
 import param
 
-from ..model.units import HB_MMOL_L_PER_G_DL, MMHG_PER_KPA
+from ..model.dissociation import SHORT_NAMES
+from ..model.scenario import SCENARIO_UNIT_VARIANTS
 from .case.state import CASE_INPUTS, CURVE_LABELS, CaseState
 from .responsive import Quiet
 
@@ -33,24 +34,14 @@ DISPLAY_KEYS = ("pressure_unit", "hb_unit")
 # Mode switches: apply_inputs infers them from which keys are given, so the address leaves
 # them out; they are still accepted when a hand-written link names them.
 _MODE_KEYS = ("use_pressure_override", "acid_base_input", "use_p50_override")
-# Scenario-file variants in other units: key -> (input name, factor to the input's unit, unit)
-UNIT_VARIANTS = {
-    "barometric_pressure_kpa": ("barometric_pressure_mmhg", MMHG_PER_KPA, "kPa"),
-    "paco2_kpa": ("paco2_mmhg", MMHG_PER_KPA, "kPa"),
-    "p50_kpa": ("p50_mmhg", MMHG_PER_KPA, "kPa"),
-    "hb_g_l": ("hb_g_dl", 0.1, "g/L"),
-    "hb_mmol_l": ("hb_g_dl", 1.0 / HB_MMOL_L_PER_G_DL, "mmol/L"),
-}
+# Scenario-file variants in other units: key -> (input name, factor to the input's unit, unit);
+# the scenario files' own table, so a link and a file accept the same keys.
+UNIT_VARIANTS = SCENARIO_UNIT_VARIANTS
 CASE_KEYS = (*CASE_INPUTS, *DISPLAY_KEYS)
 """Every key the case screen owns in the address (unit variants are read, never written)."""
 
 _TRUE, _FALSE = ("true", "1", "yes", "on"), ("false", "0", "no", "off")
-_CURVE_NAMES = {
-    **{v: v for v in CURVE_LABELS.values()},
-    "severinghaus1979": "severinghaus",
-    "dash2016": "dash",
-    "hill1910": "hill",
-}
+_CURVE_NAMES = {**{v: v for v in CURVE_LABELS.values()}, **SHORT_NAMES}
 
 
 def parse_query_string(search: str) -> dict[str, str]:

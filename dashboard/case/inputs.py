@@ -11,6 +11,7 @@ from __future__ import annotations
 import param
 
 from ... import model
+from ...model.dissociation import SHORT_NAMES
 
 CURVE_LABELS = {
     "Severinghaus 1979": "severinghaus",
@@ -18,7 +19,7 @@ CURVE_LABELS = {
     "Hill (n 2.7, P50 26.8)": "hill",
     "Siggaard-Andersen 1990": "siggaard_andersen1990",
 }
-CURVE_ALIASES = {"severinghaus1979": "severinghaus", "dash2016": "dash", "hill1910": "hill"}
+CURVE_ALIASES = SHORT_NAMES  # canonical name -> the short name the selector uses
 """Curve names scenario files may use for the dashboard's own."""
 
 # Inputs handed to model.solve_transport under the same name.
