@@ -17,7 +17,7 @@ from ..nav import screen_links
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
 from .figures import PAPER
 from .maker_view import LessonMakerView
-from .state import LESSON_DIR, LectureState
+from .state import LESSON_DIR, SHOWN_PARAMS, LectureState
 from .views import LectureControls, LecturePlot
 
 TITLE = "o2transit · lecture"
@@ -36,21 +36,7 @@ def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
         sync()
         notice.visible = False  # the address now holds what is shown
 
-    state.param.watch(
-        changed,
-        [
-            "mode",
-            "lesson",
-            "step",
-            "factor",
-            "factor_value",
-            "tissue_po2_mmhg",
-            "pressure_unit",
-            "combine",
-            "stacked",
-            "view",
-        ],
-    )
+    state.param.watch(changed, list(SHOWN_PARAMS))
     if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
         pn.state.onload(sync)  # after the browser has sent its own address
     else:

@@ -51,6 +51,21 @@ __all__ = ["FACTORS", "FETAL_P50_MMHG", "LESSON_DIR", "MODES", "VIEWS", "Factor"
 MODES = ("lesson", "factor")
 
 
+SHOWN_PARAMS = (
+    "mode",
+    "lesson",
+    "step",
+    "factor",
+    "factor_value",
+    "tissue_po2_mmhg",
+    "pressure_unit",
+    "combine",
+    "stacked",
+    "view",
+)
+"""The parameters that decide what the lecture page shows (frame and address follow them)."""
+
+
 class LectureState(param.Parameterized):
     """What the lecture screen shows: a lesson step or one factor, and the derived frame."""
 
@@ -311,19 +326,7 @@ class LectureState(param.Parameterized):
             "it, so one-at-a-time shifts do not sum exactly."
         )
 
-    @param.depends(
-        "mode",
-        "lesson",
-        "step",
-        "factor",
-        "factor_value",
-        "tissue_po2_mmhg",
-        "pressure_unit",
-        "combine",
-        "stacked",
-        "view",
-        watch=True,
-    )
+    @param.depends(*SHOWN_PARAMS, watch=True)
     def _update(self) -> None:
         if self.current_lesson and self.step > self.step_count:
             with param.parameterized.discard_events(self):
