@@ -37,8 +37,9 @@ Formats, chosen by the file name's ending (:data:`TEXT_SUFFIXES`, :data:`PARQUET
 
 The caution goes to standard error (the command prints it) and into Parquet metadata,
 never into the CSV rows. The input is read in chunks of :data:`CHUNK_ROWS` rows and each
-chunk is checked, derived and written before the next is read (two chunks are computed
-at once on two threads), so memory stays bounded whatever the row count.
+chunk is checked, derived and written before the next is read (two chunks at once, in
+two worker processes when run as the command, on two threads otherwise), so memory stays
+bounded whatever the row count.
 
 Writing: to a regular file (a temporary file in the same folder, renamed over the target
 when complete, with the mode of the file it replaces, or the user's usual mode for a new
@@ -53,12 +54,14 @@ import contextlib
 import csv
 import io
 import math
+import multiprocessing as mp
 import os
 import stat
 import sys
 import tempfile
+import threading
 from collections.abc import Iterator, Mapping
-from concurrent.futures import Future, ThreadPoolExecutor
+from concurrent.futures import Executor, Future, ProcessPoolExecutor, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -150,7 +153,9 @@ MAX_LINE_BYTES = 1024 * 1024
 MAX_CELL_CHARS = 131_072
 """Longest cell accepted [characters] (the csv module's own field limit)."""
 
-_THREADS = 2
+_WORKERS = 2
+"""Chunks computed at once (at most the machine's cores): worker processes from the
+command, threads elsewhere (see :func:`_pool`)."""
 _UTF8_BOM = b"\xef\xbb\xbf"
 _NUMBER = r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$|^[+-]?([Nn][Aa][Nn]|[Ii][Nn][Ff](inity)?)$"
 
@@ -677,6 +682,96 @@ class _ChainedReader(io.RawIOBase):
         return len(data)
 
 
+@dataclass
+class _Block:
+    """Raw bytes of whole rows without quotes, parsed where the chunk is computed."""
+
+    data: bytes
+    line: int
+
+
+@dataclass
+class _Parser:
+    """How the rows of one delimited text file are parsed (picklable, for worker processes)."""
+
+    header: list[str]
+    delimiter: str
+    where: str
+
+    def parse(self, piece: _Block | _Chunk) -> _Chunk | None:
+        return self.arrow_block(piece.data, piece.line) if isinstance(piece, _Block) else piece
+
+    def arrow_block(self, block: bytes, line: int) -> _Chunk | None:
+        """Arrow's parser on a block without quotes (the csv module if a row is ragged);
+        ``line`` is the file line of the block's first row."""
+        width = len(self.header)
+        names = [f"c{i}" for i in range(width)]
+        try:
+            table = pcsv.read_csv(
+                pa.py_buffer(block),
+                read_options=pcsv.ReadOptions(
+                    column_names=names, block_size=1 << 20, use_threads=True
+                ),
+                parse_options=pcsv.ParseOptions(
+                    delimiter=self.delimiter, quote_char=False, ignore_empty_lines=True
+                ),
+                convert_options=pcsv.ConvertOptions(
+                    column_types=dict.fromkeys(names, pa.string()),
+                    strings_can_be_null=False,
+                    check_utf8=True,
+                ),
+            )
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+            return self.rows_chunk(self.csv_rows(_decoded(block, self.where, line)), line)
+        columns = [_as_arrow(table.column(i)) for i in range(width)]
+        if not columns or not len(columns[0]):
+            return None
+        for c in columns:
+            if pc.max(pc.binary_length(c)).as_py() > MAX_CELL_CHARS:
+                raise BatchError(self.cell_too_long(line))
+        blank = pc.equal(columns[0], "")
+        for c in columns[1:]:
+            blank = pc.and_(blank, pc.equal(c, ""))
+        if pc.any(blank).as_py():
+            keep = pc.invert(blank)
+            columns = [pc.filter(c, keep) for c in columns]
+        plain = not any(c in block for c in (_DELIM_MARK.encode(), _QUOTE_MARK.encode()))
+        return _Chunk(columns, np.full(len(columns[0]), "", dtype=object), line, plain)
+
+    def cell_too_long(self, line: int) -> str:
+        return (
+            f"{self.where}: not a readable CSV file (a cell near line {line} is longer "
+            f"than {MAX_CELL_CHARS:,} characters, the limit for one cell)"
+        )
+
+    def csv_rows(self, text: str) -> list[list[str]]:
+        try:
+            return [
+                r
+                for r in csv.reader(io.StringIO(text, newline=""), delimiter=self.delimiter)
+                if any(r)
+            ]
+        except csv.Error as exc:
+            raise BatchError(f"{self.where}: not a readable CSV file ({exc})") from None
+
+    def rows_chunk(self, rows: list[list[str]], line: int) -> _Chunk | None:
+        """A chunk from csv-module rows: short rows padded, long ones cut with a message."""
+        if not rows:
+            return None
+        width = len(self.header)
+        errors = np.full(len(rows), "", dtype=object)
+        for i, r in enumerate(rows):
+            if len(r) != width:
+                if len(r) > width:
+                    errors[i] = (
+                        f"row has {len(r)} cells but the header has {width}: values "
+                        "may be shifted (an unquoted comma?)"
+                    )
+                rows[i] = (r + [""] * (width - len(r)))[:width]
+        columns = [pa.array(list(c), type=pa.string()) for c in zip(*rows)]
+        return _Chunk(columns, errors, line)
+
+
 class _TextSource:
     """A delimited text file read in chunks: Arrow's parser on blocks without quotes, the
     csv module from the first quote on (quoted cells may hold delimiters and line ends)."""
@@ -743,6 +838,7 @@ class _TextSource:
         except (csv.Error, StopIteration) as exc:
             raise BatchError(f"{self.where}: not a readable CSV header ({exc})") from None
         self.header, self.delimiter = header, delimiter
+        self.parser = _Parser(header, delimiter, self.where)
         self.pending, self.eof = data, eof
         self.line += 1
         _check_header(header, self.where)
@@ -754,6 +850,14 @@ class _TextSource:
         )
 
     def chunks(self) -> Iterator[_Chunk]:
+        for piece in self.pieces():
+            chunk = self.parser.parse(piece)
+            if chunk is not None:
+                yield chunk
+
+    def pieces(self) -> Iterator[_Block | _Chunk]:
+        """The file as raw blocks of rows without quotes (parsed later, possibly in another
+        process), or as parsed chunks from the first quote on (the csv module)."""
         while True:
             data, eof = self.pending, self.eof
             while len(data) < BLOCK_BYTES and not eof:
@@ -777,79 +881,8 @@ class _TextSource:
                 self.pending, self.eof = self._more(data)
                 continue
             block, self.pending, self.eof = data[:cut], data[cut:], eof
-            chunk = self._arrow_block(block)
+            yield _Block(block, self.line)
             self.line += len(_line_ends(block)) + (0 if block.endswith((b"\n", b"\r")) else 1)
-            if chunk is not None:
-                yield chunk
-
-    def _arrow_block(self, block: bytes) -> _Chunk | None:
-        """Arrow's parser on a block without quotes (the csv module if a row is ragged)."""
-        width = len(self.header)
-        names = [f"c{i}" for i in range(width)]
-        try:
-            table = pcsv.read_csv(
-                pa.py_buffer(block),
-                read_options=pcsv.ReadOptions(
-                    column_names=names, block_size=1 << 20, use_threads=True
-                ),
-                parse_options=pcsv.ParseOptions(
-                    delimiter=self.delimiter, quote_char=False, ignore_empty_lines=True
-                ),
-                convert_options=pcsv.ConvertOptions(
-                    column_types=dict.fromkeys(names, pa.string()),
-                    strings_can_be_null=False,
-                    check_utf8=True,
-                ),
-            )
-        except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
-            return self._rows_chunk(self._csv_rows(_decoded(block, self.where, self.line)))
-        columns = [_as_arrow(table.column(i)) for i in range(width)]
-        if not columns or not len(columns[0]):
-            return None
-        for c in columns:
-            if pc.max(pc.binary_length(c)).as_py() > MAX_CELL_CHARS:
-                raise BatchError(self._cell_too_long())
-        blank = pc.equal(columns[0], "")
-        for c in columns[1:]:
-            blank = pc.and_(blank, pc.equal(c, ""))
-        if pc.any(blank).as_py():
-            keep = pc.invert(blank)
-            columns = [pc.filter(c, keep) for c in columns]
-        plain = not any(c in block for c in (_DELIM_MARK.encode(), _QUOTE_MARK.encode()))
-        return _Chunk(columns, np.full(len(columns[0]), "", dtype=object), self.line, plain)
-
-    def _cell_too_long(self) -> str:
-        return (
-            f"{self.where}: not a readable CSV file (a cell near line {self.line} is longer "
-            f"than {MAX_CELL_CHARS:,} characters, the limit for one cell)"
-        )
-
-    def _csv_rows(self, text: str) -> list[list[str]]:
-        try:
-            return [
-                r
-                for r in csv.reader(io.StringIO(text, newline=""), delimiter=self.delimiter)
-                if any(r)
-            ]
-        except csv.Error as exc:
-            raise BatchError(f"{self.where}: not a readable CSV file ({exc})") from None
-
-    def _rows_chunk(self, rows: list[list[str]]) -> _Chunk | None:
-        """A chunk from csv-module rows: short rows padded, long ones cut with a message."""
-        if not rows:
-            return None
-        width = len(self.header)
-        errors = np.full(len(rows), "", dtype=object)
-        for i, r in enumerate(rows):
-            if len(r) != width:
-                if len(r) > width:
-                    errors[i] = (
-                        f"row has {len(r)} cells but the header has {width}: values "
-                        "may be shifted (an unquoted comma?)"
-                    )
-                rows[i] = (r + [""] * (width - len(r)))[:width]
-        columns = [pa.array(list(c), type=pa.string()) for c in zip(*rows)]
-        return _Chunk(columns, errors, self.line)
 
     def _csv_module_chunks(self) -> Iterator[_Chunk]:
         raw = io.BufferedReader(_ChainedReader(self.pending, self.handle), BLOCK_BYTES)
@@ -874,8 +907,8 @@ class _TextSource:
             if row is not None and any(row):
                 rows.append(row)
             if rows and (row is None or len(rows) == CHUNK_ROWS):
-                self.line = start + reader.line_num
-                chunk = self._rows_chunk(rows)
+                line, self.line = self.line, start + reader.line_num
+                chunk = self.parser.rows_chunk(rows, line)
                 rows = []
                 if chunk is not None:
                     yield chunk
@@ -999,10 +1032,14 @@ class _Output:
                 f"{self.path}: the output would overwrite the input; choose another name"
             )
         self.mode = _target_mode(self.path)
-        fd, self.tmp = tempfile.mkstemp(
-            prefix=f".{self.path.name}.", suffix=".part", dir=self.path.parent
-        )
-        self.handle = os.fdopen(fd, "wb")
+        try:
+            fd, self.tmp = tempfile.mkstemp(
+                prefix=f".{self.path.name}.", suffix=".part", dir=self.path.parent
+            )
+            self.handle = os.fdopen(fd, "wb")
+        except BaseException:  # an interruption between creating and holding the file
+            self.abandon()
+            raise
 
     def write(self, data: bytes) -> None:
         if self.handle is None:  # a text-only sys.stdout (tests capturing output)
@@ -1081,7 +1118,13 @@ def _with_last(items: Iterator[_Chunk]) -> Iterator[tuple[_Chunk, bool]]:
 
 
 def run_batch(
-    in_path, out_path, *, progress: bool | None = None, stream=None, all_columns: bool = False
+    in_path,
+    out_path,
+    *,
+    progress: bool | None = None,
+    stream=None,
+    all_columns: bool = False,
+    workers: int | None = None,
 ) -> BatchSummary:
     """Compute the bedside derived values for every row of ``in_path`` into ``out_path``.
 
@@ -1092,6 +1135,9 @@ def run_batch(
     and ``SystemExit`` included. ``progress`` None shows a bar on ``stream`` (standard
     error) only when it is a terminal. ``all_columns`` adds every output of
     :func:`model.bedside.derive` (``ALL_OUTPUTS``) instead of ``BATCH_OUTPUTS``.
+    ``workers`` chunks are computed at once (default: 2, at most the machine's cores); in
+    a single-threaded process with fork (the command) they are worker processes, else
+    threads. The output is the same whatever the number.
 
     Raises
     ------
@@ -1119,46 +1165,110 @@ def run_batch(
     out_kind = "csv" if str(out_path) == "-" else file_format(out_path, "output")
     source = _open_source(in_path)
     try:
-        return _run(source, in_path, out_path, out_kind, stream, progress, all_columns)
+        return _run(source, in_path, out_path, out_kind, stream, progress, all_columns, workers)
     finally:
         source.close()
 
 
-def _run(source, in_path, out_path, out_kind, stream, progress, all_columns) -> BatchSummary:
+@dataclass
+class _Job:
+    """What a worker needs to compute any chunk of one run (sent once per chunk; small)."""
+
+    parser: _Parser | None
+    header: list[str]
+    outputs: tuple[str, ...]
+    delimiter: str
+    kind: str
+    where: str
+
+
+def _compute(job: _Job, piece: _Block | _Chunk) -> tuple[int, int, Any]:
+    """(rows, rows with an error, CSV bytes or an Arrow table) of one piece of the input."""
+    chunk = job.parser.parse(piece) if job.parser is not None else piece
+    if not isinstance(chunk, _Chunk):
+        return 0, 0, None
+    decimal_comma = job.delimiter == ";"
+    derived, errors = derive_columns(
+        dict(zip(job.header, chunk.columns)),
+        decimal_comma=decimal_comma,
+        errors=chunk.errors,
+        source=job.where,
+    )
+    n_errors = int(np.count_nonzero(errors != ""))
+    n = len(errors)
+    if job.kind == "csv":
+        return (
+            n,
+            n_errors,
+            _csv_lines(chunk, derived, errors, job.outputs, job.delimiter, decimal_comma, None),
+        )
+    columns = list(chunk.columns) + _arrow_outputs(derived, errors, job.outputs)
+    return n, n_errors, pa.Table.from_arrays(columns, names=job.header + list(job.outputs))
+
+
+def _with_row_count(lines: bytes, rows: int) -> bytes:
+    """CSV lines whose last row gets the row count in its last (``END_COLUMN``) cell."""
+    assert lines.endswith(b"\n")
+    return lines[:-1] + str(rows).encode("ascii") + b"\n"
+
+
+def _worker_start() -> None:
+    """A worker process leaves interruptions to the command (no traceback per worker)."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    for name in ("SIGTERM", "SIGHUP"):
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), signal.SIG_DFL)
+
+
+def _pool(workers: int | None) -> tuple[Executor, int]:
+    """Worker processes when the caller is a plain single-threaded process on a system
+    with fork (the command), else threads (a server, a notebook, a test runner): forking a
+    process whose other threads may hold locks is unsafe."""
+    n = workers if workers is not None else min(_WORKERS, os.cpu_count() or 1)
+    n = max(int(n), 1)
+    if n > 1 and "fork" in mp.get_all_start_methods() and threading.active_count() == 1:
+        ctx = mp.get_context("fork")
+        return ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_worker_start), n
+    return ThreadPoolExecutor(max_workers=n, thread_name_prefix="o2transit-batch"), n
+
+
+def _stop(pool: Executor) -> None:
+    """Stop at once: cancel queued work and end worker processes (an interruption)."""
+    with contextlib.suppress(Exception):
+        pool.shutdown(wait=False, cancel_futures=True)
+    for proc in list((getattr(pool, "_processes", None) or {}).values()):
+        with contextlib.suppress(Exception):
+            proc.terminate()
+
+
+def _run(
+    source, in_path, out_path, out_kind, stream, progress, all_columns, workers=None
+) -> BatchSummary:
     header = source.header
     _column_map(header, str(in_path))  # file-level problems before anything is written
     outputs = ALL_OUTPUTS if all_columns else BATCH_OUTPUTS
     delimiter = source.delimiter
-    decimal_comma = delimiter == ";"
-    output = _Output(out_path, in_path, out_kind)
+    pool, n_workers = _pool(workers)  # before Arrow starts its threads (fork safety)
+    try:
+        output = _Output(out_path, in_path, out_kind)
+    except BaseException:
+        pool.shutdown(wait=False)
+        raise
     bar = _Progress(stream, progress)
     metadata = {
         "o2transit.caution": CAUTION,
         "o2transit.version": _version(),
         "o2transit.columns_added": ",".join(outputs),
     }
-
-    def compute(chunk: _Chunk, last: bool, rows_before: int):
-        derived, errors = derive_columns(
-            dict(zip(header, chunk.columns)),
-            decimal_comma=decimal_comma,
-            errors=chunk.errors,
-            source=str(in_path),
-        )
-        n_errors = int(np.count_nonzero(errors != ""))
-        n = len(errors)
-        if output.kind == "csv":
-            end = str(rows_before + n) if last else None
-            return (
-                n,
-                n_errors,
-                _csv_lines(chunk, derived, errors, outputs, delimiter, decimal_comma, end),
-            )
-        columns = list(chunk.columns) + _arrow_outputs(derived, errors, outputs)
-        return n, n_errors, pa.Table.from_arrays(columns, names=header + list(outputs))
+    job = _Job(
+        getattr(source, "parser", None), header, outputs, delimiter, output.kind, str(in_path)
+    )
+    pieces = source.pieces() if hasattr(source, "pieces") else source.chunks()
 
     rows = n_errors = 0
-    pool = ThreadPoolExecutor(max_workers=_THREADS, thread_name_prefix="o2transit-batch")
+    held: bytes | None = None  # the last CSV lines, written with the row count at the end
     try:
         if output.kind == "csv":
             names = pa.array(header + list(outputs) + [END_COLUMN], type=pa.string())
@@ -1166,35 +1276,37 @@ def _run(source, in_path, out_path, out_kind, stream, progress, all_columns) -> 
             output.write((delimiter.join(cells) + "\n").encode("utf-8"))
         bar.update(0, 0.0)
         pending: list[Future] = []
-        queued = 0
-        empty = True
 
         def drain(keep: int) -> None:
-            nonlocal rows, n_errors
+            nonlocal rows, n_errors, held
             while len(pending) > keep:
                 n, e, result = pending.pop(0).result()
+                if not n:
+                    continue
                 if output.kind == "csv":
-                    output.write(result)
+                    if held is not None:
+                        output.write(held)
+                    held = result
                 else:
                     output.write_table(result, metadata)
                 rows += n
                 n_errors += e
                 bar.update(rows, source.progress())
 
-        for chunk, last in _with_last(source.chunks()):
-            empty = False
-            pending.append(pool.submit(compute, chunk, last, queued))
-            queued += len(chunk.errors)
-            drain(_THREADS)
+        for piece in pieces:
+            pending.append(pool.submit(_compute, job, piece))
+            drain(n_workers)
         drain(0)
-        if empty:
+        if not rows:
             raise BatchError(f"{in_path}: no data rows under the header; nothing to derive")
+        if held is not None:
+            output.write(_with_row_count(held, rows))
         bar.update(rows, 1.0, final=True)
         bar.close()
         output.finish(rows)
     except BaseException:
-        pool.shutdown(wait=False, cancel_futures=True)
-        output.abandon()
+        output.abandon()  # first: nothing below may stop it
+        _stop(pool)
         raise
     pool.shutdown(wait=True)
     where = "-" if output.to_stdout else str(output.path)

@@ -220,7 +220,7 @@ DERIVED_FIELDS: dict[str, tuple[str, str, int]] = {
     "extraction_ratio": ("", "O2 extraction ratio", 3),
     "pco2_gap_mmhg": ("mmHg", "Venous-arterial PCO2 gap", 1),
     "p50_insitu_mmhg": ("mmHg", "In-situ P50 (single point, Hill)", 1),
-    "p50_standard_mmhg": ("mmHg", "Standard P50 (pH 7.40, PCO2 40, 37 degC)", 1),
+    "p50_standard_mmhg": ("mmHg", "Standard P50 (pH 7.40, PCO2 40 mmHg, 37 degC)", 1),
     "alpha_stat_pao2_mmhg": ("mmHg", "PaO2, alpha-stat (as measured at 37 degC)", 1),
     "alpha_stat_paco2_mmhg": ("mmHg", "PaCO2, alpha-stat (as measured at 37 degC)", 1),
     "alpha_stat_ph": ("", "pH, alpha-stat (as measured at 37 degC)", 3),
@@ -538,7 +538,7 @@ class _Messages:
     def text(self, keep=True) -> _Text:
         """The joined messages per element ("" where ``keep`` is False), as codes."""
         bits = np.where(keep, self.bits, 0).ravel()
-        if len(self.messages) <= 20:  # a lookup table instead of a sort
+        if len(self.messages) <= 12:  # a lookup table (4096 entries at most) instead of a sort
             present = np.zeros(1 << len(self.messages), dtype=bool)
             present[bits] = True
             present[0] = True

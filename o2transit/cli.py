@@ -197,6 +197,14 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="never show the progress bar (default: shown on a terminal only)",
     )
+    bt.add_argument(
+        "--workers",
+        type=_workers,
+        default=None,
+        metavar="N",
+        help="chunks of rows computed at once, in worker processes (default: 2, or 1 on a "
+        "one-core machine); the output is the same for any N",
+    )
     sv = sub.add_parser(
         "serve",
         help="start the dashboard on this machine",
@@ -280,6 +288,17 @@ class _Signalled(BaseException):
         self.signum = signum
 
 
+def _workers(text: str) -> int:
+    """``--workers``: a whole number from 1 to 64."""
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number (1-64)") from None
+    if not 1 <= n <= 64:
+        raise argparse.ArgumentTypeError(f"{n} is outside the allowed range 1-64")
+    return n
+
+
 def _raise_signalled(signum, _frame) -> None:
     raise _Signalled(signum)
 
@@ -297,6 +316,7 @@ def _batch(args) -> int:
             args.input,
             args.output,
             all_columns=args.all_columns,
+            workers=args.workers,
             progress=False if args.no_progress else None,
         )
     except BrokenPipeError:

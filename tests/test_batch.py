@@ -306,6 +306,49 @@ def test_chunks_do_not_change_results(tmp_path):
     assert {r["pao2_fio2_ratio"] for r in rows if not r["error"]} == {"200"}
 
 
+def test_worker_processes_give_the_same_bytes_as_one_worker(tmp_path):
+    # The command computes chunks in worker processes (fork); a quoted block, a ragged row
+    # and blank lines among several chunks must come out byte for byte as with one worker.
+    import subprocess
+    import sys
+
+    src = tmp_path / "many.csv"
+    base = "80,40,7.40,0.95,12,0.4,37"
+    rows = [base] * (3 * CHUNK_ROWS)
+    rows[5] = "80,40,7.40,0.95,12,0.4,99"
+    rows[CHUNK_ROWS + 1] = ""
+    rows[2 * CHUNK_ROWS] = '"80",40,7.40,0.95,12,0.4,37'  # from here on, the csv module
+    rows[2 * CHUNK_ROWS + 9] = base + ",1"
+    src.write_text(
+        "case_label,"
+        + ",".join(REQUIRED)
+        + "\n"
+        + "\n".join(f"bed {i}," + r if r else "" for i, r in enumerate(rows))
+        + "\n"
+    )
+    outs = []
+    for n in ("1", "3"):
+        out = tmp_path / f"o{n}.csv"
+        done = subprocess.run(
+            [sys.executable, "-m", "o2transit", "batch", str(src), "-o", str(out), "--workers", n],
+            capture_output=True,
+            text=True,
+            timeout=300,
+        )
+        assert done.returncode == 0, done.stderr
+        outs.append(out.read_bytes())
+    assert outs[0] == outs[1]
+    got = _rows(tmp_path / "o3.csv")
+    assert len(got) == 3 * CHUNK_ROWS - 1 and got[-1]["rows_in_output"] == str(len(got))
+    assert "temperature_c = 99 degC" in got[5]["error"]
+
+
+def test_worker_count_is_checked():
+    with pytest.raises(SystemExit) as stop:
+        main(["batch", "in.csv", "-o", "out.csv", "--workers", "0"])
+    assert stop.value.code == 2
+
+
 @pytest.mark.parametrize(
     "header, message",
     [
@@ -442,7 +485,9 @@ def test_cli_exit_2(tmp_path, capsys, kind):
 
 # --- files, formats, targets, signals (issues 14 and 18) -------------------------------
 
-GOOD = ",".join(("case",) + REQUIRED) + "\nc1,80,40,7.4,0.95,12,0.4,37\nc2,90,40,7.4,0.96,12,0.4,37\n"
+GOOD = (
+    ",".join(("case",) + REQUIRED) + "\nc1,80,40,7.4,0.95,12,0.4,37\nc2,90,40,7.4,0.96,12,0.4,37\n"
+)
 
 
 def _src(tmp_path, text=GOOD, name="in.csv"):
