@@ -16,33 +16,46 @@ All functions are pure and numpy-vectorised; the state of one person on one nigh
 
 References
 ----------
-1. Wachsmuth NB, Kley M, Spielvogel H, et al. Changes in blood gas transport of altitude
-   native soccer players near sea-level and sea-level native soccer players at altitude
-   (ISA3600). Br J Sports Med 2013; 47(Suppl 1):i93-i99 (title and authors from memory;
-   "ISA3600": 20 sea-level footballers, 13 days at 3600 m).
+1. Wachsmuth N, Kley M, Spielvogel H, Aughey RJ, Gore CJ, et al. Changes in blood gas
+   transport of altitude native soccer players near sea-level and sea-level native soccer
+   players at altitude (ISA3600). Br J Sports Med 2013; 47(Suppl 1):i93-i99 (title, authors
+   and first page checked against the journal page; last page from memory). "ISA3600": 20
+   sea-level (Australian) footballers, 13 days at 3600 m.
 2. Grocott MPW, Martin DS, Levett DZH, et al. Arterial blood gases and oxygen content in
    climbers on Mount Everest. N Engl J Med 2009; 360:140-149.
 3. West JB, Hackett PH, Maret KH, et al. Pulmonary gas exchange on the summit of Mount
-   Everest. J Appl Physiol 1983; 55:678-687.
+   Everest. J Appl Physiol 1983; 55:678-687 (from memory: not checked against the paper;
+   the same expedition's pressures, 253 mmHg on the summit and 283.6 at 8050 m, are in West
+   JB, Lahiri S, Maret KH, et al. Barometric pressures at extreme altitudes on Mt. Everest:
+   physiological significance. J Appl Physiol 1983; 54:1188-1194, checked).
 4. West JB. Human physiology at extreme altitudes on Mount Everest. Science 1984;
    223:784-788 (from memory).
 5. Wagner PD, Wagner HE, Groves BM, Cymerman A, Houston CS. Hemoglobin P50 during a
    simulated ascent of Mt. Everest, Operation Everest II. High Alt Med Biol 2007; 8:32-42
-   (title and authors from memory).
+   (doi:10.1089/ham.2006.1049; title, authors and abstract checked, volume and pages from
+   memory). Five subjects decompressed over 42 days; blood sampled at PB 760, 429, 347, 282
+   and 253 mmHg.
 6. Mairbaeurl H, Oelz O, Baertsch P. Interactions between Hb, Mg, DPG, ATP, and Cl
-   determine the change in Hb-O2 affinity at high altitude. J Appl Physiol 1993; 74:40-48.
+   determine the change in Hb-O2 affinity at high altitude. J Appl Physiol 1993; 74:40-48
+   (abstract read; title, authors and pages from memory).
 7. Beidleman BA, Staab JE, Muza SR, Sawka MN. Quantitative model of hematologic and plasma
    volume responses after ascent and acclimation to moderate to high altitudes. Am J Physiol
-   Regul Integr Comp Physiol 2017; 312:R265-R272 (pages from memory).
+   Regul Integr Comp Physiol 2017; 312:R265-R272 (abstract read; title, authors and pages
+   from memory).
 8. Siebenmann C, Cathomen A, Hug M, et al. Hemoglobin mass and intravascular volume kinetics
    during and after exposure to 3,454-m altitude. J Appl Physiol 2015; 119:1194-1201
-   (authors from memory).
-9. Ryan BJ, Wachsmuth NB, Schmidt WF, et al. AltitudeOmics: rapid hemoglobin mass
-   alterations with early acclimatization to and de-acclimatization from 5260 m in healthy
-   humans. PLoS One 2014; 9:e108788.
+   (title, journal, volume, pages and abstract checked; authors from memory).
+9. Ryan BJ, Wachsmuth NB, Schmidt WF, Byrnes WC, Julian CG, Lovering AT, Subudhi AW,
+   Roach RC. AltitudeOmics: rapid hemoglobin mass alterations with early acclimatization to
+   and de-acclimatization from 5260 m in healthy humans. PLoS One 2014; 9:e108788 (title,
+   authors and article number checked; the Hb-mass and plasma-volume numbers read in the
+   FASEB abstract of the same study).
 10. Sato M, Severinghaus JW, Bickler P. Time course of augmentation and depression of
-    hypoxic ventilatory responses at altitude. J Appl Physiol 1994; 77:313-316 (authors,
-    volume and pages from memory).
+    hypoxic ventilatory responses at altitude. J Appl Physiol 1994; 77:313-316 (title and
+    abstract checked: six subjects, 12 days at 3810 m, PB about 488 mmHg; authors, volume and
+    pages from memory).
+11. Luks AM, Swenson ER. Pulse oximetry at high altitude. High Alt Med Biol 2011;
+    12:109-119 (abstract checked).
 """
 
 from __future__ import annotations
@@ -85,17 +98,31 @@ points, so at most 1 d). 2,3-DPG: 79 % of the change in 22 h at 4559 m [6]. Plas
 over the first weeks [7, 8] (our choice). Erythropoiesis: the onset of Hb-mass growth, fitted
 with the rest of the Hb-mass parameters to [1, 8, 9] (see :func:`hb_mass_ceiling`)."""
 
-VENTILATION_SD_MMHG = 1.5
+VENTILATION_SD_MMHG = 3.7
 """Between-person SD of the hypoxic ventilatory response, as an offset of PaCO2 at altitude
-[mmHg]. Fitted (least squares) to the day-2 and day-12 SpO2 spread at 3810 m of Sato et al.
-1994 [10], SD 2.3 and 1.5 points (the chain gives 2.3 and 1.4); it stands for all the
-between-person spread (ventilation, gas exchange, P50, the oximeter), not ventilation
-alone."""
+[mmHg]. Fitted (least squares, one parameter) to the SpO2 spread of Sato et al. 1994 [10] at
+3810 m: six subjects, SpO2 86.2 +- 2.3 on day 2 and 91.0 +- 1.5 on day 12. The abstract
+labels its first +- as SE, so we read these as SEs too: between-person SDs 2.3 sqrt(6) = 5.6
+and 1.5 sqrt(6) = 3.7 points (the chain gives 5.7 and 3.6). It stands for all the
+between-person spread (ventilation, gas exchange, P50, the oximeter), not ventilation alone;
+higher up the offset shrinks with PaCO2 (:func:`person_offset_weight`) but acts on a steeper
+part of the curve; the spread there is checked against no published SD.
+
+Before issue 15 the +- were read as SDs (fit 1.5 mmHg); that reading makes the spread of six
+people narrower than the between-person spread of SpO2 at altitude reported elsewhere (Luks
+and Swenson 2011 [11]: the normal saturation at an altitude "should be viewed as a range of
+values")."""
 
 RENAL_SLOPE = 0.46
 """Chronic fall of HCO3 per mmHg fall of PaCO2 that the kidney drives toward [-]. Fitted to
 the absolute HCO3 of ISA3600 after 12-16 d at 3600 m (20.1 mmol/L at PaCO2 30.7, from our
 baseline 24 mmol/L at 40 mmHg) [1]; their own ratio from their baseline 24.8 is 0.52."""
+
+HCO3_FLOOR_MMOL_L = 8.0
+"""Lowest plasma bicarbonate the acute buffering or the kidney takes a person to [mmol/L]. A
+guard for baselines far from normal (a baseline PaCO2 of 150 mmHg would otherwise drive the
+renal target below zero); for a normal baseline it never acts, since 8400 m after weeks gives
+11.7 mmol/L (climbers there about 10-11, Grocott et al. 2009, from memory). Our choice."""
 
 _OFFSET_FULL_PIO2_MMHG = 100.0  # the hypoxic offset is full below this inspired PO2 (~3000 m)
 
@@ -210,21 +237,37 @@ def acute_paco2(
     return np.maximum(acclimatized_paco2(x, baseline_paco2_mmhg), acute * scale)
 
 
+OFFSET_REFERENCE_PIO2_MMHG = 92.0
+"""Inspired PO2 at which a person's offset is its face value [mmHg]: 3810 m on the mountain
+model (91.98), where :data:`VENTILATION_SD_MMHG` is fitted to Sato et al. 1994."""
+
+
 def person_offset_weight(pio2_mmhg):
     """How much of a person's ventilatory offset acts at an inspired PO2 [-].
 
-    ``w = clip((149.1 - x) / (149.1 - 100), 0, 1)``: none at sea level, all of it from an
-    inspired PO2 of 100 mmHg (about 3000 m) up. Our choice: the offset is a difference in the
-    response to hypoxia, so it grows in as the hypoxia does.
+    ``w = clip((149.1 - x) / (149.1 - 100), 0, 1) P_acc(x) / P_acc(92.0)``: none at sea
+    level, growing in up to an inspired PO2 of 100 mmHg (about 3000 m), and from there in
+    proportion to the acclimatized PaCO2 (:func:`acclimatized_paco2`), 1 at 3810 m.
+
+    Notes
+    -----
+    The ramp is our choice: the offset is a difference in the response to hypoxia, so it
+    grows in as the hypoxia does. The proportion follows from ``PaCO2 = k VCO2 / VA``: a
+    person whose alveolar ventilation is a given fraction above or below the typical
+    lowlander's has a PaCO2 that fraction away, so the difference in mmHg shrinks as PaCO2
+    falls (0.82 at 5300 m, 0.48 at 8000 m). The between-person SD of end-tidal PCO2 in a
+    chamber falls faster still, 2.5 mmHg at 3000 m and 1.3 at 5500 m (Physiol Rep 2020,
+    PMC7058173, Table 3, read; exposure times not read).
 
     Examples
     --------
-    >>> [float(person_offset_weight(x)) for x in (149.1, 124.55, 80.0)]
-    [0.0, 0.5, 1.0]
+    >>> [round(float(person_offset_weight(x)), 3) for x in (149.1, 124.55, 92.0, 74.7)]
+    [0.0, 0.621, 1.0, 0.816]
     """
     x = np.asarray(pio2_mmhg, dtype=float)
     span = SEA_LEVEL_PIO2_MMHG - _OFFSET_FULL_PIO2_MMHG
-    return np.clip((SEA_LEVEL_PIO2_MMHG - x) / span, 0.0, 1.0)
+    ramp = np.clip((SEA_LEVEL_PIO2_MMHG - x) / span, 0.0, 1.0)
+    return ramp * acclimatized_paco2(x) / acclimatized_paco2(OFFSET_REFERENCE_PIO2_MMHG)
 
 
 def high_point_paco2(
@@ -259,7 +302,8 @@ def high_point_paco2(
     References
     ----------
     1. Rahn H, Otis AB. Am J Physiol 1949; 157:445-462.
-    2. Sato M, Severinghaus JW, Bickler P. J Appl Physiol 1994; 77:313-316 (from memory).
+    2. Sato M, Severinghaus JW, Bickler P. J Appl Physiol 1994; 77:313-316 (title and
+       abstract checked; volume and pages from memory).
     3. West JB et al. J Appl Physiol 1983; 55:678-687.
 
     Examples
@@ -363,7 +407,7 @@ def dpg_target(pio2_mmhg, baseline_dpg_mmol_l=5.0, *, rise_at_4559m=0.28, expone
     ----------
     1. Mairbaeurl H, Oelz O, Baertsch P. J Appl Physiol 1993; 74:40-48.
     2. Wagner PD et al. Hemoglobin P50 during a simulated ascent of Mt. Everest, Operation
-       Everest II. High Alt Med Biol 2007; 8:32-42 (from memory).
+       Everest II. High Alt Med Biol 2007; 8:32-42 (abstract checked; pages from memory).
 
     Examples
     --------
@@ -381,7 +425,10 @@ DPG_P50 = {"normal_mmol_l": 5.0, "depleted_ratio": 18.0 / 26.86, "half_mmol_l": 
 """Saturating 2,3-DPG -> standard P50 relation of :func:`dpg_p50_ratio`: P50 at no DPG as a
 fraction of the normal P50 (stored blood, about 18 mmHg against 26.86; from memory), and the
 half-saturation constant fitted to Operation Everest II (standard P50 28.2 -> 33.1 mmHg for
-DPG x 2.24) [5]."""
+DPG x 2.24) [5]. The abstract gives DPG 3.8 mmol/L at PB 282 and the standard P50 33.1 "on
+the summit" (PB 253); we pair the two as one point. Checked against stored blood: DPG down
+about 90 % with P50 down about 30 % (Scott et al. 2016, abstract read); the relation gives
+-28 %."""
 
 
 def dpg_p50_ratio(dpg_mmol_l, *, normal_mmol_l=5.0, depleted_ratio=18.0 / 26.86, half_mmol_l=8.31):
@@ -399,8 +446,8 @@ def dpg_p50_ratio(dpg_mmol_l, *, normal_mmol_l=5.0, depleted_ratio=18.0 / 26.86,
         D0 [mmol/L], the normal of the dissociation curves (Siggaard-Andersen 1990).
     depleted_ratio : float
         r0 [-], P50 with no DPG over the normal P50: stored blood depleted of DPG reaches
-        about 18 mmHg (from memory; the stored-blood data the issue points to are Scott et
-        al. 2016), against 26.86 for fresh blood.
+        about 18 mmHg (from memory), against 26.86 for fresh blood. Check: red cells stored
+        24 +- 8 d lost about 90 % of their DPG and 30 % of their P50 [3]; ``r(0.5)`` is 0.72.
     half_mmol_l : float
         K [mmol/L], fitted so that DPG x 2.24 raises the standard P50 by 33.1 / 28.2 as in
         Operation Everest II [1].
@@ -424,11 +471,13 @@ def dpg_p50_ratio(dpg_mmol_l, *, normal_mmol_l=5.0, depleted_ratio=18.0 / 26.86,
 
     References
     ----------
-    1. Wagner PD et al. High Alt Med Biol 2007; 8:32-42 (from memory).
+    1. Wagner PD, Wagner HE, Groves BM, Cymerman A, Houston CS. High Alt Med Biol 2007;
+       8:32-42 (abstract checked; volume and pages from memory).
     2. Mairbaeurl H et al. J Appl Physiol 1993; 74:40-48.
-    3. Scott AV, Yazer MH, Kor DJ, et al. 2,3-Diphosphoglycerate concentrations in
-       autologous salvaged versus stored red blood cells and in surgical patients after
-       transfusion. Anesth Analg 2016; 122:616-623 (from memory).
+    3. Scott AV, Nagababu E, Johnson DJ, Kebaish KM, et al. 2,3-Diphosphoglycerate
+       concentrations in autologous salvaged versus stored red blood cells and in surgical
+       patients after transfusion. Anesth Analg 2016; 122:616-623 (doi:10.1213/
+       ANE.0000000000001071; title, authors and abstract checked, pages from memory).
 
     Examples
     --------
@@ -538,12 +587,15 @@ def hb_mass_ceiling(altitude_m, *, per_1000m=0.0292, threshold_m=1650.0, cap=0.2
     Notes
     -----
     Fitted to the plateau of +5.26 % reached after 20-24 d at 3454 m [1]; the cap is the
-    Hb mass of highlanders at 3900 m over that of lowlanders, 940 against 740 g (+27 %, Schmidt
-    et al. 2022, from memory).
+    Hb mass of healthy highlanders born at about 3900 m over that of lowlanders at 420 m,
+    940 +- 105 against 740 +- 112 g (+27 %) [2].
 
     References
     ----------
     1. Siebenmann C et al. J Appl Physiol 2015; 119:1194-1201.
+    2. Schmidt WFJ, Wachsmuth N, Jimenez J, Soria R. Hemoglobin mass and blood volume in
+       patients with altitude-related polycythemia. Front Physiol 2022; 13:867108 (title,
+       authors and abstract checked).
 
     Examples
     --------
@@ -761,7 +813,8 @@ def acclimatization_step(
        night: higher up, an acclimatized person keeps the acclimatization already gained);
        ``d`` is the person's own offset (:func:`person_offset_weight`);
     2. kidney: ``HCO3 <- min(HCO3, 24 + 0.2 dPaCO2)`` (acute blood buffering), then
-       ``HCO3 -> 24 + 0.5 dPaCO2``, tau 1 d; pH by Henderson-Hasselbalch;
+       ``HCO3 -> 24 + 0.46 dPaCO2`` (:data:`RENAL_SLOPE`), tau 1 d, neither below
+       :data:`HCO3_FLOOR_MMOL_L`; pH by Henderson-Hasselbalch;
     3. 2,3-DPG toward :func:`dpg_target`, tau 0.6 d;
     4. plasma volume: a first-day part toward :func:`plasma_volume_target` (tau 1 d) and a
        slow part toward :func:`plasma_volume_slow_target` (tau 7 d); Hb mass grows by
@@ -840,8 +893,11 @@ def acclimatization_step(
     person = np.asarray(person_offset_mmhg, dtype=float) * person_offset_weight(x)
     paco2 = np.maximum(PACO2_FLOOR_MMHG, p_acute + s + person)
     d_paco2 = paco2 - np.asarray(baseline_paco2_mmhg, dtype=float)
-    hco3 = np.minimum(state.hco3_mmol_l, baseline_hco3_mmol_l + 0.2 * d_paco2)
-    hco3 = relax(hco3, baseline_hco3_mmol_l + RENAL_SLOPE * d_paco2, "renal")
+    hco3 = np.maximum(
+        HCO3_FLOOR_MMOL_L, np.minimum(state.hco3_mmol_l, baseline_hco3_mmol_l + 0.2 * d_paco2)
+    )
+    renal = np.maximum(HCO3_FLOOR_MMOL_L, baseline_hco3_mmol_l + RENAL_SLOPE * d_paco2)
+    hco3 = relax(hco3, renal, "renal")
     dpg = relax(state.dpg_mmol_l, dpg_target(x, baseline_dpg_mmol_l), "dpg")
     pv_slow = relax(state.plasma_volume_slow, plasma_volume_slow_target(h), "plasma_volume_slow")
     pv_fast = relax(

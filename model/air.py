@@ -8,6 +8,13 @@ from .units import MMHG_PER_KPA
 
 PRESSURE_MODELS = ("standard", "mountain")
 
+PRESSURE_MODEL_DEFAULT = "mountain"
+"""The pressure model the chain (:func:`model.solve_transport`) and the ascent schedules use
+for a place given by its altitude: West's fit to pressures measured on high mountains, since
+a case at altitude is a place on a mountain (at the 5400 m Everest base camp the ICAO
+atmosphere gives 384.2 mmHg, West's fit 398.9, and 400.4 was measured: West et al., J Appl
+Physiol 1983; 54:1188-1194). :func:`barometric_pressure` itself keeps the standard atmosphere as its default."""
+
 _R0_M = 6356766.0  # Earth radius used by ICAO to convert geometric to geopotential height [m]
 
 

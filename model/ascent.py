@@ -22,6 +22,7 @@ from pathlib import Path
 import numpy as np
 
 from .acclimatization import (
+    HCO3_FLOOR_MMOL_L,
     VENTILATION_SD_MMHG,
     acclimatization_step,
     baseline_state,
@@ -35,6 +36,7 @@ from .acclimatization import (
 )
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2
 from .dissociation import NORMAL_DPG_MMOL_L, p50
+from .files import read_text
 from .limits import INPUT_LIMITS
 from .scenario import ScenarioError, read_toml
 from .transport import TransportResult, solve_transport
@@ -382,13 +384,10 @@ def days_to_csv(days) -> str:
 
 
 def read_days_csv(path) -> tuple[AscentDay, ...]:
-    """Read days from a CSV file (see :func:`days_from_csv`)."""
+    """Read days from a CSV file (see :func:`days_from_csv`) through the one safe reader,
+    :func:`model.files.read_text` (special files, empty, oversized, not UTF-8 refused)."""
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise AscentError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
-    return days_from_csv(text, str(p))
+    return days_from_csv(read_text(p, AscentError), str(p))
 
 
 def guidance_flags(sleep_altitude_m) -> list[list[str]]:
@@ -542,6 +541,8 @@ def run_ascent(
     The band: the same schedule for a person whose ventilatory offset is ``BAND_Z`` SDs
     (``offset_sd_mmhg``) above and below ``person_offset_mmhg``; with ``reading_sd_pct`` the
     scatter of one oximeter reading is added in quadrature (for a band fitted to readings).
+    Where the chain cannot solve a band edge (that person has no answer at that altitude,
+    e.g. delivery below VO2 at the low edge), the edge is drawn at 0 (low) or 1 (high).
 
     Parameters
     ----------
@@ -688,7 +689,9 @@ def _acclimatize(profiles, t: dict, offsets: np.ndarray, copies: int):
 def _acute(morning: dict, x_prev, x_a, h_a, paco2_0, co_0, offsets) -> dict:
     """Chain state at a point reached within hours of the morning (a high point, a reading)."""
     paco2 = high_point_paco2(x_a, x_prev, morning["ventilation_offset_mmhg"], paco2_0, offsets)
-    hco3 = np.minimum(morning["hco3_mmol_l"], 24.0 + 0.2 * (paco2 - paco2_0))
+    hco3 = np.maximum(
+        HCO3_FLOOR_MMOL_L, np.minimum(morning["hco3_mmol_l"], 24.0 + 0.2 * (paco2 - paco2_0))
+    )
     return {
         "paco2_mmhg": paco2,
         "ph": ph_henderson_hasselbalch(hco3, paco2),
@@ -779,15 +782,36 @@ def run_ascents(
     highs.update(
         barometric_pressure_mmhg=t["pb_h"][valid], fio2=t["fio2"][valid], vo2_ml_min=vo2[valid]
     )
-    res, _dpg, p50_std, rq = _solve([nights, highs], transport_kw)
     total = int(valid.sum())
+    edge_failed = np.zeros(3 * total, dtype=bool)
+    try:
+        res, _dpg, p50_std, rq = _solve([nights, highs], transport_kw)
+    except ValueError as exc:
+        central = {k: v[:total] for k, v in nights.items()}
+        try:
+            _solve([central, highs], transport_kw)
+        except ValueError:
+            raise ValueError(
+                _unsolvable(profiles, t, valid, [nights, highs], transport_kw, exc)
+            ) from None
+        # only band edges failed: a person that far from typical has no answer there; such an
+        # edge is solved with the typical person's inputs and then drawn at the band's limit
+        for i in range(total, 3 * total):
+            try:
+                _solve([{k: v[i : i + 1] for k, v in nights.items()}], transport_kw)
+            except ValueError:
+                edge_failed[i] = True
+        nights = {k: np.where(edge_failed, np.tile(v[:total], 3), v) for k, v in nights.items()}
+        res, _dpg, p50_std, rq = _solve([nights, highs], transport_kw)
     sao2_all = np.asarray(res.arterial.so2, dtype=float)
     results, start = [], 0
     for j, (p, m) in enumerate(zip(profiles, n_days)):
         rows = slice(start, start + m)
+        mid = sao2_all[rows]
         low = sao2_all[total + start : total + start + m]
         high = sao2_all[2 * total + start : 2 * total + start + m]
-        mid = sao2_all[rows]
+        low = np.where(edge_failed[total + start : total + start + m], 0.0, low)
+        high = np.where(edge_failed[2 * total + start : 2 * total + start + m], 1.0, high)
         if reading_sd[j] > 0.0:
             spread = BAND_Z * reading_sd[j] / 100.0
             low = mid - np.hypot(mid - low, spread)
@@ -816,6 +840,75 @@ def run_ascents(
         )
         start += m
     return results
+
+
+_DERIVED = {
+    "hb_g_dl": ("haemoglobin", "hb_g_dl"),
+    "paco2_mmhg": ("PaCO2", "paco2_mmhg"),
+    "ph": ("arterial pH", "paco2_mmhg"),
+    "cardiac_output_l_min": ("cardiac output", "cardiac_output_l_min"),
+}
+"""Chain inputs the ascent derives each day: what to call them and the baseline key they
+follow from (None: none of the person's own)."""
+
+
+def _unsolvable(profiles, t: dict, valid, parts: list[dict], transport_kw: dict, exc) -> str:
+    """Why the chain refused a schedule, naming the day and the value the model derived (not
+    the baseline the user gave), found by checking the rows one at a time; only run once the
+    vectorised solve has failed."""
+    labels = []
+    for kind in ("night", "low edge of the band", "high edge of the band", "high point"):
+        for j in range(len(profiles)):
+            labels += [(j, d + 1, kind) for d in range(t["width"]) if valid[j, d]]
+    rows = {k: np.concatenate([np.ravel(part[k]) for part in parts]) for k in parts[0]}
+    # the typical person's nights and high points first: a band edge is blamed only when they
+    # all solve
+    order = sorted(range(len(labels)), key=lambda k: "edge" in labels[k][2])
+    for i in order:
+        j, day, kind = labels[i]
+        p = profiles[j]
+        alt = t["high" if kind == "high point" else "sleep"][j, day - 1]
+        where = f"{p.name}: day {day} ({kind} at {alt:.0f} m)"
+        for key, (name, base_key) in _DERIVED.items():
+            lo, hi, unit, _ = INPUT_LIMITS[key]
+            v = float(rows[key][i])
+            if lo <= v <= hi:
+                continue
+            u = f" {unit}" if unit else ""
+            text = (
+                f"{where}: the {name} the model derives for this day, {v:.3g}{u}, is "
+                f"outside the range the chain accepts, {lo:g}-{hi:g}{u}"
+            )
+            if base_key is not None:
+                b = float(getattr(p.baseline, base_key))
+                bu = f" {INPUT_LIMITS[base_key][2]}"
+                text += (
+                    f"; it follows from the baseline {base_key} = {b:g}{bu} and the "
+                    "acclimatization to the schedule"
+                )
+                if key == "hb_g_dl" and v > hi:
+                    mine = [k for k, lab in enumerate(labels) if lab[0] == j]
+                    rise = max(float(rows[key][k]) for k in mine) / b
+                    text += (
+                        f" (the rise at altitude leaves no room: a baseline up to about "
+                        f"{np.floor(10.0 * hi / rise) / 10.0:.1f} g/dL fits this schedule)"
+                    )
+            elif kind != "night":
+                text += "; a person this far from typical is beyond what the model describes"
+            return text
+        one = {k: np.asarray(v)[i : i + 1] for k, v in rows.items()}
+        try:
+            _solve([one], transport_kw)
+        except ValueError as row_exc:
+            reason = str(row_exc)
+            if "vo2_ml_min exceeds" in reason:
+                reason = (
+                    "at rest the O2 the model delivers cannot meet the baseline vo2_ml_min = "
+                    f"{p.baseline.vo2_ml_min:g} mL/min (too high, too fast or too little O2 "
+                    "for this model)"
+                )
+            return f"{where}: {reason}"
+    return str(exc)
 
 
 def forecast_points(

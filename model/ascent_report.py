@@ -423,17 +423,32 @@ def fit_person_offset(
     y = np.array([r.spo2_pct for r in readings], dtype=float)
 
     def forecast(offsets):
-        return 100.0 * forecast_points(profile, days, alts, np.atleast_1d(offsets), **transport_kw)
+        """Forecasts [%], one row per offset; a row the chain cannot solve is NaN (an offset
+        that far from typical breaks the chain's limits at the readings' altitudes)."""
+        offsets = np.atleast_1d(np.asarray(offsets, dtype=float))
+        try:
+            return 100.0 * forecast_points(profile, days, alts, offsets, **transport_kw)
+        except ValueError:
+            if offsets.size == 1:
+                return np.full((1, len(days)), np.nan)
+            return np.vstack([forecast([d]) for d in offsets])
 
     def cost(d):
         s = forecast([d])[0]
-        return float(np.sum(((y - s) / reading_sd_pct) ** 2) + (d / prior) ** 2)
+        j = float(np.sum(((y - s) / reading_sd_pct) ** 2) + (d / prior) ** 2)
+        return j if np.isfinite(j) else 1e300
 
     bound = limit_sds * prior
     # a coarse grid in one vectorised forecast brackets the minimum; scipy refines it
     grid = np.linspace(-bound, bound, 33)
     s_grid = forecast(grid)
     j_grid = np.sum(((y - s_grid) / reading_sd_pct) ** 2, axis=1) + (grid / prior) ** 2
+    if not np.any(np.isfinite(j_grid)):
+        raise ReadingError(
+            "the readings cannot be compared with the forecast: the model cannot solve the "
+            "schedule at their days and altitudes"
+        )
+    j_grid = np.where(np.isfinite(j_grid), j_grid, np.inf)
     k = int(np.argmin(j_grid))
     lo, hi = grid[max(0, k - 1)], grid[min(grid.size - 1, k + 1)]
     best = minimize_scalar(cost, bounds=(lo, hi), method="bounded", options={"xatol": 1e-3})
@@ -445,7 +460,7 @@ def fit_person_offset(
         for v, s in zip((d - h, d, d + h), s3)
     ]
     curvature = (j[0] - 2.0 * j[1] + j[2]) / h**2
-    sd = math.sqrt(2.0 / curvature) if curvature > 0 else prior
+    sd = math.sqrt(2.0 / curvature) if np.isfinite(curvature) and curvature > 0 else prior
     typical = forecast([0.0])[0]
     return PersonFit(
         offset_mmhg=d,

@@ -4,14 +4,20 @@ from __future__ import annotations
 
 import inspect
 import math
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
 from . import floats
 from .acid_base import _base_excess, _blood_co2_content, _ph_from_base_excess
-from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
+from .air import (
+    PRESSURE_MODEL_DEFAULT,
+    PRESSURE_MODELS,
+    barometric_pressure,
+    inspired_po2,
+    water_vapour_pressure,
+)
 from .circulation import extraction_ratio, oxygen_delivery, vo2_at_temperature
 from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, _oxygen_content
 from .dissociation import _prepare_curve, canonical_curve
@@ -69,6 +75,10 @@ class TransportResult:
     solution: raise ``max_iterations`` or treat them as unknown)."""
     arterial_conditions: dict = field(repr=False)
     venous_conditions: dict = field(repr=False)
+    pressure_model: str = PRESSURE_MODEL_DEFAULT
+    """Where ``barometric_pressure_mmhg`` came from: ``"mountain"`` (West 1996) or
+    ``"standard"`` (ICAO) when computed from ``altitude_m``, ``"given"`` when it was an
+    input."""
 
     def to_dict(self) -> dict:
         """Plain nested dict of floats (or lists for array input), JSON-ready."""
@@ -564,7 +574,7 @@ def solve_transport(
     *,
     altitude_m=0.0,
     barometric_pressure_mmhg=None,
-    pressure_model="standard",
+    pressure_model=PRESSURE_MODEL_DEFAULT,
     fio2=0.21,
     paco2_mmhg=40.0,
     rq=0.8,
@@ -590,7 +600,8 @@ def solve_transport(
 ) -> TransportResult:
     """Solve the O2 chain from inspired air to mixed venous blood.
 
-    Air: PB (ICAO standard atmosphere or West's mountain model), PH2O(T), PIO2.
+    Air: PB (West's mountain model by default, or the ICAO standard atmosphere), PH2O(T),
+    PIO2.
     Lungs: alveolar gas equation (full form); end-capillary PO2 by Bohr integration over
     the transit time ``Vc / ((1 - Qs) Q)``; venous admixture mixed by content,
     ``CaO2 = CcO2 - Qs/(1 - Qs) VO2/(10 Q)``. Blood: the chosen dissociation curve at
@@ -607,7 +618,13 @@ def solve_transport(
         [m]; ignored when ``barometric_pressure_mmhg`` is given.
     barometric_pressure_mmhg : array_like or None
         [mmHg]
-    pressure_model : {"standard", "mountain"}
+    pressure_model : {"mountain", "standard"}
+        How PB follows from ``altitude_m``: ``"mountain"`` (default), West's 1996 fit to
+        pressures measured on high mountains, for a place on a mountain; ``"standard"``, the
+        ICAO standard atmosphere (aviation, chambers set by standard altitude). At 5400 m
+        they give 398.9 and 384.2 mmHg; 400.4 +- 2.7 was measured at the Everest base camp
+        there (West et al., J Appl Physiol 1983; 54:1188-1194). The result's ``pressure_model`` says which gave PB
+        (``"given"`` when ``barometric_pressure_mmhg`` is an input).
     fio2 : array_like
         [-]
     paco2_mmhg : array_like
@@ -661,6 +678,9 @@ def solve_transport(
     >>> r = solve_transport()
     >>> 950 < float(r.do2_ml_min) < 1050 and 0.70 < float(r.venous.so2) < 0.80
     True
+    >>> r = solve_transport(altitude_m=5400)
+    >>> r.pressure_model, round(float(r.barometric_pressure_mmhg), 1)
+    ('mountain', 398.9)
     """
     given = dict(locals())
     _check_options(pressure_model, curve, ph, base_excess_mmol_l)
@@ -671,7 +691,9 @@ def solve_transport(
         "max_iterations": max_iterations,
     }
     result = _on_floats(given, options) if max_iterations >= 1 else None
-    return _on_arrays(given, options) if result is None else result
+    result = _on_arrays(given, options) if result is None else result
+    source = pressure_model if barometric_pressure_mmhg is None else "given"
+    return result if source == PRESSURE_MODEL_DEFAULT else replace(result, pressure_model=source)
 
 
 _PARAMETERS = inspect.signature(solve_transport).parameters

@@ -62,7 +62,10 @@ def evaluation(path) -> dict:
 
 def format_table(record: dict) -> str:
     """The whole chain of one record as a readable text table."""
-    lines = [f"{printable(record['scenario'])}  ({printable(record['file'])})"]
+    source = {"mountain": "mountain model", "standard": "ICAO atmosphere", "given": "as given"}
+    pressures = source.get(record.get("pressure_model", ""), "")
+    head = f"{printable(record['scenario'])}  ({printable(record['file'])}"
+    lines = [head + (f"; pressure: {pressures})" if pressures else ")")]
     for label, key, unit, fmt in _ROWS:
         vals = [_get(record, k) for k in (key if isinstance(key, tuple) else (key,))]
         lines.append(f"  {label:<30} {fmt.format(*vals):>16}  {unit}")

@@ -426,3 +426,62 @@ def test_record_carries_the_band():
     day = record["days"][4]
     assert day["sao2_low"] < day["sao2"] < day["sao2_high"]
     assert record["band"]["z"] == 2.0 and record["band"]["person_offset_mmhg"] == 0.0
+
+
+def test_unsolvable_day_names_the_derived_value_not_the_given_one(tmp_path, capsys):
+    # hb_g_dl = 25 is inside its range 2-25; the Hb the model derives at altitude is not.
+    # The message must name the day, say the value was derived, and not call 25 wrong.
+    f = tmp_path / "hb.toml"
+    days = "".join(f"[[day]]\nsleep_altitude_m = {h}\n" for h in (2800, 3400, 3900))
+    f.write_text(f'name = "hb"\n[baseline]\nhb_g_dl = 25\n{days}', encoding="utf-8")
+    with _no_runtime_warning():
+        assert main(["ascent", str(f)]) == 2
+    err = capsys.readouterr().err
+    assert "day 1 (night at 2800 m)" in err and "derives" in err, err
+    assert "baseline hb_g_dl = 25 g/dL" in err and "hb_g_dl = 25.7" not in err, err
+    assert "a baseline up to about 23.2 g/dL" in err, err
+    ok = AscentProfile("ok", tuple(AscentDay(h) for h in (2800.0, 3400.0, 3900.0)), Baseline(23.2))
+    assert run_ascent(ok).night.hb_g_dl.max() <= 25.0
+
+
+def test_a_band_edge_beyond_the_model_does_not_sink_the_schedule():
+    # Day 2 jumps to 7500 m: the typical person solves; with a wide band (SD 8 mmHg) a person
+    # two SDs weaker does not (delivery below VO2). The schedule is still shown; that edge is
+    # drawn at 0 and the other edges and the central forecast are untouched.
+    p = profile([5000, 7500])
+    with _no_runtime_warning():
+        r = run_ascent(p, offset_sd_mmhg=8.0)
+    typical = run_ascent(p)
+    assert r.sao2_low[1] == 0.0 and 0.0 < r.sao2_low[0] < r.night.arterial.so2[0]
+    np.testing.assert_allclose(r.night.arterial.so2, typical.night.arterial.so2)
+    assert np.all(r.sao2_high > r.night.arterial.so2)
+
+
+def test_unsolvable_typical_night_names_day_and_place():
+    with pytest.raises(ValueError, match=r"day 1 \(night at 8848 m\): at rest the O2"):
+        run_ascent(profile([8848, 8848]))
+
+
+def test_extreme_baselines_raise_messages_not_numpy_warnings():
+    # A baseline PaCO2 of 150 mmHg drove the renal target below zero (log10 warning).
+    for paco2 in (5.0, 150.0):
+        p = AscentProfile(
+            "x", tuple(AscentDay(h) for h in (0.0, 8848.0)), Baseline(paco2_mmhg=paco2)
+        )
+        with _no_runtime_warning():
+            try:
+                run_ascent(p)
+            except ValueError as exc:
+                assert "day" in str(exc)
+
+
+def _no_runtime_warning():
+    import warnings
+
+    class _Guard(warnings.catch_warnings):
+        def __enter__(self):
+            out = super().__enter__()
+            warnings.simplefilter("error", RuntimeWarning)
+            return out
+
+    return _Guard()

@@ -16,11 +16,21 @@ from o2transit.model.ascent import AscentDay, AscentProfile, forecast_points
 
 DATA = Path(__file__).resolve().parent / "data" / "field_spo2_lowlanders.csv"
 
-# Known misses after the issue-15 refit, model minus field: the early trek readings at
-# 3365-3500 m run 4 points low, and Sato's day-12 mean at 3810 m 3.1 points low against an
-# SD of 1.5. The model's ventilation is fitted to ISA3600's arterial gases (PaCO2 35.8 on
-# day 3 at 3600 m), which imply lower saturations than these oximeter series.
-MISSES = {"pomidori2009_3500m", "botella2008_3365m", "sato1994_3810m_day12"}
+# Known misses, model minus field against two published SDs: the early trek readings at
+# 3365-3500 m (pomidori2009_3500m -4.3 against 2.8, botella2008_3365m -4.2 against 2.8). Our
+# itineraries there are reconstructions; an expedition that spent nights at 2200-2500 m
+# before the approach (as such trips often do, from memory) would read higher. Sato's day-12
+# mean, a miss while its +- was read as an SD, passes with it read as an SE (n 6).
+MISSES = {"pomidori2009_3500m", "botella2008_3365m"}
+
+# The central forecast still runs low in the first days at 3300-3800 m (model minus field
+# about -3 to -4 points): inside the spread between people, but a bias. The model's
+# ventilation is fitted to ISA3600's arterial gases (PaCO2 35.8 on day 3 at 3600 m) and its
+# day-12 PaO2 matches theirs (56.4 against 56.1 mmHg), so the gap is between those arterial
+# gases and these oximeter series; we found no published cause we could apply (oximeter
+# bias above SaO2 75 % was 0.1 points in Chapman et al., Chest 1986;89:540-2, abstract
+# read). Strict: the test fails the day the bias is mended.
+BIAS_LIMIT_POINTS = 2.0
 
 
 def _rows():
@@ -63,3 +73,10 @@ def test_daytime_spo2_within_the_published_spread(row):
     sd = float(row["spo2_sd_pct"]) if row["spo2_sd_pct"] else model_sd
     mean = float(row["spo2_mean_pct"])
     assert abs(model - mean) <= 2.0 * sd, (row["series"], model, mean, sd)
+
+
+@pytest.mark.xfail(strict=True, reason="central forecast about 3 points low, see BIAS_LIMIT_POINTS")
+def test_mean_bias_of_the_central_forecast():
+    rows = [r for r in ROWS if r["in_range"] == "yes"]
+    bias = sum(forecast(r)[0] - float(r["spo2_mean_pct"]) for r in rows) / len(rows)
+    assert abs(bias) <= BIAS_LIMIT_POINTS, bias

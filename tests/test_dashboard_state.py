@@ -202,3 +202,18 @@ def test_apply_inputs_is_all_or_nothing():
     assert state.model_inputs() == before
     assert not state.apply_inputs({"no_such_input": 1.0})
     assert state.model_inputs() == before
+
+
+def test_pb_row_names_the_pressure_model():
+    # A case at altitude is a place on a mountain: West 1996 by default, and the numbers say
+    # which model gave PB (398.9 mmHg at 5400 m; ICAO 384.2), or that it was entered.
+    s = CaseState()
+    s.altitude_m = 5400.0
+    row = {r.key: r for r in s.readings()}["barometric_pressure"]
+    assert s.pressure_model == "mountain" and "West 1996 mountain model" in row.label
+    assert row.value == pytest.approx(398.9, abs=0.1)
+    s.pressure_model = "standard"
+    row = {r.key: r for r in s.readings()}["barometric_pressure"]
+    assert "ICAO standard atmosphere" in row.label and row.value == pytest.approx(384.2, abs=0.1)
+    s.use_pressure_override = True
+    assert "as entered" in {r.key: r for r in s.readings()}["barometric_pressure"].label

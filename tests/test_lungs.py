@@ -121,7 +121,7 @@ def test_bohr_bounded_and_monotone_in_diffusing_capacity(pa, frac, t, dl):
 
 
 def test_chain_alveolar_equals_equation():
-    r = solve_transport()
+    r = solve_transport(pressure_model="standard")  # PB 760 exactly
     expected = alveolar_po2(fio2=0.21, pb_mmhg=760.0, paco2_mmhg=40.0, rq=0.8)
     assert float(r.alveolar_po2_mmhg) == pytest.approx(float(expected), abs=1e-9)
     assert float(r.aa_gradient_mmhg) == pytest.approx(

@@ -347,7 +347,7 @@ def _leaves(d, prefix=""):
     for k, v in d.items():
         if isinstance(v, dict):
             yield from _leaves(v, f"{prefix}{k}.")
-        elif k != "iterations":
+        elif k not in ("iterations", "pressure_model"):  # counts and names, not numbers
             yield f"{prefix}{k}", v
 
 
@@ -548,3 +548,20 @@ def test_running_out_of_passes_is_said_not_hidden():
     assert bool(solve_transport(altitude_m=4000.0).converged)
     both = solve_transport(altitude_m=np.array([0.0, 4000.0]), max_iterations=60)
     assert both.converged.tolist() == [True, True]
+
+
+def test_altitude_defaults_to_the_mountain_model_and_says_so():
+    # A case given by altitude is a place on a mountain: West's fit (J Appl Physiol 1996;
+    # 81:1850-4) by default, 398.9 mmHg at 5400 m against the ICAO 384.2; 400.4 +- 2.7 was
+    # measured at the 5400 m Everest base camp (West et al., J Appl Physiol 1983;54:1188-94,
+    # read). The result names the model; a pressure that was given is "given".
+    r = solve_transport(altitude_m=5400.0)
+    assert r.pressure_model == "mountain"
+    assert float(r.barometric_pressure_mmhg) == pytest.approx(400.4, abs=2.7)
+    std = solve_transport(altitude_m=5400.0, pressure_model="standard")
+    assert std.pressure_model == "standard"
+    assert float(std.barometric_pressure_mmhg) == pytest.approx(384.2, abs=0.1)
+    given = solve_transport(barometric_pressure_mmhg=400.0, altitude_m=5400.0)
+    assert given.pressure_model == "given" and given.to_dict()["pressure_model"] == "given"
+    arr = solve_transport(altitude_m=np.array([0.0, 5400.0]))
+    assert arr.pressure_model == "mountain" and arr.to_dict()["pressure_model"] == "mountain"

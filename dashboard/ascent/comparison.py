@@ -56,7 +56,8 @@ def solve(profile: AscentProfile, readings=()) -> tuple[AscentResult, PersonFit 
     except ReadingError as exc:
         raise AscentError(str(exc)) from None
     except ValueError as exc:
-        raise AscentError(f"{profile.name}: the model cannot solve this schedule ({exc})")
+        reason = str(exc).removeprefix(f"{profile.name}: ")  # the model names it already
+        raise AscentError(f"{profile.name}: the model cannot solve this schedule ({reason})")
 
 
 class Comparison:

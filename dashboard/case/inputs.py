@@ -82,12 +82,19 @@ class CaseInputs(param.Parameterized):
         5.0,
     )
     pressure_model = param.Selector(
-        default="standard",
-        objects=["standard", "mountain"],
+        default="mountain",
+        objects=["mountain", "standard"],
         label="Pressure–altitude model",
-        doc="'standard' atmosphere or the heavier 'mountain' atmosphere of high ranges.",
+        doc="'mountain' (West 1996, measured on high ranges; the default for a place on a "
+        "mountain) or the ICAO 'standard' atmosphere.",
     )
-    fio2 = _num("fio2", 0.21, "FiO2 (fraction)", "Inspired O2 fraction, dry gas [-].", 0.01)
+    fio2 = _num(
+        "fio2",
+        0.21,
+        "Model FiO2 (fraction)",
+        "Inspired O2 fraction of the model case, dry gas [-]; the measured gas has its own.",
+        0.01,
+    )
 
     # --- Lungs
     paco2_mmhg = _num("paco2_mmhg", 40.0, "PaCO2 (mmHg)", "Arterial = alveolar PCO2 [mmHg].", 1.0)
@@ -115,7 +122,7 @@ class CaseInputs(param.Parameterized):
     )
 
     # --- Blood
-    hb_g_dl = _num("hb_g_dl", 15.0, "Hb (g/dL)", "Haemoglobin [g/dL].", 0.1)
+    hb_g_dl = _num("hb_g_dl", 15.0, "Model Hb (g/dL)", "Haemoglobin of the model case [g/dL].", 0.1)
     temperature_c = _num("temperature_c", 37.0, "Temperature (°C)", "Blood temperature [°C].", 0.1)
     acid_base_input = param.Selector(
         default="pH",

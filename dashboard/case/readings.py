@@ -14,13 +14,23 @@ import inspect
 import numpy as np
 
 from ... import model
+from ...model import plans as model_plans
 from .ranges import NORMAL_RANGES
 from .units import DisplayUnits
 
 PO2_GRID_MMHG = np.linspace(0.5, 150.0, 300)
 
+PB_SOURCES = {
+    "mountain": "West 1996 mountain model",
+    "standard": "ICAO standard atmosphere",
+    "given": "as entered",
+}
+"""How the numbers table names the pressure model that gave PB (the result's
+``pressure_model``)."""
+
 READING_ROWS = (
     # key, label, kind
+    ("barometric_pressure", "PB barometric", "pressure"),
     ("alveolar_po2", "PAO2 alveolar", "pressure"),
     ("arterial_po2", "PaO2 arterial", "pressure"),
     ("arterial_so2", "SaO2", "percent"),
@@ -36,6 +46,12 @@ READING_ROWS = (
     ("arterial_p50", "P50 arterial", "pressure"),
     ("venous_p50", "P50 venous", "pressure"),
 )
+AT_37 = {
+    "arterial_po2": "PaO2 as read at 37 °C",
+    "venous_po2": "PvO2 as read at 37 °C",
+}
+"""Rows shown twice away from 37 degC: at the case's temperature, then as an analyser
+(which measures at 37 degC) reports them, flagged against the reference range."""
 KIND_UNITS = {
     "percent": ("%", 1),
     "content": ("mL/dL", 1),
@@ -60,10 +76,12 @@ class Reading:
 
     @property
     def flag(self) -> str:
-        """'high', 'low' or '' against the reference range."""
-        if self.low is not None and self.value < self.low:
+        """'high', 'low' or '' against the reference range, for the value as shown (39.7
+        shown as 40 is not below 40)."""
+        shown = round(self.value, self.digits)
+        if self.low is not None and shown < round(self.low, self.digits):
             return "low"
-        if self.high is not None and self.value > self.high:
+        if self.high is not None and shown > round(self.high, self.digits):
             return "high"
         return ""
 
@@ -93,6 +111,7 @@ def raw_numbers(result, bsa_m2: float | None = None) -> dict[str, float]:
     """The reported numbers in model units; ``do2i`` only with a body surface area [m²]."""
     a, v = result.arterial, result.venous
     numbers = {
+        "barometric_pressure": float(result.barometric_pressure_mmhg),
         "inspired_po2": float(result.inspired_po2_mmhg),
         "alveolar_po2": float(result.alveolar_po2_mmhg),
         "end_capillary_po2": float(result.end_capillary_po2_mmhg),
@@ -111,6 +130,12 @@ def raw_numbers(result, bsa_m2: float | None = None) -> dict[str, float]:
     }
     if bsa_m2:
         numbers["do2i"] = numbers["do2"] / bsa_m2
+    at_37 = model_plans.readings(result)  # PO2s as a 37 degC analyser reads them
+    numbers.update(
+        temperature=float(result.temperature_c),
+        arterial_po2_37=at_37["pao2_37_mmhg"],
+        venous_po2_37=at_37["pvo2_37_mmhg"],
+    )
     return numbers
 
 
@@ -146,6 +171,17 @@ def readings(result, baseline, units: DisplayUnits, bsa_m2: float | None = None)
             else (None, None)
         )
         delta = value - _to_display(units, kind, base[key]) if key in base else None
+        if key == "barometric_pressure":
+            source = PB_SOURCES.get(getattr(result, "pressure_model", ""), "")
+            label = f"{label} ({source})" if source else label
+        if key in AT_37 and abs(now["temperature"] - 37.0) > 0.05:
+            # Reference ranges are for gases as analysers report them, at 37 degC: the
+            # value at the case's temperature is shown unflagged, then the 37 degC reading.
+            at = f"{now['temperature']:.1f} °C"
+            rows.append(Reading(key, f"{label} at {at}", value, unit, digits, None, None, delta))
+            key, label = f"{key}_37", AT_37[key]
+            value = _to_display(units, kind, now[key])
+            delta = value - _to_display(units, kind, base[key]) if key in base else None
         rows.append(Reading(key, label, value, unit, digits, low, high, delta))
     return rows
 
