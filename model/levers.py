@@ -6,6 +6,11 @@ change and ranks the changes by their predicted effect on O2 delivery, PaO2, SvO
 or the extraction ratio. Every what-if carries its full ``inputs``, so it can become the
 live case (``CaseState.apply_inputs``) with the base case kept as the baseline.
 
+:func:`one_change` is the rule of one lever on its own: it applies one change to a case and
+returns the case after it, without solving the chain. :func:`rank_levers` builds every
+what-if with it, and :mod:`model.plans` stacks plan steps with it, so that a plan step and
+the ranked what-if it came from predict the same.
+
 The levers and their rules:
 
 * **FiO2 steps** — each step above the present FiO2, nothing else changed.
@@ -49,11 +54,11 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import inspect
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import NamedTuple
 
 import numpy as np
 
@@ -197,29 +202,47 @@ def _check_rank_by(rank_by: str) -> None:
         )
 
 
-class _Lever(NamedTuple):
-    """One what-if before it is solved: the inputs it changes and how it reads."""
+LEVER_KINDS = ("fio2", "transfusion", "cardiac_output", "cooling", "ph", "shunt")
+"""Levers :func:`one_change` applies, and what its ``value`` is for each: FiO2 to [-],
+transfusion to a target Hb [g/dL], cardiac output to [L/min], cooling to [degC], pH
+corrected to, as read at 37 degC [-], shunt fraction changed by [-]."""
+
+
+@dataclass(frozen=True)
+class LeverChange:
+    """One lever applied to a case: what it changed and how it reads, and the case after.
+
+    ``key`` names the what-if (``"transfusion"``, ``"fio2_0.80"``...), ``changes`` holds only
+    the inputs it set, ``inputs`` the whole case after it (``solve_transport`` keywords).
+    """
 
     key: str
     label: str
     changes: dict
     note: str
+    inputs: dict = field(repr=False)
 
 
-def _fio2_levers(now: dict, steps: list[float]) -> list[_Lever]:
-    """Each FiO2 step above the present FiO2, nothing else changed."""
-    return [
-        _Lever(f"fio2_{step:.2f}", f"FiO2 {now['fio2']:.2f} → {step:.2f}", {"fio2": step}, "")
-        for step in sorted(set(steps))
-        if step > now["fio2"] + 0.005
-    ]
+def _case_now(inputs: Mapping) -> tuple[dict, dict]:
+    """(the case without None values, its present values of the levers' inputs)."""
+    base = {k: v for k, v in dict(inputs).items() if v is not None}
+    now = {k: float(base.get(k, _SOLVER_DEFAULTS[k])) for k in _PRESENT}
+    return base, now
 
 
-def _transfusion_lever(base: dict, now: dict, hb_target: float, dpg_depleted: bool) -> list[_Lever]:
+def _fio2_change(now: dict, fio2: float) -> tuple[str, str, dict, str] | None:
+    """FiO2 to the value, nothing else changed; none when it is the present FiO2."""
+    if abs(fio2 - now["fio2"]) < 1e-9:
+        return None
+    label = f"FiO2 {now['fio2']:.2f} → {fio2:.2f}"
+    return f"fio2_{fio2:.2f}", label, {"fio2": fio2}, "Nothing else changed."
+
+
+def _transfusion_change(base: dict, now: dict, hb_target: float, dpg_depleted: bool):
     """Hb to the target, Q and VO2 unchanged; with depleted donor cells the DPG of the
     mixture is the Hb-weighted mean (module docstring). None when Hb is at the target."""
     if not hb_target > now["hb_g_dl"] + 0.05:
-        return []
+        return None
     changes = {"hb_g_dl": hb_target}
     label = f"Transfuse: Hb {now['hb_g_dl']:.1f} → {hb_target:.1f} g/dL"
     note = "Cardiac output and VO2 unchanged." + (
@@ -235,26 +258,24 @@ def _transfusion_lever(base: dict, now: dict, hb_target: float, dpg_depleted: bo
             f"2,3-DPG {dpg0:.1f} → {dpg:.1f} mmol/L: donor cells at "
             f"{STORED_BLOOD_DPG_MMOL_L:g} mmol/L mixed by Hb. " + note
         )
-    return [_Lever("transfusion", label, changes, note)]
+    return "transfusion", label, changes, note
 
 
-def _cardiac_output_lever(now: dict, factor: float) -> _Lever:
-    """Cardiac output times ``factor``, VO2 unchanged (the new flow must be in range)."""
-    q_new = now["cardiac_output_l_min"] * factor
+def _cardiac_output_change(now: dict, q_new: float):
+    """Cardiac output to the value (in range), VO2 unchanged; none when it is the present."""
     check_range("cardiac_output_l_min", q_new)
-    return _Lever(
-        "cardiac_output",
-        f"Cardiac output ×{factor:g}: {now['cardiac_output_l_min']:.1f} → {q_new:.1f} L/min",
-        {"cardiac_output_l_min": q_new},
-        "VO2 unchanged.",
-    )
+    q_now = now["cardiac_output_l_min"]
+    if abs(q_new - q_now) < 1e-9:
+        return None
+    label = f"Cardiac output {q_now:.1f} → {q_new:.1f} L/min"
+    return "cardiac_output", label, {"cardiac_output_l_min": q_new}, "VO2 unchanged."
 
 
-def _cooling_lever(base: dict, now: dict, cool_to: float, rule: str) -> list[_Lever]:
+def _cooling_change(base: dict, now: dict, cool_to: float, rule: str):
     """Temperature to ``cool_to`` with VO2 by Q10, PaCO2 and pH by the alpha- or pH-stat
     rule; none unless cooler than the case."""
     if not cool_to < now["temperature_c"] - 0.05:
-        return []
+        return None
     dt = cool_to - now["temperature_c"]
     changes = {"temperature_c": cool_to}
     if base.get("vo2_temperature_scaling"):
@@ -272,12 +293,11 @@ def _cooling_lever(base: dict, now: dict, cool_to: float, rule: str) -> list[_Le
         note += " Alpha-stat: ventilation keeps the 37 °C readings, so PaCO2 falls."
     else:
         note += " pH-stat: PaCO2 and pH held at the patient's temperature."
-    return [
-        _Lever("cooling", f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C", changes, note)
-    ]
+    label = f"Cool: {now['temperature_c']:.1f} → {cool_to:.1f} °C"
+    return "cooling", label, changes, note
 
 
-def _ph_lever(base: dict, now: dict, ph_to: float) -> list[_Lever]:
+def _ph_change(base: dict, now: dict, ph_to: float):
     """Arterial pH to ``ph_to`` as read at 37 degC, PaCO2 held; none within 0.005 of it."""
     if "ph" in base:
         ph_now = float(base["ph"])
@@ -288,19 +308,16 @@ def _ph_lever(base: dict, now: dict, ph_to: float) -> list[_Lever]:
     t_case = now["temperature_c"]
     ph_now_37 = float(temperature_corrected_ph(ph_now, 74.0 - t_case))  # as read at 37 degC
     if not abs(ph_now_37 - ph_to) > 0.005:
-        return []
+        return None
     ph_chain = float(temperature_corrected_ph(ph_to, t_case))
     note = "Metabolic correction: PaCO2 held."
     if abs(t_case - 37.0) > 0.05:
         note += f" pH read at 37 °C; {ph_chain:.2f} at the patient's {t_case:.1f} °C."
-    return [_Lever("ph", f"Correct pH: {ph_now_37:.2f} → {ph_to:.2f}", {"ph": ph_chain}, note)]
+    return "ph", f"Correct pH: {ph_now_37:.2f} → {ph_to:.2f}", {"ph": ph_chain}, note
 
 
-def _shunt_lever(now: dict, shunt_change: float | None) -> list[_Lever]:
-    """The shunt fraction changed by the entered amount (validated); none when not given."""
-    if shunt_change is None:
-        return []
-    change = _number("shunt_change", shunt_change, -0.8, 0.8, "", "change in shunt fraction")
+def _shunt_change(now: dict, change: float):
+    """The shunt fraction changed by the amount (the result in range); none for 0."""
     lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
     new = now["shunt_fraction"] + change
     if not lo <= new <= hi:
@@ -310,31 +327,111 @@ def _shunt_lever(now: dict, shunt_change: float | None) -> list[_Lever]:
             f"{lo:g}-{hi:g} (Shunt fraction)"
         )
     if change == 0.0:
-        return []
-    return [
-        _Lever(
-            "shunt",
-            f"Shunt {now['shunt_fraction']:.2f} → {new:.2f}",
-            {"shunt_fraction": new},
-            "Entered change (e.g. after recruitment).",
+        return None
+    label = f"Shunt {now['shunt_fraction']:.3f} → {new:.3f}"
+    return "shunt", label, {"shunt_fraction": new}, "Entered change (e.g. after recruitment)."
+
+
+def one_change(
+    inputs: Mapping,
+    lever: str,
+    value: float,
+    *,
+    stored_blood_dpg_depleted: bool = False,
+    cooling_rule: str = "alpha_stat",
+) -> LeverChange | None:
+    """Apply one lever's rule to a case; the case after it, or None when it does not apply.
+
+    The rules are those of the module docstring; ``value`` is what :data:`LEVER_KINDS` says
+    for the lever. The chain is not solved: ``rank_levers`` and ``model.plans`` solve the
+    cases they build.
+
+    Parameters
+    ----------
+    inputs : Mapping
+        The case, keywords of :func:`model.solve_transport`; ``None`` values are dropped.
+    lever : {"fio2", "transfusion", "cardiac_output", "cooling", "ph", "shunt"}
+        Which lever.
+    value : float
+        FiO2 to [-]; Hb to [g/dL]; cardiac output to [L/min]; cooling to [degC]; pH to, as
+        read at 37 degC [-]; change in shunt fraction [-].
+    stored_blood_dpg_depleted : bool
+        For ``"transfusion"``: donor cells low in 2,3-DPG, mixed by Hb.
+    cooling_rule : {"alpha_stat", "ph_stat"}
+        For ``"cooling"``: how PaCO2 and pH follow the temperature.
+
+    Returns
+    -------
+    LeverChange or None
+        None when the lever changes nothing here (FiO2 or cardiac output already at the
+        value, Hb at or above the target, not warmer than the target, pH within 0.005 of the
+        target, a shunt change of 0).
+
+    Raises
+    ------
+    ValueError
+        An unknown lever or rule, a value out of its range or not a number (field, value,
+        range, unit), or a change that takes the case out of range.
+
+    Examples
+    --------
+    >>> step = one_change({"hb_g_dl": 8.5, "fio2": 0.6}, "transfusion", 10.0)
+    >>> step.inputs["hb_g_dl"], step.inputs["fio2"], step.label
+    (10.0, 0.6, 'Transfuse: Hb 8.5 → 10.0 g/dL')
+    >>> one_change({"hb_g_dl": 12.0}, "transfusion", 10.0) is None
+    True
+    """
+    if lever not in LEVER_KINDS:
+        raise ValueError(f"lever {lever!r} is unknown; choose one of {', '.join(LEVER_KINDS)}")
+    _check_cooling_rule(cooling_rule)
+    _check_flag(stored_blood_dpg_depleted)
+    base, now = _case_now(inputs)
+    if lever == "fio2":
+        made = _fio2_change(now, _limit("fio2", "fio2", value))
+    elif lever == "transfusion":
+        hb = _limit("hb_g_dl", "target_hb_g_dl", value)
+        made = _transfusion_change(base, now, hb, bool(stored_blood_dpg_depleted))
+    elif lever == "cardiac_output":
+        made = _cardiac_output_change(now, _limit("cardiac_output_l_min", "cardiac_output", value))
+    elif lever == "cooling":
+        cool_to = _limit("temperature_c", "cooling_to_c", value)
+        made = _cooling_change(base, now, cool_to, cooling_rule)
+    elif lever == "ph":
+        made = _ph_change(base, now, _limit("ph", "ph_target", value))
+    else:
+        change = _number("shunt_change", value, -0.8, 0.8, "", "change in shunt fraction")
+        made = _shunt_change(now, change)
+    if made is None:
+        return None
+    key, label, changes, note = made
+    case = dict(base, **changes)
+    if "ph" in changes:
+        case.pop("base_excess_mmol_l", None)
+    return LeverChange(key, label, changes, note, case)
+
+
+def _check_cooling_rule(rule: str) -> None:
+    if rule not in COOLING_RULES:
+        raise ValueError(
+            f"cooling_rule {rule!r} is unknown; choose one of {', '.join(COOLING_RULES)}"
         )
-    ]
 
 
-def _outcomes(base: dict, levers: list[_Lever]) -> list[LeverOutcome]:
+def _check_flag(stored_blood_dpg_depleted) -> None:
+    if not isinstance(stored_blood_dpg_depleted, (bool, np.bool_)):
+        raise ValueError(  # noqa: TRY004
+            f"stored_blood_dpg_depleted = {stored_blood_dpg_depleted!r} must be true or false"
+        )
+
+
+def _outcomes(base: dict, levers: list[LeverChange]) -> list[LeverOutcome]:
     """Solve the base case and every what-if; each outcome against the base."""
-    cases = [base]
-    for lever in levers:
-        case = dict(base, **lever.changes)
-        if "ph" in lever.changes:
-            case.pop("base_excess_mmol_l", None)
-        cases.append(case)
-    solved = [_solve_one(case) for case in cases]
+    solved = [_solve_one(case) for case in [base, *(lever.inputs for lever in levers)]]
     ref, base_error = solved[0]
     if base_error:
         raise ValueError(f"inputs: the base case cannot be solved: {base_error}")
     table = []
-    for lever, case, (values, error) in zip(levers, cases[1:], solved[1:]):
+    for lever, (values, error) in zip(levers, solved[1:]):
         deltas = {f"delta_{k}": values[k] - ref[k] for k in _OUTCOMES}
         table.append(
             LeverOutcome(
@@ -342,7 +439,7 @@ def _outcomes(base: dict, levers: list[_Lever]) -> list[LeverOutcome]:
                 label=lever.label,
                 changes=lever.changes,
                 note=lever.note,
-                inputs=case,
+                inputs=lever.inputs,
                 error=error,
                 **values,
                 **deltas,
@@ -411,29 +508,34 @@ def rank_levers(
     True
     """
     _check_rank_by(rank_by)
-    if cooling_rule not in COOLING_RULES:
-        raise ValueError(
-            f"cooling_rule {cooling_rule!r} is unknown; choose one of {', '.join(COOLING_RULES)}"
-        )
-    if not isinstance(stored_blood_dpg_depleted, (bool, np.bool_)):
-        raise ValueError(  # noqa: TRY004
-            f"stored_blood_dpg_depleted = {stored_blood_dpg_depleted!r} must be true or false"
-        )
+    _check_cooling_rule(cooling_rule)
+    _check_flag(stored_blood_dpg_depleted)
     steps = [_limit("fio2", "fio2_steps", s) for s in np.atleast_1d(fio2_steps).tolist()]
     hb_target = _limit("hb_g_dl", "target_hb_g_dl", target_hb_g_dl)
     factor = _cardiac_output_factor(cardiac_output_factor)
     cool_to = _limit("temperature_c", "cooling_to_c", cooling_to_c)
     ph_to = _limit("ph", "ph_target", ph_target)
     base = _check_base(inputs)
-    now = {k: float(base.get(k, _SOLVER_DEFAULTS[k])) for k in _PRESENT}
-    levers = [
-        *_fio2_levers(now, steps),
-        *_transfusion_lever(base, now, hb_target, bool(stored_blood_dpg_depleted)),
-        _cardiac_output_lever(now, factor),
-        *_cooling_lever(base, now, cool_to, cooling_rule),
-        *_ph_lever(base, now, ph_to),
-        *_shunt_lever(now, shunt_change),
+    _, now = _case_now(base)
+    q_now = now["cardiac_output_l_min"]
+    wanted: list[tuple[str, float, dict]] = [
+        *(("fio2", step, {}) for step in sorted(set(steps)) if step > now["fio2"] + 0.005),
+        ("transfusion", hb_target, {"stored_blood_dpg_depleted": bool(stored_blood_dpg_depleted)}),
+        ("cardiac_output", q_now * factor, {}),
+        ("cooling", cool_to, {"cooling_rule": cooling_rule}),
+        ("ph", ph_to, {}),
     ]
+    if shunt_change is not None:
+        wanted.append(("shunt", shunt_change, {}))
+    levers = []
+    for lever, value, rule in wanted:
+        change = one_change(base, lever, value, **rule)
+        if change is None:
+            continue
+        if lever == "cardiac_output":  # the ranked what-if says by how much
+            label = f"Cardiac output ×{factor:g}: {q_now:.1f} → {q_now * factor:.1f} L/min"
+            change = dataclasses.replace(change, label=label)
+        levers.append(change)
     return sort_outcomes(_outcomes(base, levers), rank_by)
 
 

@@ -6,18 +6,18 @@ the order given, each to the case the previous one left, and solves the chain on
 result; :func:`compare_plans` does so for a few plans against the base case and gives every
 reading as a value and as a change from the base.
 
-The changes and their rules (the rules of :mod:`model.levers`, so that a plan step and the
-ranked what-if it came from predict the same):
+The changes and their rules (each applied by :func:`model.levers.one_change`, the rule of
+one ranked what-if, so that a plan step and the what-if it came from predict the same):
 
 * ``"fio2"`` — FiO2 set to the value [-], up or down, nothing else changed.
 * ``"hb"`` — transfusion to the target Hb [g/dL], cardiac output and VO2 unchanged; with
   ``stored_blood`` the donor cells are low in 2,3-DPG and mixed by Hb (the transfusion rule of
-  :func:`model.levers.rank_levers`). Not applied when Hb is already at or above the target.
+  :mod:`model.levers`). Not applied when Hb is already at or above the target.
 * ``"cardiac_output"`` — cardiac output set to the value [L/min], VO2 unchanged.
 * ``"temperature"`` — cooling to the value [degC], VO2 by Q10 and PaCO2/pH by the alpha-stat
-  rule (the cooling rule of :func:`model.levers.rank_levers`). Not applied unless cooler.
+  rule (the cooling rule of :mod:`model.levers`). Not applied unless cooler.
 * ``"ph"`` — arterial pH corrected to the value as read at 37 degC [-], PaCO2 held (the pH
-  rule of :func:`model.levers.rank_levers`).
+  rule of :mod:`model.levers`).
 * ``"shunt"`` — shunt fraction changed by the value [-] (e.g. -0.10 after recruitment).
 
 The readings of a plan (:data:`READINGS`) are those of the chain at the patient's
@@ -40,7 +40,7 @@ from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
 from .bedside import temperature_corrected_ph, temperature_corrected_po2
-from .levers import LeverOutcome, rank_levers
+from .levers import LeverOutcome, one_change
 from .limits import INPUT_LIMITS
 from .transport import TransportResult, solve_transport
 
@@ -79,9 +79,6 @@ CHANGE_KINDS: dict[str, ChangeKind] = {
 """kind -> what it changes and its allowed values. The Hb, cooling and shunt bounds are those
 of the ranked what-ifs' settings on the bedside screen; pH 7.0-7.6 is the span a metabolic
 correction is aimed within (common practice, no source)."""
-
-_LEVER_KEYS = {"hb": "transfusion", "temperature": "cooling", "ph": "ph"}
-"""Changes whose rule is a ranked what-if's: kind -> that what-if's key."""
 
 READINGS = (
     "pao2_mmhg",
@@ -231,29 +228,29 @@ def _before(inputs: Mapping, change: Change) -> float:
     return _now(inputs, CHANGE_KINDS[change.kind].quantity)
 
 
-def _ruled_step(inputs: dict, change: Change) -> tuple[dict, LeverOutcome | None]:
-    """The what-if of :func:`model.levers.rank_levers` that carries this change's rule."""
-    table = rank_levers(
-        inputs,
-        fio2_steps=(_now(inputs, "fio2"),),  # no FiO2 step: none is above the present one
-        cardiac_output_factor=1.05,
-        target_hb_g_dl=change.value if change.kind == "hb" else 10.0,
-        stored_blood_dpg_depleted=change.stored_blood if change.kind == "hb" else False,
-        cooling_to_c=change.value if change.kind == "temperature" else 36.0,
-        ph_target=change.value if change.kind == "ph" else 7.40,
-    )
-    key = _LEVER_KEYS[change.kind]
-    outcome = next((o for o in table if o.key == key), None)
-    if outcome is None:
-        return inputs, None
-    return dict(outcome.inputs), outcome
+_LEVERS = {
+    "fio2": "fio2",
+    "hb": "transfusion",
+    "cardiac_output": "cardiac_output",
+    "temperature": "cooling",
+    "ph": "ph",
+    "shunt": "shunt",
+}
+"""Plan change kind -> the lever of :func:`model.levers.one_change` that carries its rule."""
+
+_NOT_APPLIED = {
+    "hb": "Hb is already at or above the target",
+    "temperature": "the patient is not warmer than the target",
+    "ph": "pH is already at the target",
+}
 
 
 def apply_change(inputs: Mapping, change: Change) -> tuple[dict, Step]:
     """Apply one change to a case; return the case after it and the step as applied.
 
-    A change that does not apply (Hb already at the target, not cooler, pH already there,
-    a change of nothing) leaves the case as it was and says why in the step's note.
+    The rule is the ranked what-if's (:func:`model.levers.one_change`). A change that does
+    not apply (Hb already at the target, not cooler, pH already there, a change of nothing)
+    leaves the case as it was and says why in the step's note.
 
     Examples
     --------
@@ -264,36 +261,28 @@ def apply_change(inputs: Mapping, change: Change) -> tuple[dict, Step]:
     change = check_change(change)
     case = {k: v for k, v in dict(inputs).items() if v is not None}
     before = _before(case, change)
-    kind = CHANGE_KINDS[change.kind]
-    if change.kind in _LEVER_KEYS:
-        after_case, outcome = _ruled_step(case, change)
-        if outcome is None:
-            reason = {
-                "hb": "Hb is already at or above the target",
-                "temperature": "the patient is not warmer than the target",
-                "ph": "pH is already at the target",
-            }[change.kind]
-            return case, Step(change, before, before, False, {}, f"Not applied: {reason}.")
-        step = Step(
-            change, before, _before(after_case, change), True, dict(outcome.changes), outcome.note
+    try:
+        done = one_change(
+            case,
+            _LEVERS[change.kind],
+            change.value,
+            stored_blood_dpg_depleted=change.stored_blood,
         )
-        return after_case, step
-    if change.kind == "shunt":
-        after = before + change.value
+    except ValueError as exc:
+        if change.kind != "shunt":
+            raise
         lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
-        if not lo <= after <= hi:
-            raise ValueError(
-                f"Shunt change by {change.value:+g} would take the shunt fraction from "
-                f"{before:.3f} to {after:.3f}, outside the allowed range {lo:g}-{hi:g}"
-            )
-        note = "Entered change (e.g. after recruitment)."
-    else:
-        after = change.value
-        note = {"fio2": "Nothing else changed.", "cardiac_output": "VO2 unchanged."}[change.kind]
-    if abs(after - before) < 1e-9:
-        return case, Step(change, before, before, False, {}, "Not applied: no change.")
-    changed = {kind.quantity: after}
-    return {**case, **changed}, Step(change, before, after, True, changed, note)
+        raise ValueError(
+            f"Shunt change by {change.value:+g} would take the shunt fraction from "
+            f"{before:.3f} to {before + change.value:.3f}, outside the allowed range "
+            f"{lo:g}-{hi:g}"
+        ) from exc
+    if done is None:
+        reason = _NOT_APPLIED.get(change.kind, "no change")
+        return case, Step(change, before, before, False, {}, f"Not applied: {reason}.")
+    after_case = done.inputs
+    step = Step(change, before, _before(after_case, change), True, dict(done.changes), done.note)
+    return after_case, step
 
 
 def readings(result: TransportResult) -> dict:
@@ -405,6 +394,7 @@ def change_from_lever(outcome: LeverOutcome, base_inputs: Mapping) -> Change:
 
     Examples
     --------
+    >>> from o2transit.model.levers import rank_levers
     >>> base = {"fio2": 0.4, "hb_g_dl": 8.0}
     >>> best = rank_levers(base, target_hb_g_dl=10.0)[0]
     >>> change_from_lever(best, base)

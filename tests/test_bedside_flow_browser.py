@@ -8,6 +8,7 @@ Debian Chromium driven by Playwright; skipped only without Chromium and without 
 """
 
 import os
+import re
 from pathlib import Path
 from urllib.parse import urlsplit
 
@@ -91,11 +92,53 @@ def click(page, css: str) -> None:
     page.locator(f".{css} button").first.click()
 
 
+DEEP_TEXT = """el => { const out = [];
+  const walk = n => { if (n.nodeType === 3) { const t = n.textContent.trim(); if (t) out.push(t); return; }
+    if (n.nodeType === 1 && (n.tagName === "STYLE" || n.tagName === "SCRIPT")) return;
+    if (n.shadowRoot) walk(n.shadowRoot); for (const c of n.childNodes) walk(c); };
+  walk(el); return out.join(" | "); }"""
+"""The text of an element and of every shadow root under it (Panel renders in shadow DOM)."""
+
+
+def assert_units(page, css: str) -> None:
+    """No mmHg or g/dL in the element's text but the one note that names the Berlin
+    cut-offs' own unit beside their kPa values."""
+    text = page.locator(css).first.evaluate(DEEP_TEXT)
+    text = re.sub(r"cut-offs are in mmHg: [^|]*kPa", "", text)
+    left = re.findall(r"[^|]{0,60}(?:mmHg|g/dL)", text)
+    assert not left, (css, left)
+
+
+def use_fitted_case(page) -> None:
+    """'Use fitted case', then read the Model inputs tab as the intensivist would."""
+    click(page, "o2-bs-use-fit")
+    page.locator(".o2-case-tabs .bk-tab", has_text="Model inputs").click()
+    numbers = page.locator(".o2-numbers")
+    # The sidebar is filled at the precision the bedside tables show (shunt 28.6 %), not
+    # with 0.2857, 276.66, 7.2206 (issue 16).
+    expect(page.locator(".o2-in-shunt_fraction input")).to_have_value(re.compile(r"^0\.\d{1,3}$"))
+    expect(page.locator(".o2-in-vo2_ml_min input")).to_have_value(re.compile(r"^\d+$"))
+    expect(page.locator(".o2-in-ph input")).to_have_value(re.compile(r"^7\.\d{1,3}$"))
+    # At 39 degC the chain's PaO2 is labelled with its temperature and left unflagged; the
+    # reading a 37 degC analyser gives (the measured 10.9 kPa) is flagged against the range.
+    expect(numbers.locator("tr[data-key=arterial_po2]")).to_contain_text("at 39.0 °C")
+    expect(numbers.locator("tr[data-key=arterial_po2] .flag")).to_have_text("")
+    expect(numbers.locator("tr[data-key=arterial_po2_37] td.val")).to_have_text("10.9")
+    expect(page.locator(".o2-curve")).to_be_visible()
+    # The sidebar, the scenario picker and the model table speak kPa and g/L as well.
+    for part in (".o2-inputs", ".o2-scenario", ".o2-numbers", ".o2-curve"):
+        assert_units(page, part)
+    page.locator(".o2-case-tabs .bk-tab", has_text="Measured gas").click()
+    expect(page.locator(".o2-bs-entry")).to_be_visible()
+
+
 def plan_change(page, card: int, kind_label: str, value: str) -> None:
     """Give plan ``card`` a new change of that kind (labels carry the display unit)."""
     root = f".o2-bs-plan-{card}"
     page.locator(f"{root} .o2-bs-plan-change select").select_option(label="+ new change")
     page.locator(f"{root} .o2-bs-plan-kind select").select_option(label=kind_label)
+    # The value's label follows the kind from the server: the pick has arrived there.
+    expect(page.locator(f"{root} .o2-bs-plan-value")).to_contain_text(kind_label)
     type_into(page, f"{root} .o2-bs-plan-value input", value)
     page.locator(f"{root} .o2-bs-plan-set button").click()
 
@@ -120,6 +163,12 @@ def test_plans_and_shift_in_kpa_and_g_l(page, case_dir):
     expect(page.locator(".o2-bs-levers tr[data-key]").first).to_be_visible(timeout=20000)
     expect(page.locator(".o2-bs-levers")).to_contain_text("g/L")
     expect(page.locator(".o2-bs-levers")).not_to_contain_text("g/dL")
+    # Each FiO2 and Hb field says whose value it is: the gas's or the model case's.
+    expect(page.locator(".o2-bs-in-fio2")).to_contain_text("FiO2 when drawn")
+    expect(page.locator(".o2-bs-in-hb_g_dl")).to_contain_text("Measured Hb (g/L)")
+    expect(page.locator(".o2-in-fio2")).to_contain_text("Model FiO2")
+    expect(page.locator(".o2-in-hb_g_dl")).to_contain_text("Model Hb (g/L)")
+    use_fitted_case(page)
 
     # Plan A: the best ranked what-if (chosen in the picker), one click into a new plan.
     click(page, "o2-bs-lever-to-plan")
@@ -191,6 +240,10 @@ def test_plans_and_shift_in_kpa_and_g_l(page, case_dir):
     expect(trend).to_contain_text("P/F (kPa)")
     expect(trend.locator("tr[data-time='14:00']")).to_contain_text("8.0")
     expect(page.locator(".o2-bs-gas-msg")).to_contain_text("3 in the shift")
+
+    # Every string of the tab in kPa and g/L: no mmHg or g/dL left but the one note that
+    # names the Berlin cut-offs' own unit beside their kPa values.
+    assert_units(page, ".o2-bs-screen")
 
     hosts = {urlsplit(u).hostname for u in page.requests if u.startswith("http")}
     assert hosts <= LOCAL_HOSTS, hosts

@@ -53,7 +53,7 @@ def test_model_texts_move_to_the_display_units():
     # 760 mmHg x 101.325/760 = 101.3 kPa; 8.5 g/dL = 85 g/L (unit definitions, exact).
     assert in_display_units(case, "not given: 760 mmHg assumed") == "not given: 101.3 kPa assumed"
     assert lever_label(case, "Transfuse: Hb 8.5 → 10.0 g/dL") == "Transfuse: Hb 85 → 100 g/L"
-    assert lever_label(case, "Shunt 0.29 → 0.19") == "Shunt 29 → 19 %"
+    assert lever_label(case, "Shunt 0.286 → 0.186") == "Shunt 28.6 → 18.6 %"
     assert lever_label(case, "FiO2 0.60 → 1.00") == "FiO2 0.60 → 1.00"
     words = fit_words(case, "SvO2 measured 0.62, model 0.596; PvO2 measured 36, model 39.2.")
     assert words == "SvO2 measured 62.0 %, model 59.6 %; PvO2 measured 4.80 kPa, model 5.23 kPa."

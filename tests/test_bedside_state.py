@@ -11,6 +11,7 @@ from o2transit.dashboard.bedside.state import EXAMPLE_GAS, MEASURED_KEYS, Bedsid
 from o2transit.dashboard.bedside.summary import BOKEH_JS, summary_html
 from o2transit.dashboard.case.state import CaseState
 from o2transit.model import bedside
+from test_bedside_plans import SEPTIC  # the issue's septic patient (invented, ours)
 
 from o2transit import model
 
@@ -130,11 +131,21 @@ def test_fit_and_use_fitted_sets_live_case_and_baseline(st):
     assert rows[0][0] == "PaO2" and rows[0][5] == "fitted" and rows[0][6] == "match"
     assert st.use_fitted()
     assert st.case.baseline is st.case.result
-    # Live inputs are the fitted ones rounded for reading (5e-5 in a fraction at most).
-    assert st.case.shunt_fraction == pytest.approx(st.fit.fitted["shunt_fraction"], abs=5e-5)
-    assert st.case.paco2_mmhg == round(st.case.paco2_mmhg, 2)
+    # Live inputs are the fitted ones rounded as the tables show them (shunt 28.6 % ->
+    # 0.286, VO2 whole, pH to 3 decimals), not 0.2857 / 276.66 / 7.2206 (issue 16).
+    f = st.fit.inputs
+    assert st.case.shunt_fraction == round(f["shunt_fraction"], 3)
+    assert st.case.vo2_ml_min == round(f["vo2_ml_min"]) and st.case.ph == round(f["ph"], 3)
+    assert st.case.paco2_mmhg == round(f["paco2_mmhg"], 1)
+    if "p50_mmhg" in f:  # fitted only when SaO2 is off the curve
+        assert st.case.p50_mmhg == round(f["p50_mmhg"], 1)
+    shown = {r.key: r.value for r in st.fitted_rows()}
+    assert f"{100 * st.case.shunt_fraction:.1f}" == shown["shunt_fraction"]
+    assert f"{st.case.vo2_ml_min:.0f}" == shown["vo2_ml_min"]
+    # Rounding VO2 to 1 mL/min and shunt to 0.1 % moves PaO2 by 0.2 mmHg here (computed):
+    # under the half-mmHg the screen rounds to.
     assert float(st.case.result.arterial.po2_mmhg) == pytest.approx(
-        float(st.fit.result.arterial.po2_mmhg), abs=0.05
+        float(st.fit.result.arterial.po2_mmhg), abs=0.5
     )
     assert st.case.height_cm == 172.0  # DO2I on the other tab needs the body size too
     assert st.case.scenario_name.startswith("Fitted to measured gas")
@@ -200,7 +211,7 @@ def test_what_ifs_ranked_resorted_and_applied_with_fitted_baseline(st):
     assert st.case.fio2 == 1.0
     base = st.case.baseline
     assert float(base.fio2) == pytest.approx(0.6)
-    assert float(base.shunt_fraction) == pytest.approx(st.fit.fitted["shunt_fraction"], abs=5e-5)
+    assert float(base.shunt_fraction) == round(st.fit.fitted["shunt_fraction"], 3)
     # A second what-if is compared against the fitted case, not the first what-if.
     assert st.apply_lever("transfusion")
     assert float(st.case.baseline.fio2) == pytest.approx(0.6)
@@ -285,3 +296,68 @@ def test_screen_renders_and_follows_state(st):
     assert levers._pick.value == "fio2_1.00"
     st.calculate()  # a new calculation empties the table: the picker must cope
     assert levers._pick.options == {}
+
+
+def test_model_table_at_39c_shows_the_37c_reading_and_flags_what_it_shows(st):
+    st.case.pressure_unit, st.case.hb_unit = "kPa", "g/L"
+    entered(st, SEPTIC)
+    assert st.fit_measured() and st.use_fitted()
+    rows = {r.key: r for r in st.case.readings()}
+    # The chain's PaO2 is at 39 degC; it carries the temperature and no flag, since the
+    # reference range is for gases read at 37 degC, like the measured 82 mmHg = 10.9 kPa.
+    at_39, at_37 = rows["arterial_po2"], rows["arterial_po2_37"]
+    assert at_39.label.endswith("at 39.0 °C") and (at_39.low, at_39.flag) == (None, "")
+    assert at_37.label == "PaO2 as read at 37 °C"
+    assert f"{at_37.value:.1f}" == "10.9" and at_37.value < at_39.value
+    # The model's PvO2 as read at 37 degC is the fit's, as its residual table shows it.
+    pvo2 = next(r for r in st.fit.residuals if r.quantity == "PvO2").model
+    assert rows["venous_po2_37"].value == pytest.approx(pvo2 / 7.50062, abs=0.01)
+    for r in rows.values():  # every flag agrees with the number as the table rounds it
+        shown = float(f"{r.value:.{r.digits}f}")
+        low = None if r.low is None else float(f"{r.low:.{r.digits}f}")
+        high = None if r.high is None else float(f"{r.high:.{r.digits}f}")
+        expected = "low" if low is not None and shown < low else ""
+        expected = "high" if high is not None and shown > high else expected
+        assert r.flag == expected, r
+
+
+def test_the_shown_extraction_on_a_bound_is_not_flagged():
+    from o2transit.dashboard.case.readings import Reading
+
+    # 39.7 mL O2/L is shown as 40: on the lower bound 40, not below it (issue 16).
+    assert Reading("o2_extracted_per_l", "", 39.7, "mL O2/L", 0, 40.0, 60.0, None).flag == ""
+    assert Reading("o2_extracted_per_l", "", 39.4, "mL O2/L", 0, 40.0, 60.0, None).flag == "low"
+
+
+def test_fio2_and_hb_fields_name_their_owner(st):
+    st.case.hb_unit = "g/L"
+    assert st.display_label("fio2") == "FiO2 when drawn (fraction)"
+    assert st.display_label("hb_g_dl") == "Measured Hb (g/L)"
+    assert st.case.display_label("fio2") == "Model FiO2 (fraction)"
+    assert st.case.display_label("hb_g_dl") == "Model Hb (g/L)"
+
+
+def test_derived_words_follow_the_pressure_unit(st):
+    st.case.pressure_unit = "kPa"
+    entered(st, SEPTIC)
+    rows = {r.key: r for r in st.derived_rows()}
+    # 40 mmHg = 5.33 kPa (1 kPa = 7.50062 mmHg); the Berlin cut-offs 100/200 mmHg likewise.
+    assert "PCO2 5.33 kPa" in rows["p50_standard_mmhg"].label
+    assert "5.33 kPa" in rows["p50_standard_mmhg"].source
+    assert "13.3 < P/F ≤ 26.7 kPa" in rows["pf_category_berlin"].value
+    assert rows["sao2_fio2_ratio"].unit == ""
+    text = " ".join(f"{r.label} {r.value} {r.unit} {r.source} {r.usual}" for r in rows.values())
+    assert "mmHg" not in text.replace("cut-offs are in mmHg", "")
+
+
+def test_shunt_what_if_is_set_in_percent_points_like_the_plans(st):
+    entered(st)
+    assert st.fit_measured()
+    shunt = 100.0 * st.fit.inputs["shunt_fraction"]
+    st.shunt_change_points = -15.0
+    label = next(r[1] for r in st.lever_rows() if r[1].startswith("Shunt"))
+    assert label == f"Shunt {shunt:.1f} → {shunt - 15.0:.1f} %"
+    st.shunt_change_points = 50.0  # 34.8 % + 50 points is beyond the 80 % the model takes
+    assert st.lever_table == []
+    assert "a shunt change of +50 % points would take the shunt from" in st.lever_message
+    assert "outside the allowed range 0–80 %" in st.lever_message

@@ -10,7 +10,12 @@ from hypothesis import assume, given
 from hypothesis import strategies as st
 from o2transit.model import HUFNER_ML_G, NORMAL_DPG_MMOL_L, rank_levers, solve_transport
 from o2transit.model.circulation import VO2_Q10_PER_C
-from o2transit.model.levers import RANK_QUANTITIES, STORED_BLOOD_DPG_MMOL_L, sort_outcomes
+from o2transit.model.levers import (
+    RANK_QUANTITIES,
+    STORED_BLOOD_DPG_MMOL_L,
+    one_change,
+    sort_outcomes,
+)
 from properties import budget
 
 FAST = budget(20)
@@ -225,3 +230,56 @@ def test_outcome_inputs_are_live_cases_for_the_dashboard(table):
     for o in table:
         assert state.apply_inputs(o.inputs, name=o.label), state.error_message
         assert float(state.result.do2_ml_min) == pytest.approx(o.do2_ml_min, rel=1e-9)
+
+
+# ------------------------------------------------------------------ one change on its own
+def test_one_change_is_the_rule_every_ranked_what_if_was_built_with(table):
+    # Each ranked what-if's case is the case one_change builds from the same setting.
+    settings = {
+        "transfusion": ("transfusion", 10.0),
+        "cardiac_output": ("cardiac_output", CASE["cardiac_output_l_min"] * 1.2),
+        "cooling": ("cooling", 36.0),
+        "ph": ("ph", 7.40),
+        "shunt": ("shunt", -0.1),
+        "fio2_0.80": ("fio2", 0.8),
+    }
+    outcomes = by_key(table)
+    for key, (lever, value) in settings.items():
+        made = one_change(CASE, lever, value)
+        assert made is not None and made.inputs == outcomes[key].inputs, key
+        assert made.changes == outcomes[key].changes, key
+    # The base case is not changed in place.
+    assert CASE["hb_g_dl"] == 8.0
+
+
+def test_one_change_that_does_not_apply_is_none():
+    assert one_change(CASE, "transfusion", 7.0) is None  # Hb 8.0 already above
+    assert one_change(CASE, "cooling", 39.0) is None  # 38.5 degC is not warmer than 39
+    assert one_change(CASE, "fio2", 0.5) is None
+    assert one_change(CASE, "shunt", 0.0) is None
+    # pH 7.30 at 38.5 degC reads 7.30 + 0.0147 x 1.5 = 7.322 at 37 degC (Rosenthal 1948).
+    assert one_change(CASE, "ph", 7.322) is None
+
+
+def test_one_change_goes_down_as_well_and_drops_base_excess_for_a_ph():
+    made = one_change(CASE, "fio2", 0.3)
+    assert made.inputs["fio2"] == 0.3 and made.label == "FiO2 0.50 → 0.30"
+    be_case = {k: v for k, v in CASE.items() if k != "ph"} | {"base_excess_mmol_l": -8.0}
+    made = one_change(be_case, "ph", 7.40)
+    assert "base_excess_mmol_l" not in made.inputs and "ph" in made.inputs
+
+
+@pytest.mark.parametrize(
+    ("lever", "value", "pattern"),
+    [
+        ("tide", 1.0, r"lever 'tide' is unknown"),
+        ("fio2", 1.5, r"fio2 = 1.5 is outside the allowed range 0.05-1"),
+        ("transfusion", 30.0, r"target_hb_g_dl = 30.0 is outside .* g/dL"),
+        ("cardiac_output", 0.1, r"cardiac_output = 0.1 is outside .* L/min"),
+        ("shunt", -0.5, r"would take the shunt fraction from 0.30 to -0.20"),
+        ("ph", "acid", r"ph_target = 'acid' must be a number"),
+    ],
+)
+def test_one_change_refuses_bad_values_with_field_value_range_unit(lever, value, pattern):
+    with pytest.raises(ValueError, match=pattern):
+        one_change(CASE, lever, value)

@@ -160,3 +160,24 @@ def test_every_kind_has_its_range_and_chain_input():
     for kind in CHANGE_KINDS.values():
         assert kind.low < kind.high
         assert kind.quantity in solve_transport.__code__.co_varnames
+
+
+def test_a_step_is_the_one_change_rule_not_a_ranking(monkeypatch):
+    # A plan applies one change with model.levers.one_change; it never ranks what-ifs.
+    from o2transit.model import levers
+
+    def refuse(*_args, **_kwargs):
+        raise AssertionError("a plan step must not rank what-ifs")
+
+    monkeypatch.setattr(levers, "rank_levers", refuse)
+    for change, lever in (
+        (Change("hb", 10.0, True), "transfusion"),
+        (Change("temperature", 37.0), "cooling"),
+        (Change("ph", 7.35), "ph"),
+        (Change("cardiac_output", 8.0), "cardiac_output"),
+    ):
+        case, step = apply_change(BASE, change)
+        rule = levers.one_change(
+            BASE, lever, change.value, stored_blood_dpg_depleted=change.stored_blood
+        )
+        assert step.applied and case == rule.inputs and step.note == rule.note

@@ -21,7 +21,9 @@ class PatientCurve(BedsidePanel):
     def __init__(self, state: BedsideState, gate: Gate | None = None, **params):
         super().__init__(state, **params)
         self._lines = ColumnDataSource(data={"x": [], "arterial": [], "venous": [], "standard": []})
-        self._points = ColumnDataSource(data={"x": [], "y": [], "color": [], "label": []})
+        self._points = ColumnDataSource(
+            data={"x": [], "y": [], "color": [], "label": [], "align": [], "dx": []}
+        )
         fig = saturation_figure(330, "", "14px")
         fig.line(
             "x",
@@ -60,8 +62,9 @@ class PatientCurve(BedsidePanel):
                 y="y",
                 text="label",
                 source=self._points,
-                x_offset=10,
+                x_offset="dx",
                 y_offset=-16,
+                text_align="align",
                 text_font_size="12px",
                 text_color=INK,
             )
@@ -86,12 +89,8 @@ class PatientCurve(BedsidePanel):
         st = self._state
         view = st.patient_curve()
         self._fig.title.text = view["title"]
-        t_c = (st.entry.measured or {}).get("temperature_c")
-        # The analyser's 37 degC PO2 is moved to the patient's temperature to sit on the
-        # curve: say so, since the numbers differ from the gas report's.
-        where = f" at the patient's {t_c:.1f} °C" if t_c is not None else ""
-        moved = " (moved from 37 °C)" if t_c is not None and abs(t_c - 37.0) > 0.05 else ""
-        self._fig.xaxis.axis_label = f"PO2 ({st.case.pressure_unit}){where}"
+        moved = view["moved"]
+        self._fig.xaxis.axis_label = view["x_label"]
         self._fig.x_range.end = view["x_max"]
         set_data(self._lines, {k: view[k] for k in ("x", "arterial", "venous", "standard")})
         xs, ys, colors, labels = [], [], [], []
@@ -105,4 +104,8 @@ class PatientCurve(BedsidePanel):
                 ys.append(y)
                 colors.append(color)
                 labels.append(text + moved)
-        set_data(self._points, {"x": xs, "y": ys, "color": colors, "label": labels})
+        # The arterial point sits on the plateau, near the right edge: its words go left.
+        aligns = ["right" if c == ARTERIAL else "left" for c in colors]
+        dxs = [-10 if a == "right" else 10 for a in aligns]
+        data = {"x": xs, "y": ys, "color": colors, "label": labels, "align": aligns, "dx": dxs}
+        set_data(self._points, data)

@@ -8,11 +8,12 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 
 from ...model import bedside
 from ..case.state import CaseState
 from .display import Row
-from .wording import expected_aa, shown_value, usual_range
+from .wording import expected_aa, in_display_units, shown_value, usual_range
 
 FRACTION_AS_PERCENT = frozenset({"shunt_fraction", "extraction_ratio", "sao2_from_curve"})
 """Derived fractions shown in percent."""
@@ -46,7 +47,7 @@ DERIVED_SOURCES: dict[str, str] = {
     "extraction_ratio": "(CaO2 − CvO2) / CaO2",
     "pco2_gap_mmhg": "PvCO2 − PaCO2; cut-off Ospina-Tascón 2013",
     "p50_insitu_mmhg": "single point, Hill n 2.7: Doyle 1997",
-    "p50_standard_mmhg": "to pH 7.40, PCO2 40 by Kelman 1966",
+    "p50_standard_mmhg": "to pH 7.40, PCO2 40 mmHg by Kelman 1966",
     "alpha_stat_pao2_mmhg": "alpha-stat (Swan 1984): as measured",
     "alpha_stat_paco2_mmhg": "alpha-stat: as measured",
     "alpha_stat_ph": "alpha-stat: as measured",
@@ -115,11 +116,21 @@ def _shown(case: CaseState, key: str, value: float, unit: str, digits: int):
 def _category_row(case: CaseState, key: str, label: str, code: str) -> DerivedRow:
     """An ARDS category in words; in kPa the note gives the mmHg cut-offs converted."""
     labels = bedside.PF_CATEGORY_LABELS[CATEGORY_SETS[key]]
-    note = ""
+    note, text = "", labels.get(code, code)
     if key.startswith("pf_") and case.pressure_unit == "kPa":
         kpa = ", ".join(f"{case.pressure_to_display(c):.1f}" for c in (100, 200, 300))
         note = f"cut-offs are in mmHg: 100, 200, 300 mmHg = {kpa} kPa"
-    return DerivedRow(key, label, labels.get(code, code), "", "", DERIVED_SOURCES[key], note)
+        text = _PF_BOUND.sub(lambda m: f"{case.pressure_to_display(float(m.group(0))):.1f}", text)
+    if key.startswith("pf_"):
+        text = _PF_TAIL.sub(rf"\1 {case.pressure_unit}\2", text)
+    text = text.replace("<=", "≤").replace(">=", "≥")
+    return DerivedRow(key, label, text, "", "", DERIVED_SOURCES[key], note)
+
+
+_PF_BOUND = re.compile(r"(?<=P/F <= )\d+|(?<=P/F above )\d+|\d+(?= < P/F)")
+"""The mmHg cut-offs in a P/F category's words ('100 < P/F <= 200', 'P/F above 300')."""
+_PF_TAIL = re.compile(r"(P/F (?:<=|above) \d+(?:\.\d)?)(:|,|;|\))")
+"""The last cut-off of a P/F category, where its unit goes."""
 
 
 def derived_rows(derived: dict | None, case: CaseState) -> list[DerivedRow]:
@@ -148,12 +159,12 @@ def derived_rows(derived: dict | None, case: CaseState) -> list[DerivedRow]:
         rows.append(
             DerivedRow(
                 key,
-                label.replace("degC", "°C"),
+                in_display_units(case, label.replace("degC", "°C")),
                 f"{shown:.{shown_digits}f}".replace("-", "−"),
                 shown_unit,
                 # Flagged as shown: a value that rounds onto a bound is not beyond it.
                 flag(key, shown_value(case, key, value, shown_digits), derived),
-                DERIVED_SOURCES.get(key, ""),
+                in_display_units(case, DERIVED_SOURCES.get(key, "")),
                 "",
                 usual_range(case, key, derived),
             )

@@ -62,9 +62,14 @@ def display_unit(case: CaseState, key: str) -> str:
     return "" if unit in ("", "-", "fraction") else unit.replace("degC", "°C")
 
 
+OWNER_LABELS = {"fio2": "FiO2 when drawn", "hb_g_dl": "Measured Hb"}
+"""Form labels that say whose value this is: the Model inputs sidebar has its own FiO2 and
+Hb ("Model FiO2", "Model Hb"), which only "Use fitted case" fills from these."""
+
+
 def display_label(case: CaseState, key: str) -> str:
     """The form label of a measured field with its display unit."""
-    label = limits(key)[3]
+    label = OWNER_LABELS.get(key, limits(key)[3])
     unit = display_unit(case, key)
     if unit == "%":
         label = label.replace(" fraction", "")

@@ -18,16 +18,42 @@ from .display import Row, pressure_digits, signed
 from .entry import GasEntry
 from .wording import fit_words
 
+SHOWN_DIGITS: dict[str, int] = {
+    "fio2": 2,
+    "shunt_fraction": 3,
+    "vo2_ml_min": 0,
+    "ph": 3,
+    "base_excess_mmol_l": 1,
+    "paco2_mmhg": 1,
+    "p50_mmhg": 1,
+    "barometric_pressure_mmhg": 1,
+    "hb_g_dl": 2,
+    "temperature_c": 1,
+    "cardiac_output_l_min": 2,
+    "dpg_mmol_l": 2,
+    "cohb_fraction": 3,
+    "methb_fraction": 3,
+    "altitude_m": 0,
+    "height_cm": 0,
+    "weight_kg": 1,
+}
+"""Decimals a fitted input keeps when it fills the Model inputs sidebar, the precision the
+bedside tables show it with: shunt 28.6 % (0.286), VO2 287 mL/min, pH 7.221 (an analyser's
+three decimals), PaCO2 and P50 to 0.1 mmHg (0.01 kPa in a kPa field), Hb to 0.01 g/dL
+(0.1 g/L), temperature to 0.1 degC. Inputs not named keep 4 significant decimals."""
+
 
 def tidy(inputs: dict) -> dict:
-    """Fitted inputs rounded for reading on the Model inputs tab (PaCO2 48.91, not
-    48.905514; shunt 0.3483): at most 0.005 mmHg or 5e-5 in a fraction, far below what
-    any measurement resolves."""
+    """Fitted inputs rounded to :data:`SHOWN_DIGITS`, so that the sidebar shows shunt 0.286,
+    VO2 287 and pH 7.221 rather than 0.2857, 287.13 and 7.2206. The live case is then solved
+    from these values, and kept as the baseline, so the screen's numbers agree with the
+    fields; the change from the fit is far below what a measurement resolves."""
     out = {}
     for k, v in inputs.items():
         if isinstance(v, (float, np.floating)) and not isinstance(v, bool):
             v = float(v)
-            out[k] = round(v, 4) if abs(v) < 10 else round(v, 2)
+            digits = SHOWN_DIGITS.get(k, 4 if abs(v) < 10 else 2)
+            out[k] = round(v, digits) if digits else float(round(v))
         else:
             out[k] = v
     return out
@@ -132,7 +158,8 @@ class PatientFit(param.Parameterized):
         return rows
 
     def patient_curve(self) -> dict:
-        """Curves of the fitted (else live) case and the measured points, in display units."""
+        """Curves of the fitted (else live) case and the measured points, in display units;
+        ``x_label`` and ``moved`` say at which temperature the points are shown."""
         result = self.fit_result() or self.case.result
         to_p = self.case.pressure_to_display
         x = np.array([to_p(p) for p in PO2_GRID_MMHG])
@@ -154,7 +181,14 @@ class PatientFit(param.Parameterized):
                 return (to_p(po2), 100.0 * m[s_key])
             return (None, None)
 
+        # The analyser's 37 degC PO2 is moved to the patient's temperature to sit on the
+        # curve: say so, since the numbers differ from the gas report's.
+        t_c = m.get("temperature_c")
+        where = f" at the patient's {t_c:.1f} °C" if t_c is not None else ""
+        moved = " (moved from 37 °C)" if t_c is not None and abs(t_c - 37.0) > 0.05 else ""
         return {
+            "x_label": f"PO2 ({self.case.pressure_unit}){where}",
+            "moved": moved,
             "x": x,
             "x_max": float(x[-1]),
             "arterial": curves["arterial"],

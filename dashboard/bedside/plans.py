@@ -10,6 +10,7 @@ from __future__ import annotations
 import param
 
 from ...model import levers
+from ...model.limits import INPUT_LIMITS
 from ..case.state import CaseState
 from .display import display_range, format_value, from_display, pressure_digits, signed, to_display
 from .fit import PatientFit
@@ -44,11 +45,12 @@ class LeverPlans(param.Parameterized):
         label="Stored blood, low in 2,3-DPG",
         doc="Transfused cells carry little 2,3-DPG, shifting the curve left for a while.",
     )
-    shunt_change = param.Number(
-        default=-0.10,
-        bounds=(-0.6, 0.6),
-        label="Shunt change (fraction, e.g. −0.10)",
-        doc="Change in Qs/Qt you expect from a manoeuvre [-], e.g. -0.10; 0 leaves it out.",
+    shunt_change_points = param.Number(
+        default=-10.0,
+        bounds=(-60.0, 60.0),
+        label="Shunt change (% points, e.g. −10)",
+        doc="Change in Qs/Qt you expect from a manoeuvre [% points], e.g. -10 (the shunt "
+        "is shown in % on this screen, as the plans' shunt change is typed); 0 leaves it out.",
     )
     cooling_to_c = param.Number(
         default=36.0, bounds=(32.0, 37.5), label="Cool to (°C)", doc="Cooling target [°C]."
@@ -61,6 +63,15 @@ class LeverPlans(param.Parameterized):
     )
     lever_table = param.List(default=[], doc="Ranked model.levers.LeverOutcome list.")
     lever_message = param.String(default="")
+
+    @property
+    def shunt_change(self) -> float:
+        """The shunt change as a fraction [-], as ``model.levers.rank_levers`` takes it."""
+        return self.shunt_change_points / 100.0
+
+    @shunt_change.setter
+    def shunt_change(self, fraction: float) -> None:
+        self.shunt_change_points = 100.0 * float(fraction)
 
     def __init__(self, **params):
         super().__init__(**params)
@@ -78,6 +89,20 @@ class LeverPlans(param.Parameterized):
         fit = self.fitting.fit
         if fit is None:
             self.param.update(lever_table=[], lever_message="Fit the model first.")
+            return False
+        shunt_now = float(fit.inputs.get("shunt_fraction", 0.0))
+        lo, hi = INPUT_LIMITS["shunt_fraction"][:2]
+        if self.shunt_change != 0 and not lo <= shunt_now + self.shunt_change <= hi:
+            after = f"{100.0 * (shunt_now + self.shunt_change):.1f}".replace("-", "−")
+            change = f"{self.shunt_change_points:+g}".replace("-", "−")
+            self.param.update(
+                lever_table=[],
+                lever_message=(
+                    f"What-ifs not ranked: a shunt change of {change} % points would take the "
+                    f"shunt from {100.0 * shunt_now:.1f} % to {after} %, outside the allowed "
+                    f"range {100 * lo:g}–{100 * hi:g} %."
+                ),
+            )
             return False
         try:
             table = levers.rank_levers(
@@ -103,7 +128,7 @@ class LeverPlans(param.Parameterized):
     @param.depends(
         "target_hb_g_dl",
         "stored_blood",
-        "shunt_change",
+        "shunt_change_points",
         "cooling_to_c",
         "cardiac_output_factor",
         watch=True,

@@ -209,11 +209,19 @@ class PlanCard(pn.viewable.Viewer):
         try:
             if self._name.value != plan.name:
                 self._name.value = plan.name
+            # Options are sent only when they change: sending them again while the user
+            # picks a kind would put the picker back to the server's value.
             keep = self._change.value
-            self._change.options = choices
-            self._change.value = keep if keep in choices.values() else -1
-            self._kind.options = kind_choices(self._state.case)
-            self._value.label = kind_label(self._state.case, self._kind.value)
+            if self._change.options != choices:
+                self._change.options = choices
+            if keep not in choices.values():
+                self._change.value = -1
+            kinds = kind_choices(self._state.case)
+            if self._kind.options != kinds:
+                self._kind.options = kinds
+            label = kind_label(self._state.case, self._kind.value)
+            if self._value.label != label:
+                self._value.label = label
         finally:
             self._syncing = False
         self._live.disabled = not (

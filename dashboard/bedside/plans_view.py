@@ -31,7 +31,7 @@ class WhatIfTable(BedsidePanel):
             s.stored_blood, css_classes=["o2-bs-stored-blood"], align="end"
         )
         self._shunt = pn.widgets.FloatInput.from_param(
-            s.shunt_change, css_classes=["o2-bs-shunt-change"], width=250
+            s.shunt_change_points, css_classes=["o2-bs-shunt-change"], width=250
         )
         self._cool = pn.widgets.FloatInput.from_param(
             s.cooling_to_c, css_classes=["o2-bs-cool-to"], width=150

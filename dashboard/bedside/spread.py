@@ -19,7 +19,7 @@ from ...model import spread
 from ..case.state import CaseState
 from .entry import GasEntry
 from .fit import PatientFit
-from .wording import number, unit_of
+from .wording import in_display_units, number, unit_of
 
 TOLERANCE_ROWS = (
     # derive output, label, kind, source of the value
@@ -101,7 +101,7 @@ class MeasurementDoubt(param.Parameterized):
     # ------------------------------------------------------------------ for views
     def source(self) -> str:
         table = spread.TOLERANCE_SETS[self.tolerance_set]
-        return f"{table['label']}: {table['source']}."
+        return in_display_units(self.case, f"{table['label']}: {table['source']}.")
 
     def _format(self, kind: str, value: float) -> str:
         return number(self.case, kind, value)

@@ -183,6 +183,7 @@ class BedsideState(param.Parameterized):
     target_hb_g_dl = _forward("plans", "target_hb_g_dl")
     stored_blood = _forward("plans", "stored_blood")
     shunt_change = _forward("plans", "shunt_change")
+    shunt_change_points = _forward("plans", "shunt_change_points")
     cooling_to_c = _forward("plans", "cooling_to_c")
     cardiac_output_factor = _forward("plans", "cardiac_output_factor")
     lever_table = _forward("plans", "lever_table")

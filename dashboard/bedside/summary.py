@@ -74,7 +74,6 @@ def _table(head: list[str], rows: list[list[str]], num_cols: set[int], cls: str)
 def curve_figure(state: BedsideState):
     """The patient's curve with the measured points, as a standalone Bokeh figure."""
     view = state.patient_curve()
-    unit = state.case.pressure_unit
     fig = figure(
         width=640,
         height=360,
@@ -84,7 +83,7 @@ def curve_figure(state: BedsideState):
         y_range=Range1d(0, 102),
         title=view["title"],
     )
-    fig.xaxis.axis_label = f"PO2 ({unit})"
+    fig.xaxis.axis_label = view["x_label"]
     fig.yaxis.axis_label = "SO2 (%)"
     fig.line(
         view["x"],
@@ -98,8 +97,8 @@ def curve_figure(state: BedsideState):
     if view["venous"] is not None:
         fig.line(view["x"], view["venous"], color=VENOUS, line_width=2, legend_label="venous")
     for (x, y), color, label in (
-        (view["measured_arterial"], ARTERIAL, "measured arterial"),
-        (view["measured_venous"], VENOUS, "measured venous"),
+        (view["measured_arterial"], ARTERIAL, "measured arterial" + view["moved"]),
+        (view["measured_venous"], VENOUS, "measured venous" + view["moved"]),
     ):
         if x is not None and y is not None:
             fig.scatter(

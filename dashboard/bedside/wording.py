@@ -251,7 +251,7 @@ def lever_label(case: CaseState, label: str) -> str:
     shunt = _SHUNT_LABEL.match(label)
     if shunt:
         a, b = (100.0 * float(g) for g in shunt.groups())
-        return f"Shunt {a:.0f} → {b:.0f} %"
+        return f"Shunt {a:.1f} → {b:.1f} %"
     return in_display_units(case, label)
 
 

@@ -17,6 +17,8 @@ from .units import DisplayUnits
 # Inputs whose unit follows the display choice.
 PRESSURE_INPUTS = ("paco2_mmhg", "barometric_pressure_mmhg", "p50_mmhg")
 HB_INPUTS = ("hb_g_dl",)
+PER_PRESSURE_INPUTS = ("diffusing_capacity_ml_min_mmhg",)
+"""Inputs per unit of pressure, shown per kPa when pressures are in kPa."""
 
 
 def _nice(x: float) -> str:
@@ -101,6 +103,15 @@ class CaseEntry(CaseInputs, DisplayUnits):
             )
         if name in HB_INPUTS:
             return "(g/dL)", f"({self.hb_unit})", self.hb_to_display, self.hb_from_display
+        if name in PER_PRESSURE_INPUTS:
+            # x per mmHg is x / (kPa per mmHg) per kPa.
+            per_kpa = self.pressure_to_display(1.0)
+            return (
+                "/mmHg)",
+                f"/{self.pressure_unit})",
+                lambda v: float(v) / per_kpa,
+                lambda v: float(v) * per_kpa,
+            )
         return None, None, float, float
 
     def display_label(self, name: str) -> str:
@@ -125,6 +136,8 @@ class CaseEntry(CaseInputs, DisplayUnits):
             return round(shown, 2)
         if name in HB_INPUTS and self.hb_unit != "g/dL":
             return round(shown, 1 if self.hb_unit == "g/L" else 2)
+        if name in PER_PRESSURE_INPUTS and self.pressure_unit == "kPa":
+            return round(shown, 1)
         return round(shown, 6)
 
     def set_display_input(self, name: str, value: float | None) -> bool:

@@ -153,7 +153,9 @@ class CurvePlot(pn.viewable.Viewer):
         if view is None:
             return
         unit = st.pressure_unit
-        self._fig.xaxis.axis_label = f"PO2 ({unit})"
+        t = float(st.result.temperature_c)
+        at = f" at the case's {t:.1f} °C (not as read at 37 °C)" if abs(t - 37.0) > 0.05 else ""
+        self._fig.xaxis.axis_label = f"PO2 ({unit}){at}"
         for item in self._fig.legend.items:
             if self._standard_line in item.renderers:
                 item.label = fixed_value(f"standard ({st.standard_conditions_text()})")

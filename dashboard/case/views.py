@@ -12,6 +12,7 @@ from pathlib import Path
 
 import panel as pn
 
+from ..bedside.wording import in_display_units
 from ..look import TABLE_CSS
 from ..responsive import held, later_part
 from .formatting import fmt
@@ -239,9 +240,10 @@ class CaseControls(pn.viewable.Viewer):
         self._state = state
         options = state.scenario_choices(scenario_dir) if scenario_dir else state.scenario_choices()
         # The picker opens on a prompt, so it never names a scenario that is not on screen.
+        self._scenarios = options
         self._picker = pn.widgets.Select(
             label="Scenario",
-            options={SCENARIO_PROMPT: "", **options},
+            options=self._scenario_options(),
             value="",
             css_classes=["o2-scenario"],
             width=320,
@@ -256,6 +258,8 @@ class CaseControls(pn.viewable.Viewer):
             width=80,
         )
         self._picker.param.watch(lambda e: setattr(self._load, "disabled", not e.new), "value")
+        # Scenario names carry units ("Anaemia, Hb 7 g/dL"): shown in the units chosen.
+        state.param.watch(self._relabel, ["pressure_unit", "hb_unit"])
         self._keep = pn.widgets.Button(
             label="Keep as baseline",
             css_classes=["o2-keep"],
@@ -316,6 +320,15 @@ class CaseControls(pn.viewable.Viewer):
             self._error,
             sizing_mode="stretch_width",
         )
+
+    def _scenario_options(self) -> dict[str, str]:
+        names = {in_display_units(self._state, k): v for k, v in self._scenarios.items()}
+        return {SCENARIO_PROMPT: "", **names}
+
+    def _relabel(self, *_events) -> None:
+        value = self._picker.value
+        self._picker.options = self._scenario_options()
+        self._picker.value = value
 
     def _update(self, *_events) -> None:
         st = self._state
