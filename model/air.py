@@ -15,6 +15,14 @@ a case at altitude is a place on a mountain (at the 5400 m Everest base camp the
 atmosphere gives 384.2 mmHg, West's fit 398.9, and 400.4 was measured: West et al., J Appl
 Physiol 1983; 54:1188-1194). :func:`barometric_pressure` itself keeps the standard atmosphere as its default."""
 
+PRESSURE_MODEL_NAMES = {
+    "mountain": "West 1996 mountain model",
+    "standard": "ICAO standard atmosphere",
+    "given": "as entered",
+}
+"""How every screen, report and note names the source of PB (a result's ``pressure_model``:
+one of :data:`PRESSURE_MODELS`, or ``"given"`` for a measured pressure)."""
+
 _R0_M = 6356766.0  # Earth radius used by ICAO to convert geometric to geopotential height [m]
 
 

@@ -56,7 +56,7 @@ from typing import Any, SupportsFloat, SupportsIndex
 
 import numpy as np
 
-from .air import barometric_pressure
+from .air import PRESSURE_MODEL_DEFAULT, PRESSURE_MODEL_NAMES, barometric_pressure
 from .circulation import body_surface_area, extraction_ratio, oxygen_delivery
 from .content import oxygen_content
 from .dissociation import HILL_N, p50, po2_from_saturation, saturation
@@ -593,10 +593,13 @@ def _measured(given: dict) -> tuple[_Work, tuple[int, ...]]:
 
 
 def _barometric_pressure(w: _Work) -> None:
-    """PB: measured, else the ICAO standard atmosphere at the altitude, else 760 (noted)."""
+    """PB: measured, else the default pressure model at the altitude (West 1996's mountain
+    model, as in :func:`model.transport.solve_transport`), else 760 (noted)."""
     m = w.m
     pb_given, alt_given = _given(m["barometric_pressure_mmhg"]), _given(m["altitude_m"])
-    pb_alt = barometric_pressure(np.where(alt_given, m["altitude_m"], 0.0))
+    pb_alt = barometric_pressure(
+        np.where(alt_given, m["altitude_m"], 0.0), model=PRESSURE_MODEL_DEFAULT
+    )
     pb = np.where(
         pb_given, m["barometric_pressure_mmhg"], np.where(alt_given, pb_alt, DEFAULT_PB_MMHG)
     )
@@ -605,7 +608,8 @@ def _barometric_pressure(w: _Work) -> None:
         f"barometric pressure not given: {DEFAULT_PB_MMHG:g} mmHg assumed",
     )
     w.notes.add(
-        ~pb_given & alt_given, "barometric pressure from altitude (ICAO standard atmosphere)"
+        ~pb_given & alt_given,
+        f"barometric pressure from altitude ({PRESSURE_MODEL_NAMES[PRESSURE_MODEL_DEFAULT]})",
     )
     w.out["barometric_pressure_used_mmhg"] = pb
 
@@ -636,7 +640,9 @@ def _oxygenation_ratios(w: _Work) -> None:
     pb = out["barometric_pressure_used_mmhg"]
     pf = pao2 / fio2
     pf_corr = pf * pb / 760.0
-    use_corr = pb < float(barometric_pressure(PB_CORRECTION_ALTITUDE_M))
+    use_corr = pb < float(
+        barometric_pressure(PB_CORRECTION_ALTITUDE_M, model=PRESSURE_MODEL_DEFAULT)
+    )
     pf_cat_input = np.where(use_corr, pf_corr, pf)
     w.notes.add(
         use_corr & np.isfinite(pf),

@@ -53,7 +53,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .air import barometric_pressure
+from .air import PRESSURE_MODEL_DEFAULT, barometric_pressure
 from .bedside import (
     SINGLE_POINT_SO2_RANGE,
     check_measured,
@@ -384,7 +384,7 @@ def _ideal_capillary_content(inputs: dict) -> float:
     """O2 content of blood equilibrated with alveolar gas (Berggren's ideal capillary)."""
     pb = inputs.get("barometric_pressure_mmhg")
     if pb is None:
-        pb = float(barometric_pressure(inputs["altitude_m"]))
+        pb = float(barometric_pressure(inputs["altitude_m"], model=PRESSURE_MODEL_DEFAULT))
     pao2_alv = float(
         alveolar_po2(
             fio2=inputs["fio2"],

@@ -334,15 +334,16 @@ def test_negative_aa_gradient_is_flagged():
 
 
 def test_barometric_pressure_sources_noted():
-    # Neither PB nor altitude: 760 assumed and said; altitude: ICAO standard atmosphere
-    # (1500 m -> 634.2 mmHg, ICAO Doc 7488; tolerance 0.1); PB wins over altitude.
+    # Neither PB nor altitude: 760 assumed and said; altitude: West's mountain model, as
+    # the chain (1500 m -> exp(6.63268 - 0.1112 h - 0.00149 h^2) = 640.7 mmHg, West, J Appl
+    # Physiol 1996; 81:1850-1854; tolerance 0.1), named in the note; PB wins over altitude.
     no_pb = {k: v for k, v in NORMAL.items() if k != "barometric_pressure_mmhg"}
     d = derive(**no_pb)
     assert float(d["barometric_pressure_used_mmhg"]) == 760.0
     assert "760 mmHg assumed" in str(d["notes"])
     d = derive(**no_pb, altitude_m=1500.0)
-    assert abs(float(d["barometric_pressure_used_mmhg"]) - 634.2) <= 0.1
-    assert "altitude" in str(d["notes"])
+    assert abs(float(d["barometric_pressure_used_mmhg"]) - 640.7) <= 0.1
+    assert "altitude (West 1996 mountain model)" in str(d["notes"])
     d = derive(**no_pb, altitude_m=1500.0, barometric_pressure_mmhg=640.0)
     assert float(d["barometric_pressure_used_mmhg"]) == 640.0
 

@@ -14,6 +14,7 @@ from urllib.parse import urlencode
 
 import numpy as np
 
+from ...model.air import PRESSURE_MODEL_NAMES as AIR_NAMES
 from ...model.ascent import AscentError, AscentProfile, AscentResult, run_ascent
 from ...model.ascent_report import (
     CASE_KEYS,
@@ -30,10 +31,7 @@ from ...model.units import MMHG_PER_KPA
 if TYPE_CHECKING:
     from .state import AscentWorkspace
 
-PRESSURE_MODEL_NAMES = {
-    "mountain": "West 1996 mountain model",
-    "standard": "ICAO standard atmosphere",
-}
+PRESSURE_MODEL_NAMES = {k: v for k, v in AIR_NAMES.items() if k != "given"}
 """How the screen names each pressure model of :data:`model.PRESSURE_MODELS`."""
 
 

@@ -15,16 +15,13 @@ import numpy as np
 
 from ... import model
 from ...model import plans as model_plans
+from ...model.air import PRESSURE_MODEL_NAMES
 from .ranges import NORMAL_RANGES
 from .units import DisplayUnits
 
 PO2_GRID_MMHG = np.linspace(0.5, 150.0, 300)
 
-PB_SOURCES = {
-    "mountain": "West 1996 mountain model",
-    "standard": "ICAO standard atmosphere",
-    "given": "as entered",
-}
+PB_SOURCES = PRESSURE_MODEL_NAMES
 """How the numbers table names the pressure model that gave PB (the result's
 ``pressure_model``)."""
 
