@@ -40,7 +40,7 @@ from .dissociation import (
     saturation,
 )
 from .fitting import FitResult, Residual, fit_case
-from .levers import LeverOutcome, rank_levers
+from .levers import LeverOutcome, one_change, rank_levers
 from .limits import INPUT_CHOICES, INPUT_LIMITS
 from .lungs import aa_gradient, alveolar_po2, end_capillary_po2, mix_by_content, po2_from_content
 from .scenario import Scenario, ScenarioError, load_scenario
@@ -118,6 +118,7 @@ __all__ = [
     "ph_from_base_excess",
     "po2_from_content",
     "po2_from_saturation",
+    "one_change",
     "rank_levers",
     "run_ascent",
     "run_batch",
