@@ -13,27 +13,60 @@ import ipaddress
 import socket
 
 import panel as pn
+from tornado.web import GZipContentEncoding, OutputTransform
 
-from . import responsive
-from .case.app import TITLE, create_app
+from . import connection, responsive, sessions, widgets
+from .case.app import TITLE, page_shell
+from .case.app import create_app as build_case_page
 
-__all__ = ["SCREENS", "TITLE", "PortBusyError", "create_app", "serve"]
+__all__ = [
+    "SCREENS",
+    "SECURITY_HEADERS",
+    "TITLE",
+    "PortBusyError",
+    "create_app",
+    "serve",
+    "server_options",
+]
 
 responsive.install()  # MathJax only for pages with mathematics (none of ours)
+connection.install()  # every page says at once when its server has gone
+widgets.install_upload_guard()  # a file over an upload's limit is stopped in the browser
 
 
-def create_ascent_page() -> pn.template.BootstrapTemplate:
+# Each factory gives a plain request the screen's shell only; the screen is built when the
+# page connects (dashboard.sessions). Outside a server it builds the whole screen at once.
+create_app = sessions.template_page("case", page_shell, build_case_page)
+
+
+def _ascent_shell() -> pn.template.BootstrapTemplate:
+    from .ascent.app import page_shell as ascent_shell
+
+    return ascent_shell()
+
+
+def _build_ascent() -> pn.template.BootstrapTemplate:
     """The planner page; its modules (and pandas, via the table widget) load on first visit."""
     from .ascent.app import create_ascent_app
 
     return create_ascent_app()
 
 
-def create_lecture_page() -> pn.Column:
+def _lecture_shell(*objects) -> pn.Column:
+    from .lecture.app import page_shell as lecture_shell
+
+    return lecture_shell(*objects)
+
+
+def _build_lecture() -> pn.Column:
     """The lecture page; its modules load on first visit."""
     from .lecture.app import create_lecture_app
 
     return create_lecture_app()
+
+
+create_ascent_page = sessions.template_page("ascent", _ascent_shell, _build_ascent)
+create_lecture_page = sessions.column_page("lecture", _lecture_shell, _build_lecture)
 
 
 SCREENS: dict[str, object] = {
@@ -42,6 +75,63 @@ SCREENS: dict[str, object] = {
     "/lecture": create_lecture_page,
 }
 """URL path -> session factory; the link text of each path is in ``dashboard.nav.SCREEN_TITLES``."""
+
+
+CONTENT_SECURITY_POLICY = "; ".join(  # noqa: FLY002 - one directive a line, with why
+    (
+        "default-src 'self'",
+        # Bokeh and Panel write inline scripts (the document, its start-up) and inline styles
+        # into every page, Bokeh evaluates model code from strings (without 'unsafe-eval' no page
+        # renders: measured) and the module loader
+        # (es-module-shims) runs its rewritten modules from blob: addresses
+        "script-src 'self' 'unsafe-inline' 'unsafe-eval' blob:",
+        "style-src 'self' 'unsafe-inline'",
+        "img-src 'self' data: blob:",
+        "font-src 'self' data:",
+        "connect-src 'self'",  # the live connection (ws:) to this server; CSP 3 counts it
+        "worker-src 'self' blob:",
+        "object-src 'none'",
+        "base-uri 'self'",
+        "form-action 'self'",
+        "frame-ancestors 'none'",
+    )
+)
+"""Everything a page loads comes from this server (the dashboard is offline by design, see
+``dashboard.offline``); no other site may frame it."""
+
+SECURITY_HEADERS = {
+    "Content-Security-Policy": CONTENT_SECURITY_POLICY,
+    "X-Frame-Options": "DENY",
+    "X-Content-Type-Options": "nosniff",
+    "Referrer-Policy": "no-referrer",
+}
+"""Sent with every response of :func:`serve`: no framing by another page (clickjacking), no
+scripts or styles from elsewhere, no guessing of content types, and no page address (which
+holds the case) passed on to another site in a Referer."""
+
+
+class SecurityHeaders(OutputTransform):
+    """Adds :data:`SECURITY_HEADERS` to every response (pages, scripts, styles, errors)."""
+
+    def transform_first_chunk(self, status_code, headers, chunk, finishing):
+        for name, value in SECURITY_HEADERS.items():
+            headers.setdefault(name, value)
+        return status_code, headers, chunk
+
+
+def server_options() -> dict:
+    """``pn.serve`` keywords of the dashboard's server: :data:`responsive.SERVER_OPTIONS`
+    (gzip), :data:`sessions.SESSION_OPTIONS` (how soon a closed page's session is let go)
+    and the :data:`SECURITY_HEADERS` on every response.
+
+    Tornado's own gzip transform is named too: once any transform is given, Tornado adds
+    none of its own.
+    """
+    options = {**responsive.SERVER_OPTIONS, **sessions.SESSION_OPTIONS}
+    transforms: list = [SecurityHeaders]
+    if options.get("compress_response"):
+        transforms.append(GZipContentEncoding)
+    return {**options, "transforms": transforms}
 
 
 class PortBusyError(OSError):
@@ -116,6 +206,7 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
             "not only from this computer.",
             flush=True,
         )
+    sessions.freeze_startup_objects()  # before any session: full collections skip them
     return pn.serve(
         dict(SCREENS),
         address=address,
@@ -123,5 +214,5 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
         show=show,
         title=TITLE,
         websocket_origin=websocket_origins(address, port),
-        **{**responsive.SERVER_OPTIONS, **kwargs},
+        **{**server_options(), **kwargs},
     )

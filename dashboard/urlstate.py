@@ -9,6 +9,14 @@ field, the value, the allowed range and the unit; the valid ones are applied tog
 differ from the defaults), once, shortly after the last of a burst of changes
 (:class:`dashboard.responsive.Quiet`), so the page can be bookmarked or shared at any moment.
 
+Hostile or careless addresses get the notice, never a server error: a value is a number only
+if it is written as one in ASCII (``0.21``, ``-5``, ``4.5e3``) and is finite; a key given twice
+is used neither time; a pair the scenario files refuse together (pH with base excess, altitude
+with barometric pressure: :data:`model.scenario.EXCLUSIVE_INPUTS`) is refused here too, both
+values keeping their defaults. Panel's own address parser, which every served page runs and
+which raised on ``?fio2=%C2%B2`` or a 5,000-digit number, is replaced on import by one that
+keeps such a value as text (:func:`_tolerant_parse_query`).
+
 The pure half (:func:`case_query`, :func:`check_case_query`, :func:`parse_query_string`,
 :func:`case_link`) has no Panel in it and is tested alone; :func:`bind_url` wires it to a served page, and
 :func:`read_query` / :func:`write_query` are the small generic helpers other screens use for
@@ -19,14 +27,18 @@ from __future__ import annotations
 
 import html
 import math
+import re
+from collections import Counter
 from collections.abc import Iterable
 from urllib.parse import parse_qsl, urlencode
 
 import panel as pn
+import panel.io.location
 import param
+from panel.util import parse_query as _panel_parse_query
 
 from ..model.dissociation import SHORT_NAMES
-from ..model.scenario import SCENARIO_UNIT_VARIANTS
+from ..model.scenario import SCENARIO_UNIT_VARIANTS, exclusive_pairs
 from .case.state import CASE_INPUTS, CURVE_LABELS, CaseState
 from .responsive import Quiet
 
@@ -42,15 +54,84 @@ CASE_KEYS = (*CASE_INPUTS, *DISPLAY_KEYS)
 
 _TRUE, _FALSE = ("true", "1", "yes", "on"), ("false", "0", "no", "off")
 _CURVE_NAMES = {**{v: v for v in CURVE_LABELS.values()}, **SHORT_NAMES}
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
+MAX_SHOWN_CHARS = 40
+"""A refused value longer than this is shortened in the notice [characters]."""
+
+
+def _tolerant_parse_query(query: str) -> dict:
+    """Panel's ``parse_query`` for ``Location.query_params``, except that a value it cannot
+    convert (``int('²')``, a number of more than 4,300 digits) stays text instead of raising
+    inside every page's session. Our screens read the raw address themselves."""
+    try:
+        return _panel_parse_query(query)
+    except ValueError:
+        out: dict = {}
+        for key, value in parse_qsl(query[1:]):
+            try:
+                out.update(_panel_parse_query("?" + urlencode({key: value})))
+            except ValueError:
+                out[key] = value
+        return out
+
+
+panel.io.location.parse_query = _tolerant_parse_query
+
+
+def quoted(raw: str) -> str:
+    """``repr(raw)``, shortened to about :data:`MAX_SHOWN_CHARS` characters for a notice.
+
+    >>> quoted("9" * 5000)
+    "'99999999999999999999999999999999999999…' (5000 characters)"
+    """
+    if len(raw) <= MAX_SHOWN_CHARS:
+        return repr(raw)
+    return f"{raw[: MAX_SHOWN_CHARS - 2]!r}"[:-1] + f"…' ({len(raw)} characters)"
+
+
+def parse_number(raw: str) -> float | None:
+    """The finite number ``raw`` writes in plain ASCII, else None.
+
+    Python's ``float`` also takes ``inf``, ``nan``, ``1_000``, other scripts' digits and
+    surrounding spaces; an address value is a number only when written as one.
+
+    >>> parse_number("4.5e3"), parse_number("-5"), parse_number(" 1")
+    (4500.0, -5.0, None)
+    >>> [parse_number(t) for t in ("inf", "nan", "1e999", "", "²", "١", "1_0")]
+    [None, None, None, None, None, None, None]
+    """
+    if len(raw) > 400 or not _NUMBER.fullmatch(raw):
+        return None
+    number = float(raw)
+    return number if math.isfinite(number) else None
 
 
 def parse_query_string(search: str) -> dict[str, str]:
-    """``'?a=1&b=x'`` -> ``{'a': '1', 'b': 'x'}`` (raw text; the last of a repeated key wins).
+    """``'?a=1&b=x'`` -> ``{'a': '1', 'b': 'x'}`` (raw text; the last of a repeated key wins;
+    :func:`split_query` drops repeated keys with a message instead).
 
     >>> parse_query_string("?altitude_m=4500&hb_g_dl=9")
     {'altitude_m': '4500', 'hb_g_dl': '9'}
     """
     return dict(parse_qsl(search.lstrip("?"), keep_blank_values=True))
+
+
+def split_query(search: str) -> tuple[dict[str, str], list[str]]:
+    """(pairs, messages): the address pairs, less every key given more than once, and a
+    message for each such key (which value was meant cannot be known, so neither is used).
+
+    >>> split_query("?fio2=0.3&fio2=0.4&hb_g_dl=9")
+    ({'hb_g_dl': '9'}, ["fio2 is given 2 times ('0.3', '0.4'); give it once; it is not used"])
+    """
+    items = parse_qsl(search.lstrip("?"), keep_blank_values=True)
+    counts = Counter(key for key, _ in items)
+    messages = [
+        f"{quoted(key)[1:-1]} is given {n} times "
+        f"({', '.join(quoted(v) for k, v in items if k == key)}); give it once; it is not used"
+        for key, n in counts.items()
+        if n > 1
+    ]
+    return {k: v for k, v in items if counts[k] == 1}, messages
 
 
 def _text(value) -> str:
@@ -100,6 +181,8 @@ def case_query(state: CaseState) -> dict[str, str]:
             continue
         if name == "ph" and state.acid_base_input != "pH":
             continue
+        if name == "altitude_m" and state.use_pressure_override:
+            continue  # the pressure is given; a file or link names one of the two
         if value is None or value == state.param[name].default:
             continue
         out[name] = _text(value)
@@ -122,7 +205,7 @@ def _check_one(state: CaseState, key: str, raw: str):
         word = raw.strip().lower()
         if word in _TRUE or word in _FALSE:
             return name, word in _TRUE
-        raise ValueError(f"{field} = {raw!r} must be true or false; {fallback}")
+        raise ValueError(f"{field} = {quoted(raw)} must be true or false; {fallback}")
     if isinstance(p, param.Selector):
         choices = list(p.objects.values()) if isinstance(p.objects, dict) else list(p.objects)
         if name == "curve":
@@ -132,20 +215,18 @@ def _check_one(state: CaseState, key: str, raw: str):
             value = lookup.get(raw.strip().lower().replace(" ", "_"))
         if value is None:
             raise ValueError(
-                f"{field} = {raw!r} is not one of {', '.join(map(str, choices))}; {fallback}"
+                f"{field} = {quoted(raw)} is not one of {', '.join(map(str, choices))}; {fallback}"
             )
         return name, value
     lo, hi = p.bounds
     lo, hi = lo / factor, hi / factor
     span = f"{lo:.4g}–{hi:.4g}{' ' + unit if unit else ''}"
-    try:
-        number = float(raw)
-    except ValueError:
-        number = math.nan
-    if not math.isfinite(number):
-        raise ValueError(f"{field} = {raw!r} is not a number in {span}; {fallback}")
+    number = parse_number(raw)
+    if number is None:
+        raise ValueError(f"{field} = {quoted(raw)} is not a number in {span}; {fallback}")
     if not lo <= number <= hi:
-        raise ValueError(f"{field} = {raw} is outside the allowed range {span}; {fallback}")
+        shown = raw if len(raw) <= MAX_SHOWN_CHARS else quoted(raw)
+        raise ValueError(f"{field} = {shown} is outside the allowed range {span}; {fallback}")
     return name, min(max(number * factor, p.bounds[0]), p.bounds[1])
 
 
@@ -157,6 +238,8 @@ def check_case_query(
     Returns ``(inputs, display, messages)``: the case inputs that passed (for
     :meth:`CaseState.apply_inputs`), the display choices that passed, and one message per
     refused or unknown key. ``other_keys`` belong to another part of the page and are skipped.
+    A pair of inputs that exclude each other (:func:`model.scenario.exclusive_pairs`) is
+    refused whole: neither is used.
     """
     inputs: dict = {}
     display: dict = {}
@@ -166,7 +249,7 @@ def check_case_query(
         if key in skip:
             continue
         if key not in CASE_KEYS and key not in UNIT_VARIANTS:
-            messages.append(f"{key!r} is not an input of this page; ignored")
+            messages.append(f"{quoted(key)} is not an input of this page; ignored")
             continue
         try:
             name, value = _check_one(state, key, raw)
@@ -174,6 +257,14 @@ def check_case_query(
             messages.append(str(exc))
             continue
         (display if name in DISPLAY_KEYS else inputs)[name] = value
+    given = {UNIT_VARIANTS[k].key if k in UNIT_VARIANTS else k: k for k in pairs if k not in skip}
+    for _table, first, second in exclusive_pairs(given):
+        for key in (first, second):
+            inputs.pop(UNIT_VARIANTS[key].key if key in UNIT_VARIANTS else key, None)
+        messages.append(
+            f"{first} and {second} are both given; keep one (neither is used: a scenario "
+            "file is refused for the same pair)"
+        )
     return inputs, display, messages
 
 
@@ -225,10 +316,16 @@ def case_link(inputs: dict, path: str = "/") -> str:
 
 
 # ---------------------------------------------------------------------- served page
-def read_query() -> dict[str, str]:
-    """Raw key -> text pairs of the current page's address; {} outside a served page."""
+def _search() -> str:
     loc = pn.state.location
-    return parse_query_string(loc.search) if loc is not None and loc.search else {}
+    return (loc.search or "") if loc is not None else ""
+
+
+def read_query() -> dict[str, str]:
+    """Raw key -> text pairs of the current page's address; {} outside a served page.
+
+    A key given more than once is left out; :func:`show_url_messages` says so."""
+    return split_query(_search())[0]
 
 
 def write_query(values: dict[str, str | None], owned: Iterable[str]) -> None:
@@ -263,6 +360,9 @@ def url_message_pane() -> pn.pane.HTML:
 
 
 def show_url_messages(pane: pn.pane.HTML, messages: list[str]) -> None:
+    """Show ``messages`` (and one for each key the address repeats) in ``pane``; hide it when
+    there are none."""
+    messages = [*split_query(_search())[1], *messages]
     items = "".join(f"<li>{html.escape(m)}</li>" for m in messages)
     pane.object = f"<b>Some values in the page address were not used:</b><ul>{items}</ul>"
     pane.visible = bool(messages)

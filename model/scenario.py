@@ -74,6 +74,32 @@ its unit, unit label): ``barometric_pressure_kpa, paco2_kpa, p50_kpa`` [kPa], ``
 [g/L], ``hb_mmol_l`` [mmol/L]. The page address reads the same variants."""
 
 
+EXCLUSIVE_INPUTS = (
+    ("blood", "ph", "base_excess_mmol_l"),
+    ("air", "altitude_m", "barometric_pressure_mmhg"),
+)
+"""Inputs that give the same thing two ways, so a case names one of each pair, never both:
+the acid-base state as pH or as base excess, the barometric pressure as an altitude or as
+the pressure itself: (table, input, input)."""
+
+
+def exclusive_pairs(given: dict[str, str]) -> list[tuple[str, str, str]]:
+    """The pairs of :data:`EXCLUSIVE_INPUTS` that are both given.
+
+    ``given`` maps each canonical input named to the key it was named by (a unit variant such
+    as ``barometric_pressure_kpa``, or the input itself); returns (table, key, key) as named.
+    Scenario files and the page address refuse a case with either pair.
+
+    >>> exclusive_pairs({"ph": "ph", "base_excess_mmol_l": "base_excess_mmol_l"})
+    [('blood', 'ph', 'base_excess_mmol_l')]
+    >>> exclusive_pairs({"altitude_m": "altitude_m", "fio2": "fio2"})
+    []
+    """
+    return [
+        (table, given[a], given[b]) for table, a, b in EXCLUSIVE_INPUTS if a in given and b in given
+    ]
+
+
 class ScenarioError(ValueError):
     """A scenario file that cannot be used; the message says where and why.
 
@@ -191,12 +217,10 @@ def _problems(data: dict) -> tuple[dict, list[str]]:
             checked = _check_value(key, sub, raw, problems)
             if checked is not None:
                 inputs[target] = checked
-    if "ph" in source and "base_excess_mmol_l" in source:
-        problems.append("[blood] ph and base_excess_mmol_l are both given; keep one")
-    if "altitude_m" in source and "barometric_pressure_mmhg" in source:
-        problems.append(
-            f"[air] altitude_m and {source['barometric_pressure_mmhg']} are both given; keep one"
-        )
+    problems += [
+        f"[{table}] {first} and {second} are both given; keep one"
+        for table, first, second in exclusive_pairs(source)
+    ]
     if inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0) >= MAX_COHB_PLUS_METHB:
         total = inputs.get("cohb_fraction", 0.0) + inputs.get("methb_fraction", 0.0)
         problems.append(

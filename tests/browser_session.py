@@ -51,6 +51,8 @@ def served_screens(routes: dict, probe: str, *, startup_s: float = 90, request_s
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
+    from o2transit.dashboard.app import SecurityHeaders
+
     server = pn.serve(
         routes,
         address="127.0.0.1",
@@ -58,6 +60,7 @@ def served_screens(routes: dict, probe: str, *, startup_s: float = 90, request_s
         show=False,
         threaded=True,
         websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
+        transforms=[SecurityHeaders],  # every browser test runs under the served page's CSP
     )
     base = f"http://127.0.0.1:{port}"
     deadline = time.monotonic() + startup_s

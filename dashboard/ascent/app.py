@@ -3,7 +3,8 @@
 The address carries the compared schedules: unedited examples by name
 (``/ascent?schedules=fast-to-5300m,slow-to-5300m``), edited, copied or uploaded ones and any
 readings in ``plan`` (:mod:`dashboard.ascent.sharing`), and the pressure unit in
-``pressure_unit``; it is rewritten on every change and restores the comparison on load.
+``pressure_unit``; it is rewritten shortly after the last of a burst of changes and
+restores the comparison on load.
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ import panel as pn
 
 from ..look import ACCENT, caution_pane
 from ..nav import screen_links
+from ..responsive import TEMPLATE_OPTIONS, Quiet, quicken
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
 from .comparison_views import (
     CaseLink,
@@ -50,6 +52,23 @@ def _heading(text: str) -> pn.pane.HTML:
     )
 
 
+def page_shell() -> pn.template.BootstrapTemplate:
+    """The page without its content: the template (with its print style and the table
+    widget's script) and its header links. A plain request gets only this; the content
+    follows when the page connects (``dashboard.app``)."""
+    pn.extension("tabulator")
+    template = pn.template.BootstrapTemplate(
+        title=TITLE,
+        header_background=ACCENT,
+        sidebar_width=470,
+        collapsed_sidebar=False,
+        raw_css=[PAGE_PRINT_CSS],
+        **TEMPLATE_OPTIONS,
+    )
+    template.header.append(screen_links("/ascent"))
+    return template
+
+
 def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.BootstrapTemplate:
     """Page for one session: schedules, the day editor and the readings in the sidebar, the
     comparison in the main area."""
@@ -61,7 +80,7 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
         messages = ws.restore_address(query)
     else:
         # A first visit opens on the examples, so the page shows a comparison at once.
-        messages = ws.restore_address({k: v for k, v in query.items() if k == UNIT_KEY})
+        messages = ws.restore_address(query)  # neither key: the unit and unknown keys
         ws.load_examples()
     show_url_messages(notice, messages)
 
@@ -69,17 +88,11 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
         # "?schedules=" (empty) is kept, so an empty workspace reloads empty.
         write_query(ws.address_query(), [PLAN_KEY, UNIT_KEY, QUERY_KEY])
 
-    ws.param.watch(sync_address, ["compared", "schedules", "readings", "pressure_unit"])
+    # written once, shortly after the last change of a burst
+    ws.param.watch(Quiet(sync_address), ["compared", "schedules", "readings", "pressure_unit"])
     sync_address()
 
-    template = pn.template.BootstrapTemplate(
-        title=TITLE,
-        header_background=ACCENT,
-        sidebar_width=470,
-        collapsed_sidebar=False,
-        raw_css=[PAGE_PRINT_CSS],
-    )
-    template.header.append(screen_links("/ascent"))
+    template = page_shell()
     template.sidebar.append(
         pn.Column(
             _heading("Schedules"),
@@ -116,4 +129,5 @@ def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.Bootstra
             sizing_mode="stretch_width",
         )
     )
+    quicken(template)  # browser changes at once, one message per change
     return template

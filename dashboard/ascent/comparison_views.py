@@ -13,6 +13,8 @@ from urllib.parse import urlencode
 import panel as pn
 
 from ..look import ACCENT, INK
+from ..responsive import Deferred
+from ..widgets import Upload
 from .export import comparison_csv, comparison_html, comparison_table_csv
 from .figures import (
     BAND_NOTE,
@@ -27,6 +29,7 @@ from .figures import (
 from .state import MAX_COMPARED, AscentWorkspace
 from .views import PRINT_HIDDEN, later
 
+_THRESHOLDS = ("threshold_high_pct", "threshold_low_pct")
 _WATCHED = [
     "schedules",
     "results",
@@ -56,8 +59,11 @@ class ComparisonPlots(pn.viewable.Viewer):
         )
         f = self.figures.figures
         self._panes = {k: pn.pane.Bokeh(f[k], sizing_mode="stretch_width") for k, *_ in PANELS}
+        # The figures follow the numbers (a second message); a threshold moves only its line.
+        self._redraw, self._move = Deferred(self._draw), Deferred(self._thresholds)
         ws.param.watch(self._update, _WATCHED)
-        self._update()
+        self._draw()  # at once: the page goes out with its figures drawn
+        self._show_legend()
         self._note = pn.pane.HTML(
             html.escape(BAND_NOTE),
             css_classes=["o2-asc-band-note"],
@@ -86,11 +92,16 @@ class ComparisonPlots(pn.viewable.Viewer):
         i = new[0]
         later(self._ws.pick, data["key"][i], int(data["x"][i]))
 
-    def _update(self, *_events) -> None:
+    def _update(self, *events) -> None:
+        if events and all(e.name in _THRESHOLDS for e in events):
+            self._move()
+            return
+        self._redraw()
+        self._show_legend()
+
+    def _show_legend(self) -> None:
         ws = self._ws
-        compared = [(k, ws.series(k)) for k in ws.compared]
-        self.figures.update(compared, (ws.threshold_high_pct, ws.threshold_low_pct))
-        names = [(s["name"], s["slot"]) for _k, s in compared]
+        names = [(ws.results[k].profile.name, ws.slots.get(k, 0)) for k in ws.compared]
         self._legend.object = (
             legend_html(names)
             if names
@@ -99,6 +110,14 @@ class ComparisonPlots(pn.viewable.Viewer):
                 f"2–{MAX_COMPARED} schedules to compare."
             )
         )
+
+    def _draw(self) -> None:
+        ws = self._ws
+        compared = [(k, ws.series(k)) for k in ws.compared]
+        self.figures.update(compared, (ws.threshold_high_pct, ws.threshold_low_pct))
+
+    def _thresholds(self) -> None:
+        self.figures.set_thresholds((self._ws.threshold_high_pct, self._ws.threshold_low_pct))
 
     def __panel__(self):
         return self._layout
@@ -149,6 +168,7 @@ class _ComparisonHTML(pn.viewable.Viewer):
     """An HTML pane redrawn from the state whenever the comparison changes."""
 
     css_class = ""
+    watched: tuple[str, ...] = tuple(_WATCHED)
 
     def __init__(self, ws: AscentWorkspace, **params):
         super().__init__(**params)
@@ -159,7 +179,7 @@ class _ComparisonHTML(pn.viewable.Viewer):
             stylesheets=[SUMMARY_CSS],
             sizing_mode="stretch_width",
         )
-        ws.param.watch(self._update, _WATCHED)
+        ws.param.watch(self._update, list(self.watched))
         self._update()
 
     def _html(self) -> str:
@@ -188,6 +208,7 @@ class FlagList(_ComparisonHTML):
     """Each compared schedule's days that break the ascent-rate guidance, in words."""
 
     css_class = "o2-asc-flags"
+    watched = tuple(name for name in _WATCHED if name not in _THRESHOLDS)
 
     def _html(self) -> str:
         return flags_html(self._ws.flag_list())
@@ -319,8 +340,15 @@ class SharePanel(pn.viewable.Viewer):
             stylesheets=[DOWNLOAD_CSS],
             width=260,
         )
-        self._open = pn.widgets.FileInput(accept=".json", css_classes=["o2-asc-ws-open"], width=260)
-        self._open.param.watch(self._uploaded, "value")
+        self._open = Upload(
+            ws.open_workspace,
+            kind="json",
+            accept=".json",
+            what="Workspace file (.json)",
+            default_name="ascent-workspace.json",
+            css_classes=["o2-asc-ws-open"],
+            width=260,
+        )
         ws.param.watch(self._update, ["compared", "schedules", "readings", "pressure_unit"])
         self._update()
         self._layout = pn.Column(
@@ -333,14 +361,6 @@ class SharePanel(pn.viewable.Viewer):
             stylesheets=[PRINT_HIDDEN],
             sizing_mode="stretch_width",
         )
-
-    def _uploaded(self, event) -> None:
-        if event.new:
-            later(
-                lambda: self._ws.open_workspace(
-                    event.new, self._open.filename or "ascent-workspace.json"
-                )
-            )
 
     def _update(self, *_events) -> None:
         ws = self._ws

@@ -10,6 +10,7 @@ import pandas as pd
 import panel as pn
 from bokeh.models.widgets.tables import NumberFormatter
 
+from ..widgets import Upload
 from .state import AscentWorkspace
 from .views import later, schedule_options
 
@@ -110,10 +111,15 @@ class ScheduleEditor(pn.viewable.Viewer):
         self._remove.on_click(lambda _e: later(self._on_selected, ws.remove_day))
         self._up.on_click(lambda _e: later(self._on_selected, ws.move_day, -1))
         self._down.on_click(lambda _e: later(self._on_selected, ws.move_day, 1))
-        self._csv_in = pn.widgets.FileInput(
-            accept=".csv", css_classes=["o2-asc-csv-in"], sizing_mode="stretch_width"
+        self._csv_in = Upload(
+            ws.import_csv,
+            kind="csv",
+            accept=".csv",
+            what="Day table (.csv)",
+            default_name="days.csv",
+            css_classes=["o2-asc-csv-in"],
+            sizing_mode="stretch_width",
         )
-        self._csv_in.param.watch(self._csv_uploaded, "value")
         self._csv_out = pn.widgets.FileDownload(
             callback=self._csv_text,
             filename="days.csv",
@@ -177,10 +183,6 @@ class ScheduleEditor(pn.viewable.Viewer):
             return
         rows = list(event.new or [])
         later(self._ws.select_day, rows[0] + 1 if rows else None)
-
-    def _csv_uploaded(self, event) -> None:
-        if event.new:
-            later(lambda: self._ws.import_csv(event.new, self._csv_in.filename or "days.csv"))
 
     def _csv_text(self):
         return io.StringIO(self._ws.export_csv())

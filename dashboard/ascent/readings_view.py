@@ -13,6 +13,7 @@ import panel as pn
 from bokeh.models.widgets.tables import NumberFormatter
 
 from ...model.ascent_report import READING_COLUMNS
+from ..widgets import Upload
 from .state import READING_FIELDS, AscentWorkspace
 from .views import PRINT_HIDDEN, later
 
@@ -120,10 +121,15 @@ class ReadingsPanel(pn.viewable.Viewer):
         remove.on_click(lambda _e: later(self._remove))
         clear = pn.widgets.Button(label="Clear all", css_classes=["o2-asc-rd-clear"], width=90)
         clear.on_click(lambda _e: later(ws.clear_readings))
-        self._file = pn.widgets.FileInput(
-            accept=".csv", css_classes=["o2-asc-rd-file"], sizing_mode="stretch_width"
+        self._file = Upload(
+            ws.import_readings,
+            kind="csv",
+            accept=".csv",
+            what="Readings file (.csv)",
+            default_name="readings.csv",
+            css_classes=["o2-asc-rd-file"],
+            sizing_mode="stretch_width",
         )
-        self._file.param.watch(self._uploaded, "value")
         self._paste = pn.widgets.TextAreaInput(
             placeholder=",".join(READING_COLUMNS) + "\n3,3440,89,92,1",
             css_classes=["o2-asc-rd-paste"],
@@ -198,12 +204,6 @@ class ReadingsPanel(pn.viewable.Viewer):
     def _apply_edit(self, row, column, value) -> None:
         if not self._ws.edit_reading(row, column, value):
             self._refresh()
-
-    def _uploaded(self, event) -> None:
-        if event.new:
-            later(
-                lambda: self._ws.import_readings(event.new, self._file.filename or "readings.csv")
-            )
 
     def _pasted(self) -> None:
         if self._ws.import_readings(self._paste.value or "", "pasted text"):

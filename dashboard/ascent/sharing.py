@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING
 from ...model.ascent import AscentError, AscentProfile, Baseline, ascent_from_mapping
 from ...model.ascent_report import Reading, ReadingError, check_reading
 from .comparison import solve
-from .schedules import MAX_COMPARED, _profile_mapping, day_mapping
+from .schedules import MAX_COMPARED, QUERY_KEY, _profile_mapping, day_mapping
 
 if TYPE_CHECKING:
     from .state import AscentWorkspace
@@ -34,6 +34,8 @@ PLAN_KEY = "plan"
 """Address key of the shared schedules' data (next to ``schedules``)."""
 UNIT_KEY = "pressure_unit"
 """Address key of the pressure unit, as on the case screen (``mmHg`` or ``kPa``)."""
+ADDRESS_KEYS = (QUERY_KEY, PLAN_KEY, UNIT_KEY)
+"""Every key the planner reads from its address; any other gets the unknown-key notice."""
 MAX_PLAN_CHARS = 6000
 """Longest ``plan`` written into the address [characters]; a larger workspace goes in a file."""
 _VERSION = "1"
@@ -223,6 +225,11 @@ class Sharing:
         )
         shared = {k: v for k, v in shared.items() if v[0] != "refused"}
         messages += ws.open_schedules.restore_selection(names, shared=shared)
+        messages += [
+            f"{key!r} is not a setting of the ascent planner; ignored"
+            for key in pairs
+            if key not in ADDRESS_KEYS
+        ]
         return messages
 
     # ------------------------------------------------------------------ the file

@@ -3,9 +3,10 @@ the status line and the schedule list of the sidebar.
 
 The day-table editor is in :mod:`dashboard.ascent.editor_view`, the comparison's panels (plots,
 case link, summary, flags, thresholds, exports) in :mod:`dashboard.ascent.comparison_views`.
-Every user action is handed to the state on the next tick under the document lock
-(``pn.state.execute(..., schedule=True)``, :func:`later`), as the case screen's buttons do: the
-figures' sources are then replaced safely. Views format; the state decides. Each element
+Every user action is handed to the state by :func:`later`: a browser change inside its own
+one message (the page is quickened, :mod:`dashboard.responsive`), a click on the next tick
+under the document lock, as the case screen's buttons are; a file is read on the next tick,
+once its name has arrived (:func:`on_tick`). Views format; the state decides. Each element
 carries a stable ``o2-asc-*`` CSS class for tests.
 """
 
@@ -16,6 +17,8 @@ from functools import partial
 
 import panel as pn
 
+from ..responsive import held, serving, soon
+from ..widgets import Upload
 from .state import MAX_COMPARED, AscentWorkspace
 
 PRINT_HIDDEN = "@media print { :host { display: none !important; } }"
@@ -31,8 +34,18 @@ MESSAGE_STYLE = {
 
 
 def later(fn, *args) -> None:
-    """Run ``fn(*args)`` on the next tick with the document lock (at once without a server)."""
-    pn.state.execute(partial(fn, *args), schedule=True)
+    """Run ``fn(*args)`` within the user action under way (a browser change), else on the next
+    tick with the document lock (a click); at once without a server (:func:`responsive.soon`)."""
+    soon(fn, *args)
+
+
+def on_tick(fn, *args) -> None:
+    """Run ``fn(*args)`` on the next tick, as one action (an upload: its file name may arrive
+    after its content); at once without a server."""
+    if serving():
+        held(partial(fn, *args))()
+    else:
+        fn(*args)
 
 
 def schedule_options(ws: AscentWorkspace) -> dict[str, str]:
@@ -91,13 +104,15 @@ class ScheduleLibrary(pn.viewable.Viewer):
             sizing_mode="stretch_width",
         )
         self._examples.on_click(lambda _e: later(ws.load_examples))
-        self._upload = pn.widgets.FileInput(
+        self._upload = Upload(
+            ws.open_text,
+            kind="toml",
             accept=".toml",
-            multiple=False,
+            what="Schedule file (.toml)",
+            default_name="uploaded.toml",
             css_classes=["o2-asc-open"],
             sizing_mode="stretch_width",
         )
-        self._upload.param.watch(self._uploaded, "value")
         self._compare = pn.widgets.CheckBoxGroup(
             label="Compare",
             options={},
@@ -126,11 +141,6 @@ class ScheduleLibrary(pn.viewable.Viewer):
             self._compare,
             sizing_mode="stretch_width",
         )
-
-    def _uploaded(self, event) -> None:
-        if event.new:
-            # the file name may arrive after the content: read it on the tick
-            later(lambda: self._ws.open_text(event.new, self._upload.filename or "uploaded.toml"))
 
     def _chosen(self, event) -> None:
         if self._syncing:

@@ -130,10 +130,12 @@ def _lesson_updates(
     raw = pairs.get("step")
     if raw is not None and lesson is not None:
         n = len(lesson.steps)
-        if raw.isdigit() and 1 <= int(raw) <= n:
+        # ASCII digits only: str.isdigit() also takes '²', which int() refuses
+        if raw.isascii() and raw.isdigit() and len(raw) <= 6 and 1 <= int(raw) <= n:
             updates["step"] = int(raw)
         else:
-            messages.append(f"step = {raw!r} is outside the allowed range 1–{n}; step 1 is shown")
+            shown = repr(raw) if len(raw) <= 40 else f"{raw[:38]!r}… ({len(raw)} characters)"
+            messages.append(f"step = {shown} is outside the allowed range 1–{n}; step 1 is shown")
             updates["step"] = 1
     return updates
 
