@@ -39,6 +39,7 @@ from panel.util import parse_query as _panel_parse_query
 
 from ..model.dissociation import SHORT_NAMES
 from ..model.scenario import SCENARIO_UNIT_VARIANTS, exclusive_pairs
+from .case.formatting import MAX_SHOWN_CHARS, quoted
 from .case.state import CASE_INPUTS, CURVE_LABELS, CaseState
 from .responsive import Quiet
 
@@ -55,8 +56,6 @@ CASE_KEYS = (*CASE_INPUTS, *DISPLAY_KEYS)
 _TRUE, _FALSE = ("true", "1", "yes", "on"), ("false", "0", "no", "off")
 _CURVE_NAMES = {**{v: v for v in CURVE_LABELS.values()}, **SHORT_NAMES}
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
-MAX_SHOWN_CHARS = 40
-"""A refused value longer than this is shortened in the notice [characters]."""
 
 
 def _tolerant_parse_query(query: str) -> dict:
@@ -76,17 +75,6 @@ def _tolerant_parse_query(query: str) -> dict:
 
 
 panel.io.location.parse_query = _tolerant_parse_query
-
-
-def quoted(raw: str) -> str:
-    """``repr(raw)``, shortened to about :data:`MAX_SHOWN_CHARS` characters for a notice.
-
-    >>> quoted("9" * 5000)
-    "'99999999999999999999999999999999999999…' (5000 characters)"
-    """
-    if len(raw) <= MAX_SHOWN_CHARS:
-        return repr(raw)
-    return f"{raw[: MAX_SHOWN_CHARS - 2]!r}"[:-1] + f"…' ({len(raw)} characters)"
 
 
 def parse_number(raw: str) -> float | None:

@@ -24,6 +24,7 @@ from typing import TYPE_CHECKING
 
 from ...model.ascent import AscentError, AscentProfile, Baseline, ascent_from_mapping
 from ...model.ascent_report import Reading, ReadingError, check_reading
+from ..case.formatting import quoted
 from .comparison import solve
 from .schedules import MAX_COMPARED, QUERY_KEY, _profile_mapping, day_mapping
 
@@ -198,7 +199,9 @@ class Sharing:
             if unit in ws.param.pressure_unit.objects:
                 ws.pressure_unit = unit
             else:
-                messages.append(f"pressure_unit = {unit!r} is not one of mmHg, kPa; mmHg is used")
+                messages.append(
+                    f"pressure_unit = {quoted(unit)} is not one of mmHg, kPa; mmHg is used"
+                )
         shared: dict = {}
         if pairs.get(PLAN_KEY):
             try:
@@ -226,7 +229,7 @@ class Sharing:
         shared = {k: v for k, v in shared.items() if v[0] != "refused"}
         messages += ws.open_schedules.restore_selection(names, shared=shared)
         messages += [
-            f"{key!r} is not a setting of the ascent planner; ignored"
+            f"{quoted(key)} is not a setting of the ascent planner; ignored"
             for key in pairs
             if key not in ADDRESS_KEYS
         ]

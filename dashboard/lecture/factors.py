@@ -12,6 +12,7 @@ from __future__ import annotations
 import dataclasses
 
 from ... import model
+from ..case.formatting import quoted
 from ..case.units import DisplayUnits
 
 FETAL_P50_MMHG = 19.0
@@ -101,7 +102,7 @@ class Factor:
                 return 1.0, ""
             if word in ("false", "0", "no", "adult"):
                 return 0.0, ""
-            return None, f"{self.key} = {raw!r} must be true or false; adult blood is shown"
+            return None, f"{self.key} = {quoted(raw)} must be true or false; adult blood is shown"
         unit = "mmHg" if self.unit == "pressure" else ("" if self.percent else self.unit)
         unit = f" {unit}" if unit else ""
         try:
@@ -110,7 +111,7 @@ class Factor:
             value = float("nan")
         if not self.lo <= value <= self.hi:
             return None, (
-                f"{self.label}: {self.key} = {raw!r} is outside the allowed range "
+                f"{self.label}: {self.key} = {quoted(raw)} is outside the allowed range "
                 f"{self.lo:g}–{self.hi:g}{unit}; the reference {self.reference:g}{unit} is used"
             )
         return value, ""
