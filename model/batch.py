@@ -23,7 +23,10 @@ Formats, chosen by the file name's ending (:data:`TEXT_SUFFIXES`, :data:`PARQUET
 * **Delimited text** (``.csv``, ``.tsv``, ``.txt``), UTF-8 (a byte-order mark is skipped;
   other encodings are refused). Leading blank and ``#`` lines are skipped; the delimiter is
   ``,`` unless the header has none and has ``;`` or a tab; with ``;`` a decimal comma is
-  read and written. Rows end only at ``\\n``, ``\\r\\n`` or ``\\r`` (never at the other
+  read and written. The output's delimiter follows its ending: a tab for ``.tsv``, a
+  comma for ``.csv`` and standard output (``;`` kept for a ``;`` input, the decimal-comma
+  spreadsheets' CSV), the input's for ``.txt``. Rows end only at ``\\n``, ``\\r\\n``
+  or ``\\r`` (never at the other
   characters Python's ``str.splitlines`` takes as line ends). The output is plain CSV: the
   header on line 1, no comment lines, quoting only where a cell needs it, so every reader
   takes it with its defaults. Its last column, :data:`END_COLUMN` (``rows_in_output``), is
@@ -62,7 +65,7 @@ import tempfile
 import threading
 from collections.abc import Iterator, Mapping
 from concurrent.futures import Executor, Future, ProcessPoolExecutor, ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -172,6 +175,28 @@ class BatchSummary:
     rows_with_errors: int
     output: str
     format: str = "csv"
+
+
+def output_delimiter(out_path, in_delimiter: str) -> str:
+    """The delimiter of a delimited-text output: a tab for ``.tsv``, a comma for ``.csv``
+    and standard output (``-``), ``;`` kept there when the input had ``;`` and a decimal
+    comma; the input's for ``.txt``.
+
+    Examples
+    --------
+    >>> output_delimiter("out.tsv", ","), output_delimiter("out.csv", "\\t")
+    ('\\t', ',')
+    >>> output_delimiter("out.csv", ";"), output_delimiter("-", "\\t")
+    (';', ',')
+    >>> output_delimiter("out.txt", "\\t")
+    '\\t'
+    """
+    suffix = ".csv" if str(out_path) == "-" else Path(out_path).suffix.lower()
+    if suffix == ".tsv":
+        return "\t"
+    if suffix == ".csv":
+        return ";" if in_delimiter == ";" else ","
+    return in_delimiter
 
 
 def file_format(path, role: str = "input") -> str:
@@ -1036,6 +1061,7 @@ class _Output:
             fd, self.tmp = tempfile.mkstemp(
                 prefix=f".{self.path.name}.", suffix=".part", dir=self.path.parent
             )
+            _UNFINISHED.add(self)
             self.handle = os.fdopen(fd, "wb")
         except BaseException:  # an interruption between creating and holding the file
             self.abandon()
@@ -1070,6 +1096,7 @@ class _Output:
         _target_mode(self.path)  # still not a special file at the moment of the rename
         os.replace(self.tmp, self.path)
         self.tmp = None
+        _UNFINISHED.discard(self)
 
     def abandon(self) -> None:
         """Remove the temporary file (any error or interruption)."""
@@ -1082,6 +1109,12 @@ class _Output:
         except FileNotFoundError:
             pass
         self.tmp = None
+        _UNFINISHED.discard(self)
+
+
+_UNFINISHED: set[_Output] = set()
+"""Outputs whose temporary file exists and is not yet renamed: :func:`run_batch` removes
+them on any exception, wherever in the run an interruption lands."""
 
 
 class _Progress:
@@ -1166,6 +1199,10 @@ def run_batch(
     source = _open_source(in_path)
     try:
         return _run(source, in_path, out_path, out_kind, stream, progress, all_columns, workers)
+    except BaseException:
+        for output in list(_UNFINISHED):
+            output.abandon()
+        raise
     finally:
         source.close()
 
@@ -1180,6 +1217,7 @@ class _Job:
     delimiter: str
     kind: str
     where: str
+    out_delimiter: str = ","
 
 
 def _compute(job: _Job, piece: _Block | _Chunk) -> tuple[int, int, Any]:
@@ -1200,7 +1238,15 @@ def _compute(job: _Job, piece: _Block | _Chunk) -> tuple[int, int, Any]:
         return (
             n,
             n_errors,
-            _csv_lines(chunk, derived, errors, job.outputs, job.delimiter, decimal_comma, None),
+            _csv_lines(
+                chunk if job.out_delimiter == job.delimiter else replace(chunk, plain=False),
+                derived,
+                errors,
+                job.outputs,
+                job.out_delimiter,
+                decimal_comma,
+                None,
+            ),
         )
     columns = list(chunk.columns) + _arrow_outputs(derived, errors, job.outputs)
     return n, n_errors, pa.Table.from_arrays(columns, names=job.header + list(job.outputs))
@@ -1251,34 +1297,40 @@ def _run(
     outputs = ALL_OUTPUTS if all_columns else BATCH_OUTPUTS
     delimiter = source.delimiter
     pool, n_workers = _pool(workers)  # before Arrow starts its threads (fork safety)
-    try:
-        output = _Output(out_path, in_path, out_kind)
-    except BaseException:
-        pool.shutdown(wait=False)
-        raise
     bar = _Progress(stream, progress)
     metadata = {
         "o2transit.caution": CAUTION,
         "o2transit.version": _version(),
         "o2transit.columns_added": ",".join(outputs),
     }
+    out_delimiter = output_delimiter(out_path, delimiter)
     job = _Job(
-        getattr(source, "parser", None), header, outputs, delimiter, output.kind, str(in_path)
+        getattr(source, "parser", None),
+        header,
+        outputs,
+        delimiter,
+        out_kind,
+        str(in_path),
+        out_delimiter,
     )
+    names = pa.array(header + list(outputs) + [END_COLUMN], type=pa.string())
+    # the header goes out with the first rows: an input without rows writes nothing at all
+    head = (out_delimiter.join(_quoted(names, out_delimiter).to_pylist()) + "\n").encode()
     pieces = source.pieces() if hasattr(source, "pieces") else source.chunks()
-
     rows = n_errors = 0
     held: bytes | None = None  # the last CSV lines, written with the row count at the end
+    # nothing between creating the temporary file and the try that removes it
     try:
-        if output.kind == "csv":
-            names = pa.array(header + list(outputs) + [END_COLUMN], type=pa.string())
-            cells = _quoted(names, delimiter).to_pylist()
-            output.write((delimiter.join(cells) + "\n").encode("utf-8"))
+        output = _Output(out_path, in_path, out_kind)
+    except BaseException:
+        pool.shutdown(wait=False)
+        raise
+    try:
         bar.update(0, 0.0)
         pending: list[Future] = []
 
         def drain(keep: int) -> None:
-            nonlocal rows, n_errors, held
+            nonlocal rows, n_errors, held, head
             while len(pending) > keep:
                 n, e, result = pending.pop(0).result()
                 if not n:
@@ -1286,7 +1338,7 @@ def _run(
                 if output.kind == "csv":
                     if held is not None:
                         output.write(held)
-                    held = result
+                    held, head = head + result, b""
                 else:
                     output.write_table(result, metadata)
                 rows += n

@@ -58,7 +58,6 @@ import os
 import re
 import sys
 import tempfile
-import tomllib
 import unicodedata
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -66,6 +65,7 @@ from pathlib import Path
 
 import tomli_w
 
+from . import files
 from .bedside import check_measured
 from .limits import INPUT_CHOICES, INPUT_LIMITS, check_range
 from .plans import MAX_PLANS, Plan, plan_from_table, plan_table
@@ -425,20 +425,23 @@ def open_case(path) -> CaseRecord:
     Raises
     ------
     CaseFileError
-        Unreadable file, not valid TOML, a newer format version, missing or wrong
-        tables, a bad label, or a measured value out of range; the message names the
-        file and the reason.
+        Unreadable, special (FIFO, device), empty, oversized or non-UTF-8 file (a byte-order
+        mark is skipped), not valid TOML or nested too deep (:mod:`model.files`), a newer
+        format version, missing or wrong tables, a bad label, or a measured value out of
+        range; the message names the file and the reason, in one line.
     """
     p = Path(path)
+    try:  # the one safe reader: no hang on a FIFO, no endless /dev/zero, no deep nesting
+        text = files.read_text(p, CaseFileError)
+    except CaseFileError as exc:
+        reason = str(exc).removeprefix(f"{p}: ")
+        if not reason.startswith("cannot read the file"):
+            reason = f"cannot read the file: {reason}"
+        raise CaseFileError(f"{p}: {reason}") from None
     try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        reason = getattr(exc, "strerror", None) or str(exc)
-        raise CaseFileError(f"{p}: cannot read the file ({reason})") from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise CaseFileError(f"{p}: not valid TOML ({exc}); the file may be damaged") from None
+        data = files.parse_toml(text, str(p), CaseFileError)
+    except CaseFileError as exc:
+        raise CaseFileError(f"{exc}; the file may be damaged") from None
     head = _table(data, "case", p, required=True)
     version = head.get("format_version")
     if version != FORMAT_VERSION:

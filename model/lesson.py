@@ -4,9 +4,9 @@ A lesson is what a lecturer steps through in front of a hall: each step is a com
 (the same ``[air]``, ``[lungs]``, ``[blood]``, ``[circulation]`` tables as a scenario file;
 keys left out take their defaults), a short title and a caption, and the tissue point at which
 the O2 extracted per litre is read: a tissue PO2 held at a given value, or the mixed venous
-PO2 of the step's own solve (``tissue_point = "venous"``). Every problem is reported as one
-:class:`LessonError` naming the file, the step number, the key, the value, the allowed range
-and the unit; nothing is half-loaded. :func:`lesson_to_toml` writes a lesson file that
+PO2 of the step's own solve (``tissue_point = "venous"``). Every problem is reported, all at
+once, as one :class:`LessonError` (a line each) naming the file, the step number, the key,
+the value, the allowed range and the unit; nothing is half-loaded. :func:`lesson_to_toml` writes a lesson file that
 :func:`load_lesson` reads back.
 """
 
@@ -47,7 +47,15 @@ _CASE_TABLES = {"air", "lungs", "blood", "circulation"}
 
 
 class LessonError(ValueError):
-    """A lesson file that cannot be used; the message says where and why."""
+    """A lesson file that cannot be used; the message says where and why.
+
+    ``problems`` lists every problem found (one per line of the message, each starting with
+    the file), as :class:`model.scenario.ScenarioError` does.
+    """
+
+    def __init__(self, message: str = "", problems: tuple[str, ...] = ()):
+        super().__init__(message)
+        self.problems = problems or tuple(str(message).splitlines()) or (str(message),)
 
 
 @dataclass(frozen=True)
@@ -130,8 +138,24 @@ def _tissue(table: dict, where: str, default: tuple[str, float]) -> tuple[str, f
     return point, po2
 
 
-def lesson_from_mapping(data: dict, where: str = "<lesson>") -> Lesson:
+def _checked(problems: list[str], fn, *args):
+    """``fn(*args)``, or None after adding its refusal's lines to ``problems``."""
+    try:
+        return fn(*args)
+    except LessonError as exc:
+        problems.extend(exc.problems)
+        return None
+
+
+def lesson_from_mapping(
+    data: dict, where: str = "<lesson>", default_name: str | None = None
+) -> Lesson:
     """Validate a parsed lesson mapping and build a :class:`Lesson`.
+
+    As for scenario files, every problem is collected and all are raised together as one
+    :class:`LessonError` (one line each: where, step, key, value, allowed range and unit).
+    ``name`` falls back to ``default_name`` (the file's name), else ``where``;
+    ``description`` to no text. At least one ``[[step]]`` is needed.
 
     Examples
     --------
@@ -141,49 +165,72 @@ def lesson_from_mapping(data: dict, where: str = "<lesson>") -> Lesson:
     ...              {"title": "Anaemia", "caption": "Hb halved.", "blood": {"hb_g_dl": 7.5}}]})
     >>> [s.number for s in lesson.steps], lesson.steps[1].inputs
     ([1, 2], {'hb_g_dl': 7.5})
+    >>> lesson_from_mapping({"step": [{"title": "t", "caption": "c"}]}, "demo.toml", "demo").name
+    'demo'
     >>> lesson_from_mapping({"name": "x", "description": "y", "step": [
     ...     {"title": "t", "caption": "c", "blood": {"hb_g_dl": 99}}]}, "demo.toml")
     Traceback (most recent call last):
     ...
     model.lesson.LessonError: demo.toml: step 1: [blood] hb_g_dl = 99 is outside the allowed range 2-25 g/dL (Haemoglobin)
     """
+    if not isinstance(data, dict):
+        raise LessonError(f"{where}: expected a table of keys, not {type(data).__name__}")
+    problems: list[str] = []
     for key in data:
         if key not in _TOP_KEYS:
-            raise LessonError(
+            problems.append(
                 f"{where}: unknown top-level key {key!r}; allowed: {', '.join(sorted(_TOP_KEYS))}"
             )
-    for key in ("name", "description", "step"):
-        if key not in data:
-            raise LessonError(f"{where}: missing required top-level key {key!r}")
-    name = _text(data["name"], "name", TITLE_CHARS, where)
-    description = _text(data["description"], "description", (0, 2000), where)
-    default_tissue = _tissue(data, where, ("held", DEFAULT_TISSUE_PO2_MMHG))
-    raw_steps = data["step"]
-    if not isinstance(raw_steps, list) or not all(isinstance(s, dict) for s in raw_steps):
-        raise LessonError(f"{where}: step must be an array of tables, each written [[step]]")
-    if not 1 <= len(raw_steps) <= MAX_STEPS:
-        raise LessonError(
-            f"{where}: {len(raw_steps)} steps; allowed 1–{MAX_STEPS} steps per lesson"
+    name = default_name or where
+    if "name" in data:
+        name = _checked(problems, _text, data["name"], "name", TITLE_CHARS, where) or name
+    description = ""
+    if "description" in data:
+        description = (
+            _checked(problems, _text, data["description"], "description", (0, 2000), where) or ""
         )
+    default_tissue = _checked(problems, _tissue, data, where, ("held", DEFAULT_TISSUE_PO2_MMHG))
+    default_tissue = default_tissue or ("held", DEFAULT_TISSUE_PO2_MMHG)
+    raw_steps = data.get("step")
+    if raw_steps is None:
+        problems.append(
+            f"{where}: missing required top-level key 'step' (at least one [[step]] table)"
+        )
+        raw_steps = []
+    elif not isinstance(raw_steps, list) or not all(isinstance(s, dict) for s in raw_steps):
+        problems.append(f"{where}: step must be an array of tables, each written [[step]]")
+        raw_steps = []
+    elif not 1 <= len(raw_steps) <= MAX_STEPS:
+        problems.append(f"{where}: {len(raw_steps)} steps; allowed 1–{MAX_STEPS} steps per lesson")
+        raw_steps = raw_steps[:MAX_STEPS]
     steps = []
     for number, raw in enumerate(raw_steps, start=1):
         at = f"{where}: step {number}"
+        before = len(problems)
         for key in raw:
             if key not in _STEP_KEYS and key not in _CASE_TABLES:
                 allowed = ", ".join(sorted(_STEP_KEYS | _CASE_TABLES))
-                raise LessonError(f"{at}: unknown key {key!r}; allowed: {allowed}")
-        for key in ("title", "caption"):
+                problems.append(f"{at}: unknown key {key!r}; allowed: {allowed}")
+        texts = {}
+        for key, limits in (("title", TITLE_CHARS), ("caption", CAPTION_CHARS)):
             if key not in raw:
-                raise LessonError(f"{at}: missing required key {key!r} (text)")
-        title = _text(raw["title"], "title", TITLE_CHARS, at)
-        caption = _text(raw["caption"], "caption", CAPTION_CHARS, at)
-        point, tissue = _tissue(raw, at, default_tissue)
+                problems.append(f"{at}: missing required key {key!r} (text)")
+            else:
+                texts[key] = _checked(problems, _text, raw[key], key, limits, at)
+        tissue = _checked(problems, _tissue, raw, at, default_tissue)
         case = {k: v for k, v in raw.items() if k in _CASE_TABLES}
         try:
             inputs = scenario_from_mapping(case, at).inputs
         except ScenarioError as exc:
-            raise LessonError(str(exc)) from None
-        steps.append(LessonStep(number, title, caption, tissue, dict(inputs), point))
+            problems.extend(exc.problems)
+            continue
+        if len(problems) == before and tissue is not None:
+            point, po2 = tissue
+            steps.append(
+                LessonStep(number, texts["title"], texts["caption"], po2, dict(inputs), point)
+            )
+    if problems:
+        raise LessonError("\n".join(problems), tuple(problems))
     return Lesson(name=name, description=description, path=where, steps=tuple(steps))
 
 
@@ -193,21 +240,24 @@ def load_lesson(path) -> Lesson:
     Raises
     ------
     LessonError
-        Unreadable file, TOML syntax error, unknown key, wrong type, value or text length out
-        of range, or a step the chain cannot solve; the message names the file, the step
-        number, the key, the value, the allowed range and the unit.
+        Unreadable, special, empty, oversized or non-UTF-8 file, TOML syntax error or
+        nesting (:mod:`model.files`); unknown key, wrong type, value or text length out of
+        range, or a step the chain cannot solve, all reported at once; each line names the
+        file, the step number, the key, the value, the allowed range and the unit. The name
+        falls back to the file's name without ``.toml``.
     """
     p = Path(path)
-    lesson = lesson_from_mapping(read_toml(p, LessonError), str(p))
+    lesson = lesson_from_mapping(read_toml(p, LessonError), str(p), default_name=p.stem)
     from .transport import solve_transport
 
+    problems = []
     for step in lesson.steps:
         try:
             solve_transport(**step.inputs)
         except ValueError as exc:
-            raise LessonError(
-                f"{p}: step {step.number}: the case cannot be solved: {exc}"
-            ) from None
+            problems.append(f"{p}: step {step.number}: the case cannot be solved: {exc}")
+    if problems:
+        raise LessonError("\n".join(problems), tuple(problems))
     return lesson
 
 

@@ -1,18 +1,20 @@
 """The ``o2transit`` command: ``evaluate`` scenario files, ``ascent`` schedules, ``batch`` blood
 gases, ``serve`` the dashboard. The top of the layering: it imports the model and, for
-``serve`` only, the dashboard; nothing imports it."""
+``serve`` only, the dashboard; nothing imports it.
+
+The model (numpy, scipy, pyarrow: about a second) is imported inside :func:`main`, not when
+this module is, so an interruption while it loads is reported in one line like any other,
+never as a traceback."""
 
 from __future__ import annotations
 
 import argparse
+import csv
 import json
 import sys
 import textwrap
 
 from . import __version__
-from .model.caution import CAUTION
-from .model.scenario import ScenarioError, load_scenario
-from .model.transport import solve_transport
 
 _ROWS = (
     ("Barometric pressure", "barometric_pressure_mmhg", "mmHg", "{:.1f}"),
@@ -55,6 +57,9 @@ def _get(d: dict, dotted: str):
 
 def evaluation(path) -> dict:
     """Solve one scenario file and return its JSON-ready record."""
+    from .model.scenario import load_scenario
+    from .model.transport import solve_transport
+
     scenario = load_scenario(path)
     out = solve_transport(**scenario.inputs).to_dict()
     return {"scenario": scenario.name, "file": str(path), **out}
@@ -81,6 +86,7 @@ def _batch_columns_help() -> str:
     """The columns ``batch`` reads and writes, from the tables the reader itself uses."""
     from .model.batch import BATCH_OUTPUTS, COLUMN_VARIANTS
     from .model.bedside import MEASURED_LIMITS, REQUIRED_MEASURED
+    from .model.caution import CAUTION
 
     def column(key: str) -> str:
         unit = MEASURED_LIMITS[key][2] or ("" if key == "ph" else "fraction 0-1")
@@ -135,6 +141,8 @@ def _positive_port(text: str) -> int:
 
 def build_parser() -> argparse.ArgumentParser:
     """The ``o2transit`` argument parser (every option names what it takes and its default)."""
+    from .model.caution import CAUTION
+
     fmt = argparse.RawDescriptionHelpFormatter
     parser = argparse.ArgumentParser(
         prog="o2transit",
@@ -154,7 +162,7 @@ def build_parser() -> argparse.ArgumentParser:
     ev.add_argument(
         "--json",
         action="store_true",
-        help="print one JSON list (one object per good file) instead of tables",
+        help="print one JSON list (one object per good file) instead of tables (default: tables)",
     )
     asc = sub.add_parser(
         "ascent",
@@ -167,13 +175,21 @@ def build_parser() -> argparse.ArgumentParser:
     asc.add_argument(
         "profiles", nargs="+", metavar="SCHEDULE", help="schedule files (.toml or .csv)"
     )
-    asc.add_argument("--json", action="store_true", help="print one JSON list instead of tables")
+    asc.add_argument(
+        "--json",
+        action="store_true",
+        help="print one JSON list (one object per good schedule) instead of tables "
+        "(default: tables)",
+    )
     bt = sub.add_parser(
         "batch",
         help="derived blood-gas values for every row of a table",
         formatter_class=fmt,
-        description="Bedside derived values (P/F, A-a gradient, CaO2, shunt, DO2, in-situ P50, "
-        "...) for every row of a table of blood gases. " + CAUTION,
+        description=textwrap.fill(
+            "Bedside derived values (P/F, A-a gradient, CaO2, shunt, DO2, in-situ P50, ...) "
+            "for every row of a table of blood gases. " + CAUTION,
+            width=78,
+        ),
         epilog=_batch_columns_help(),
     )
     bt.add_argument(
@@ -186,8 +202,9 @@ def build_parser() -> argparse.ArgumentParser:
         "--output",
         required=True,
         metavar="OUT",
-        help="where to write the derived values: .csv/.tsv/.txt (plain CSV) or .parquet/.pq, "
-        "chosen by the ending; '-' for CSV on standard output. Never the input, never a "
+        help="where to write the derived values, chosen by the ending: .csv (commas; a ';' "
+        "input with decimal commas stays so), .tsv (tabs), .txt (the input's delimiter) or "
+        ".parquet/.pq; '-' for CSV on standard output (as .csv). Never the input, never a "
         "device, FIFO or symbolic link",
     )
     bt.add_argument(
@@ -237,6 +254,9 @@ def _report(exc: BaseException | str, prefix: str = "") -> None:
 
 
 def _evaluate(files: list[str], as_json: bool) -> int:
+    from .model.caution import CAUTION
+    from .model.scenario import ScenarioError
+
     records, failed = [], 0
     for f in files:
         try:
@@ -256,6 +276,7 @@ def _evaluate(files: list[str], as_json: bool) -> int:
 
 def _ascent(files: list[str], as_json: bool) -> int:
     from .model.ascent import AscentError, format_ascent, load_ascent, run_ascent
+    from .model.caution import CAUTION
 
     results, failed = [], 0
     from .model.files import read_text
@@ -269,9 +290,20 @@ def _ascent(files: list[str], as_json: bool) -> int:
         except AscentError as exc:
             failed += 1
             _report(exc)
+        except csv.Error as exc:  # a day table the csv module cannot split (a bare \r)
+            failed += 1
+            _report(
+                f"{f}: not a readable CSV day table ({str(exc).split(' - ')[0]}: a line ends "
+                "in a bare carriage return or a cell holds a line break; save it with ordinary "
+                "line ends)"
+            )
         except ValueError as exc:
             failed += 1
-            print(f"error: {printable(f)}: the schedule cannot be solved: {exc}", file=sys.stderr)
+            why = str(exc).removeprefix(f"{f}: ")  # the model's message may name the file
+            print(
+                f"error: {printable(f)}: the schedule cannot be solved: {printable(why)}",
+                file=sys.stderr,
+            )
     if as_json:
         print(json.dumps(results, indent=2))
     elif results:
@@ -306,14 +338,24 @@ def _raise_signalled(signum, _frame) -> None:
     raise _Signalled(signum)
 
 
-def _batch(args) -> int:
+def _stop_on_signals() -> None:
+    """SIGTERM and SIGHUP unwind the run (the temporary file is removed) instead of killing
+    it outright; a signal the caller set to be ignored (``nohup`` ignores SIGHUP) stays
+    ignored, as other command-line tools leave it."""
     import signal
-
-    from .model.batch import END_COLUMN, BatchError, run_batch
 
     for name in ("SIGTERM", "SIGHUP"):
         if hasattr(signal, name):
-            signal.signal(getattr(signal, name), _raise_signalled)
+            signum = getattr(signal, name)
+            if signal.getsignal(signum) != signal.SIG_IGN:
+                signal.signal(signum, _raise_signalled)
+
+
+def _batch(args) -> int:
+    from .model.batch import END_COLUMN, BatchError, run_batch
+    from .model.caution import CAUTION
+
+    _stop_on_signals()
     try:
         summary = run_batch(
             args.input,
@@ -327,7 +369,7 @@ def _batch(args) -> int:
     except (BatchError, OSError) as exc:
         _report(exc)
         return 2
-    where = "standard output" if summary.output == "-" else summary.output
+    where = "standard output" if summary.output == "-" else printable(summary.output)
     end = (
         f"; complete: the last row's {END_COLUMN} is {summary.rows}"
         if summary.format == "csv"
@@ -355,8 +397,8 @@ def _serve(args) -> int:
 
 def main(argv=None) -> int:
     """Run the ``o2transit`` command; returns the exit status."""
-    args = build_parser().parse_args(argv)
     try:
+        args = build_parser().parse_args(argv)
         if args.command == "evaluate":
             return _evaluate(args.files, args.json)
         if args.command == "ascent":
@@ -366,6 +408,7 @@ def main(argv=None) -> int:
         return _serve(args)
     except KeyboardInterrupt:
         print("interrupted (SIGINT); no output file left behind", file=sys.stderr)
+        sys.stderr.flush()
         return 130
     except _Signalled as stop:
         import signal

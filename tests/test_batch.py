@@ -652,3 +652,39 @@ def test_a_kill_leaves_no_temporary_file_and_no_traceback(tmp_path):
         assert proc.returncode == 128 + sig, text
         assert "Traceback" not in text and "interrupted" in text
         assert list(outdir.iterdir()) == []
+
+
+def test_the_output_delimiter_follows_the_output_ending(tmp_path):
+    # issue 14 item 3: a tab-separated export written with `-o derived.csv` came out
+    # tab-separated under a .csv name (pandas.read_csv saw one column), and a CSV input
+    # written to .tsv kept its commas.
+    import pandas as pd
+
+    tsv = _src(tmp_path, GOOD.replace(",", "\t").replace("c1", "bed, 4"), name="in.tsv")
+    run_batch(tsv, tmp_path / "o.csv", stream=io.StringIO())
+    df = pd.read_csv(tmp_path / "o.csv")
+    assert list(df["case"]) == ["bed, 4", "c2"] and list(df["pao2_fio2_ratio"]) == [200, 225]
+    assert df[END_COLUMN].iloc[-1] == len(df)
+    run_batch(
+        _src(tmp_path, GOOD.replace("c1", "bed\t4")), tmp_path / "o.tsv", stream=io.StringIO()
+    )
+    back = pd.read_csv(tmp_path / "o.tsv", sep="\t")
+    assert list(back["case"]) == ["bed\t4", "c2"] and list(back["pao2_fio2_ratio"]) == [200, 225]
+
+
+def test_standard_output_is_comma_separated_whatever_the_input(tmp_path, capsys):
+    # `-o -` is "CSV on standard output" (the help): a .tsv input gave tabs.
+    import pandas as pd
+
+    tsv = _src(tmp_path, GOOD.replace(",", "\t"), name="in.tsv")
+    assert main(["batch", str(tsv), "-o", "-"]) == 0
+    df = pd.read_csv(io.StringIO(capsys.readouterr().out))
+    assert list(df["case"]) == ["c1", "c2"] and df[END_COLUMN].iloc[-1] == 2
+
+
+def test_an_input_without_rows_writes_nothing_to_standard_output(tmp_path, capsys):
+    # README: "nothing is written" on a file-level error; `-o -` still got the header line.
+    src = _src(tmp_path, GOOD.splitlines()[0] + "\n")
+    assert main(["batch", str(src), "-o", "-"]) == 2
+    captured = capsys.readouterr()
+    assert captured.out == "" and "no data rows" in captured.err

@@ -149,3 +149,102 @@ def test_names_with_terminal_escapes_are_shown_not_obeyed(tmp_path, capsys):
     assert main(["evaluate", str(path)]) == 0
     out = capsys.readouterr().out
     assert "\x1b" not in out and "ward\\x1b[2J cleared" in out
+
+
+def test_flags_state_their_default_too():
+    # issue 14 item 9: every option says its default, flags included ("instead of tables"
+    # alone left the reader to guess).
+    for name, sub in _subparsers(build_parser()).items():
+        for action in sub._actions:
+            if action.option_strings and not isinstance(action, argparse._HelpAction):
+                if action.required:
+                    continue
+                assert "default" in action.help, f"{name} {action.option_strings}: no default"
+
+
+def test_importing_the_command_loads_no_model():
+    # issue 18: SIGINT while the command was starting printed a KeyboardInterrupt traceback
+    # (the model, about a second of imports, loaded before main() could catch it).
+    code = (
+        "import sys, o2transit.cli; print(sorted({'numpy', 'scipy', 'pyarrow'} & set(sys.modules)))"
+    )
+    run = subprocess.run(  # noqa: PLW1510 - the output is asserted
+        [sys.executable, "-c", code], capture_output=True, text=True, timeout=120
+    )
+    assert run.stdout.strip() == "[]", run.stdout + run.stderr
+
+
+def test_an_interrupt_while_starting_is_one_line(tmp_path):
+    # The command interrupted while it loads the model: one line, status 130, no traceback.
+    code = (
+        "import _thread, threading, sys\n"
+        "threading.Timer(0.05, _thread.interrupt_main).start()\n"
+        "import builtins\n"
+        "real = builtins.__import__\n"
+        "def slow(name, *a, **k):\n"
+        "    if name.startswith('numpy'):\n"
+        "        import time; time.sleep(0.2)\n"
+        "    return real(name, *a, **k)\n"
+        "builtins.__import__ = slow\n"
+        "from o2transit.cli import main\n"
+        f"sys.exit(main(['evaluate', {str(SCENARIOS / 'anaemia.toml')!r}]))\n"
+    )
+    run = subprocess.run(  # noqa: PLW1510 - the status is asserted
+        [sys.executable, "-c", code], capture_output=True, text=True, timeout=120
+    )
+    assert run.returncode == 130, run.stderr
+    assert "Traceback" not in run.stderr, run.stderr
+    assert run.stderr.strip().splitlines() == ["interrupted (SIGINT); no output file left behind"]
+
+
+def test_a_signal_the_caller_ignores_stays_ignored():
+    # `nohup o2transit batch ...`: nohup ignores SIGHUP; batch installed its own handler over
+    # it, so closing the terminal still stopped the run.
+    import signal
+
+    from o2transit.cli import _raise_signalled, _stop_on_signals
+
+    saved = {s: signal.getsignal(s) for s in (signal.SIGHUP, signal.SIGTERM)}
+    try:
+        signal.signal(signal.SIGHUP, signal.SIG_IGN)
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)
+        _stop_on_signals()
+        assert signal.getsignal(signal.SIGHUP) == signal.SIG_IGN
+        assert signal.getsignal(signal.SIGTERM) is _raise_signalled
+    finally:
+        for s, handler in saved.items():
+            signal.signal(s, handler)
+
+
+def test_ascent_names_the_file_once_when_a_schedule_cannot_be_solved(tmp_path, capsys):
+    path = tmp_path / "thick.toml"
+    path.write_text(
+        "[baseline]\nhb_g_dl = 25\n[[day]]\nsleep_altitude_m = 5000\n"
+        "[[day]]\nsleep_altitude_m = 5500\n"
+    )
+    assert main(["ascent", str(path)]) == 2
+    err = capsys.readouterr().err
+    assert err.count(str(path)) == 1, err
+
+
+def test_a_day_table_the_csv_module_cannot_split_is_one_line(tmp_path, capsys):
+    # found by the fuzz suite (explore profile): a bare carriage return in an ascent CSV
+    # raised _csv.Error through the command as a traceback.
+    path = tmp_path / "mac.csv"
+    path.write_bytes(b"\r[[step]]\n")
+    assert main(["ascent", str(path)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err[0].startswith(f"error: {path}: ") and len(err) == 2, err
+
+
+def test_batch_shows_an_output_name_with_terminal_escapes_as_text(tmp_path, capsys):
+    # issue 18 (smaller): names with escape sequences were printed raw; batch's summary
+    # line still echoed the output's name as given.
+    src = tmp_path / "in.csv"
+    src.write_text(
+        "pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c\n80,40,7.4,0.95,12,0.4,37\n"
+    )
+    out = tmp_path / "\x1b]0;owned\x07o.csv"
+    assert main(["batch", str(src), "-o", str(out)]) == 0
+    err = capsys.readouterr().err
+    assert "\x1b" not in err and "\x07" not in err and "\\x1b]0;owned\\x07o.csv" in err

@@ -8,12 +8,21 @@ from pathlib import Path
 
 import pytest
 from o2transit.model.ascent import AscentError, load_ascent
+from o2transit.model.casebook import CaseFileError, open_case, save_case
 from o2transit.model.files import MAX_NESTING, MAX_TEXT_BYTES, read_text, read_toml
 from o2transit.model.lesson import LessonError, load_lesson
 from o2transit.model.scenario import ScenarioError, load_scenario
 from o2transit.model.scenario import read_toml as scenario_read_toml
 
-LOADERS = [(load_scenario, ScenarioError), (load_ascent, AscentError), (load_lesson, LessonError)]
+LOADERS = [
+    (load_scenario, ScenarioError),
+    (load_ascent, AscentError),
+    (load_lesson, LessonError),
+    # issue 18 item 2: case files (the bedside screen's saved cases) were read with
+    # Path.read_text: a FIFO hung, /dev/zero ran out of memory, deep nesting raised
+    # RecursionError, a byte-order mark was refused.
+    (open_case, CaseFileError),
+]
 SCENARIO = "[blood]\nhb_g_dl = 12\n"
 
 
@@ -52,7 +61,7 @@ def _bad_files(tmp_path: Path) -> dict[str, tuple[Path, str]]:
     }
 
 
-@pytest.mark.parametrize("loader, error", LOADERS, ids=["scenario", "ascent", "lesson"])
+@pytest.mark.parametrize("loader, error", LOADERS, ids=["scenario", "ascent", "lesson", "case"])
 def test_every_loader_refuses_every_bad_file_in_one_line(tmp_path, loader, error):
     for kind, (path, message) in _bad_files(tmp_path).items():
         if loader is load_ascent and kind == "zero":
@@ -69,6 +78,14 @@ def test_a_byte_order_mark_is_accepted(tmp_path):
     path.write_bytes(b"\xef\xbb\xbf" + SCENARIO.encode())
     assert load_scenario(path).inputs == {"hb_g_dl": 12.0}
     assert read_text(path, ValueError) == SCENARIO
+
+
+def test_a_case_file_with_a_byte_order_mark_opens(tmp_path):
+    gas = {"pao2_mmhg": 72.0, "paco2_mmhg": 44.0, "ph": 7.33, "sao2": 0.925}
+    gas |= {"hb_g_dl": 10.2, "fio2": 0.5, "temperature_c": 37.0}
+    path = Path(save_case(tmp_path, "bom", gas))
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    assert open_case(path).label == "bom"
 
 
 def test_the_shared_reader_keeps_its_old_name_and_signature(tmp_path):

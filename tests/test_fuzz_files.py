@@ -106,6 +106,74 @@ def test_any_bytes_as_a_scenario_file_are_loaded_or_refused_in_one_line(tmp_path
         assert all(line.startswith(str(path)) for line in str(exc).splitlines())
 
 
+def _file_readers():
+    from o2transit.model.ascent import AscentError, load_ascent
+    from o2transit.model.batch import BatchError, read_table
+    from o2transit.model.casebook import CaseFileError, open_case
+    from o2transit.model.lesson import LessonError, load_lesson
+
+    return {
+        "lesson.toml": (load_lesson, LessonError),
+        "ascent.toml": (load_ascent, AscentError),
+        "ascent.csv": (load_ascent, AscentError),
+        "case.toml": (open_case, CaseFileError),
+        "gases.csv": (read_table, BatchError),
+    }
+
+
+# TOML-ish and CSV-ish fragments, so that generated files get past the first byte
+_FRAGMENTS = st.sampled_from(
+    [
+        "[[step]]\n",
+        'title = "t"\n',
+        'caption = "c"\n',
+        "[step.blood]\n",
+        "hb_g_dl = 7\n",
+        "[[day]]\n",
+        "sleep_altitude_m = 3000\n",
+        "[baseline]\n",
+        "[case]\n",
+        "[measured]\n",
+        "day,sleep_altitude_m,high_altitude_m,fio2\n",
+        "1,2800,,\n",
+        "x = [[[[\n",
+        "\ufeff",
+        "pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c\n",
+        "80,40,7.4,0.95,12,0.4,37\n",
+        '"a\nb",',
+        "\u2028",
+        "\x00",
+        "\x85",
+        "nan",
+        "inf",
+        "1e999",
+        "\r",
+        ";",
+        "\t",
+        "{a=",
+    ]
+)
+
+
+@pytest.mark.parametrize("name", sorted(_file_readers()))
+@budget(40)
+@given(
+    parts=st.lists(st.one_of(_FRAGMENTS, st.text(max_size=20)), max_size=12),
+    raw=st.binary(max_size=60),
+)
+def test_every_file_reader_loads_or_refuses_any_file_naming_it(tmp_path_factory, name, parts, raw):
+    # issue 18 item 3: the lesson, ascent, case and batch readers too, not only scenarios:
+    # any bytes are loaded or refused with an error whose every line names the file.
+    loader, error = _file_readers()[name]
+    path = tmp_path_factory.mktemp("fz") / name
+    path.write_bytes("".join(parts).encode("utf-8", "surrogatepass") + raw)
+    try:
+        loader(path)
+    except error as exc:
+        lines = str(exc).splitlines()
+        assert lines and all(line.startswith(str(path)) for line in lines), str(exc)
+
+
 @budget(40)
 @given(
     nest=st.integers(1, 3000),

@@ -232,7 +232,7 @@ def test_a_broken_lesson_file_is_reported_and_the_rest_still_load(tmp_path):
     state = LectureState(lesson_dir=tmp_path)
     assert list(state.lessons) == ["rest-to-altitude"]
     (problem,) = state.lesson_problems
-    assert "broken.toml: missing required top-level key 'description'" in problem
+    assert "broken.toml: missing required top-level key 'step'" in problem
 
 
 def test_without_lessons_the_page_opens_on_one_factor(tmp_path):

@@ -74,10 +74,6 @@ def test_units_convert_and_defaults_apply(tmp_path):
 @pytest.mark.parametrize(
     ("change", "expected"),
     [
-        (
-            lambda t: t.replace('name = "Short lesson"\n', ""),
-            "missing required top-level key 'name'",
-        ),
         (lambda t: "colour = 'red'\n" + t, "unknown top-level key 'colour'"),
         (
             lambda t: t.replace('title = "Rest"', 'title = "Rest"\nnote = "x"'),
@@ -141,6 +137,52 @@ def test_bad_files_are_refused_with_file_step_key_value_range_and_unit(tmp_path,
     message = str(err.value)
     assert message.startswith(str(path)), message
     assert expected in message, message
+
+
+def test_like_a_scenario_file_name_and_description_are_optional(tmp_path):
+    # issue 14 item 1: the lesson loader follows the scenario files' rules; the name falls
+    # back to the file's name, the description to no text.
+    text = textwrap.dedent(GOOD).replace('name = "Short lesson"\n', "")
+    text = text.replace('description = "Two invented steps."\n', "")
+    lesson = load_lesson(write(tmp_path, text, name="my-lesson.toml"))
+    assert lesson.name == "my-lesson" and lesson.description == ""
+    assert [s.title for s in lesson.steps] == ["Rest", "Anaemia"]
+
+
+def test_every_problem_in_a_lesson_is_reported_at_once(tmp_path):
+    # issue 14 item 1: report every problem in a file at once, not only the first.
+    text = "colour = 'red'\n" + textwrap.dedent(GOOD)
+    text = text.replace('title = "Rest"', 'title = 3\nnote = "x"')
+    text = text.replace("hb_g_l = 75", "hb_g_l = 400\nhaemoglobin = 7")
+    text = text.replace("tissue_po2_kpa = 4.0", "tissue_po2_kpa = 40.0")
+    path = write(tmp_path, text)
+    with pytest.raises(LessonError) as err:
+        load_lesson(path)
+    expected = [
+        "unknown top-level key 'colour'",
+        "step 1: unknown key 'note'",
+        "step 1: title = 3 must be text",
+        "step 2: tissue_po2_kpa = 40.0 is outside the allowed range",
+        "step 2: [blood] hb_g_l = 400 is outside the allowed range 20-250 g/L (Haemoglobin)",
+        "step 2: [blood] unknown key 'haemoglobin'",
+    ]
+    problems = err.value.problems
+    assert len(problems) == len(expected), problems
+    for want in expected:
+        assert sum(want in p for p in problems) == 1, (want, problems)
+    assert all(p.startswith(str(path)) for p in problems)
+    assert str(err.value).splitlines() == list(problems)
+
+
+def test_every_step_the_chain_cannot_solve_is_named(tmp_path):
+    step = '[[step]]\ntitle = "t{n}"\ncaption = "c"\n[step.air]\naltitude_m = 9000\nfio2 = 0.05\n'
+    path = write(tmp_path, step.format(n=1) + step.format(n=2))
+    with pytest.raises(LessonError) as err:
+        load_lesson(path)
+    assert [p.split(": the case")[0] for p in err.value.problems] == [
+        f"{path}: step 1",
+        f"{path}: step 2",
+    ]
 
 
 def test_step_must_be_an_array_of_tables_and_count_is_bounded():
