@@ -13,6 +13,7 @@ forecast for an oximeter reading on a given day and altitude, with a person's of
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import dataclasses
 import io
@@ -201,6 +202,35 @@ class AscentResult:
         }
 
 
+class _Skip(Exception):
+    """One problem recorded: the rest of this key or day is skipped, the file goes on."""
+
+
+class _Problems:
+    """Every problem of one file, each line starting with the file (``fail`` records one
+    and skips what depends on it); :meth:`done` raises them all at once."""
+
+    def __init__(self, where: str):
+        self.where = where
+        self.lines: list[str] = []
+
+    def __call__(self, msg: str):
+        self.lines.append(f"{self.where}: {msg}")
+        raise _Skip
+
+    @contextlib.contextmanager
+    def each(self):
+        """Go on after a problem inside the block (the next key, the next day)."""
+        try:
+            yield
+        except _Skip:
+            pass
+
+    def done(self) -> None:
+        if self.lines:
+            raise AscentError("\n".join(self.lines), tuple(self.lines))
+
+
 def _number(fail, label, raw, lo, hi, unit):
     if isinstance(raw, bool) or not isinstance(raw, (int, float)):
         fail(f"{label} = {raw!r} must be a number")
@@ -209,40 +239,53 @@ def _number(fail, label, raw, lo, hi, unit):
     return float(raw)
 
 
-def _day_from_mapping(entry, label, fail) -> AscentDay:
+def _day_from_mapping(entry, label, fail: _Problems) -> AscentDay | None:
+    """One day, or None with its problems recorded in ``fail`` (all of them)."""
     if not isinstance(entry, dict):
-        fail(f"{label} must be a table [[day]]")
+        with fail.each():
+            fail(f"{label} must be a table [[day]]")
+        return None
+    before = len(fail.lines)
     allowed = ("sleep_altitude_m", "high_altitude_m", "fio2", "o2_flow_l_min")
     for key in entry:
         if key not in allowed:
-            fail(f"{label} unknown key {key!r}; allowed: {', '.join(allowed)}")
-    if "sleep_altitude_m" not in entry:
-        fail(f"{label} sleep_altitude_m is missing (sleeping altitude, m)")
+            with fail.each():
+                fail(f"{label} unknown key {key!r}; allowed: {', '.join(allowed)}")
     lo, hi, unit, _ = INPUT_LIMITS["altitude_m"]
-    sleep = _number(fail, f"{label} sleep_altitude_m", entry["sleep_altitude_m"], lo, hi, unit)
-    high = None
-    if "high_altitude_m" in entry:
-        high = _number(fail, f"{label} high_altitude_m", entry["high_altitude_m"], lo, hi, unit)
-        if high < sleep:
-            fail(
-                f"{label} high_altitude_m = {entry['high_altitude_m']!r} is below the sleeping "
-                f"altitude {sleep:g} m; the allowed range is {sleep:g}-{hi:g} m"
-            )
-    if "fio2" in entry and "o2_flow_l_min" in entry:
-        fail(f"{label} fio2 and o2_flow_l_min are both given; keep one")
+    sleep = high = None
+    with fail.each():
+        if "sleep_altitude_m" not in entry:
+            fail(f"{label} sleep_altitude_m is missing (sleeping altitude, m)")
+        sleep = _number(fail, f"{label} sleep_altitude_m", entry["sleep_altitude_m"], lo, hi, unit)
+    with fail.each():
+        if "high_altitude_m" in entry:
+            high = _number(fail, f"{label} high_altitude_m", entry["high_altitude_m"], lo, hi, unit)
+            if sleep is not None and high < sleep:
+                fail(
+                    f"{label} high_altitude_m = {entry['high_altitude_m']!r} is below the "
+                    f"sleeping altitude {sleep:g} m; the allowed range is {sleep:g}-{hi:g} m"
+                )
     fio2 = 0.21
-    if "fio2" in entry:
-        fio2 = _number(fail, f"{label} fio2", entry["fio2"], 0.21, 1.0, "")
-    if "o2_flow_l_min" in entry:
-        flow = _number(
-            fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE, "L/min"
-        )
-        fio2 = round(float(fio2_from_flow(flow)), 6)
+    with fail.each():
+        if "fio2" in entry and "o2_flow_l_min" in entry:
+            fail(f"{label} fio2 and o2_flow_l_min are both given; keep one")
+        if "fio2" in entry:
+            fio2 = _number(fail, f"{label} fio2", entry["fio2"], 0.21, 1.0, "")
+        if "o2_flow_l_min" in entry:
+            flow = _number(
+                fail, f"{label} o2_flow_l_min", entry["o2_flow_l_min"], *_FLOW_RANGE, "L/min"
+            )
+            fio2 = round(float(fio2_from_flow(flow)), 6)
+    if len(fail.lines) > before or sleep is None:
+        return None
     return AscentDay(sleep, high, fio2)
 
 
 def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
     """Validate a parsed ascent mapping (as from TOML) and build an :class:`AscentProfile`.
+
+    Every problem in the mapping is reported at once (``AscentError.problems``, one line
+    each, naming file, key or day, value, range and unit).
 
     Raises
     ------
@@ -256,48 +299,58 @@ def ascent_from_mapping(data: dict, where: str = "<ascent>") -> AscentProfile:
     ...                                             {"sleep_altitude_m": 3300, "o2_flow_l_min": 1}]})
     >>> len(p.days), p.days[1].fio2
     (2, 0.25)
+    >>> try:
+    ...     ascent_from_mapping({"baseline": {"hb_g_dl": 99}, "day": [{"sleep_altitude_m": -1e6}]})
+    ... except AscentError as e:
+    ...     len(e.problems)
+    2
     """
-
-    def fail(msg):
-        raise AscentError(f"{where}: {msg}")
-
+    fail = _Problems(where)
     for key in data:
         if key not in ("name", "description", "baseline", "day"):
-            fail(f"unknown key {key!r}; allowed: name, description, [baseline], [[day]]")
+            with fail.each():
+                fail(f"unknown key {key!r}; allowed: name, description, [baseline], [[day]]")
     for key in ("name", "description"):
         if key in data and not isinstance(data[key], str):
-            fail(f"{key} = {data[key]!r} must be text")
+            with fail.each():
+                fail(f"{key} = {data[key]!r} must be text")
     raw = data.get("baseline", {})
     if not isinstance(raw, dict):
-        fail("baseline must be a table [baseline]")
+        with fail.each():
+            fail("baseline must be a table [baseline]")
+        raw = {}
     base: dict = {}
     for key, value in raw.items():
-        if key in _BASELINE_KEYS:
-            lo, hi, unit, _ = INPUT_LIMITS[key]
-            base[key] = _number(fail, f"[baseline] {key}", value, lo, hi, unit)
-        elif key == "age_years":
-            base[key] = _number(fail, "[baseline] age_years", value, *_AGE_RANGE, "years")
-        elif key == "pressure_model":
-            if value not in PRESSURE_MODELS:
+        with fail.each():
+            if key in _BASELINE_KEYS:
+                lo, hi, unit, _ = INPUT_LIMITS[key]
+                base[key] = _number(fail, f"[baseline] {key}", value, lo, hi, unit)
+            elif key == "age_years":
+                base[key] = _number(fail, "[baseline] age_years", value, *_AGE_RANGE, "years")
+            elif key == "pressure_model":
+                if value not in PRESSURE_MODELS:
+                    fail(
+                        f"[baseline] pressure_model = {value!r} is not one of "
+                        f"{', '.join(PRESSURE_MODELS)}"
+                    )
+                base[key] = value
+            else:
                 fail(
-                    f"[baseline] pressure_model = {value!r} is not one of "
-                    f"{', '.join(PRESSURE_MODELS)}"
+                    f"[baseline] unknown key {key!r}; allowed: "
+                    f"{', '.join(_BASELINE_KEYS + ('age_years', 'pressure_model'))}"
                 )
-            base[key] = value
-        else:
-            fail(
-                f"[baseline] unknown key {key!r}; allowed: "
-                f"{', '.join(_BASELINE_KEYS + ('age_years', 'pressure_model'))}"
-            )
     entries = data.get("day", [])
-    if not isinstance(entries, list) or not entries:
-        fail("no days: give one [[day]] table per day with sleep_altitude_m")
-    if len(entries) > _MAX_DAYS:
-        fail(f"{len(entries)} days is outside the allowed range 1-{_MAX_DAYS} days")
-    days = tuple(_day_from_mapping(e, f"[[day]] {i + 1}", fail) for i, e in enumerate(entries))
+    days: list[AscentDay | None] = []
+    with fail.each():
+        if not isinstance(entries, list) or not entries:
+            fail("no days: give one [[day]] table per day with sleep_altitude_m")
+        if len(entries) > _MAX_DAYS:
+            fail(f"{len(entries)} days is outside the allowed range 1-{_MAX_DAYS} days")
+        days = [_day_from_mapping(e, f"[[day]] {i + 1}", fail) for i, e in enumerate(entries)]
+    fail.done()
     return AscentProfile(
         name=data.get("name") or where,
-        days=days,
+        days=tuple(d for d in days if d is not None),
         baseline=Baseline(**base),
         description=data.get("description", ""),
         path=where,
@@ -332,37 +385,54 @@ def days_from_csv(text: str, where: str = "<csv>") -> tuple[AscentDay, ...]:
     """Days from CSV text with the columns ``day,sleep_altitude_m,high_altitude_m,fio2``.
 
     ``high_altitude_m`` and ``fio2`` may be empty; ``day`` must count 1, 2, 3... in order.
+    Rows may end in ``\\n``, ``\\r\\n`` or ``\\r``; every problem is reported at once.
 
     Examples
     --------
     >>> days_from_csv("day,sleep_altitude_m,high_altitude_m,fio2\\n1,2800,,\\n")
     (AscentDay(sleep_altitude_m=2800.0, high_altitude_m=None, fio2=0.21),)
     """
-
-    def fail(msg):
-        raise AscentError(f"{where}: {msg}")
-
-    reader = csv.DictReader(io.StringIO(text))
-    if reader.fieldnames is None or tuple(c.strip() for c in reader.fieldnames) != CSV_COLUMNS:
-        fail(f"the header must be {','.join(CSV_COLUMNS)} (found {reader.fieldnames})")
-    entries = []
-    for i, row in enumerate(reader):
-        row = {k.strip(): (v or "").strip() for k, v in row.items() if k is not None}
+    fail = _Problems(where)
+    text = text.replace("\r\n", "\n").replace("\r", "\n")
+    try:
+        rows = list(csv.reader(io.StringIO(text, newline="")))
+    except csv.Error as exc:
+        raise AscentError(f"{where}: not a readable CSV day table ({exc})") from None
+    rows = [r for r in rows if any(c.strip() for c in r)]
+    header = tuple(c.strip() for c in rows[0]) if rows else None
+    if header != CSV_COLUMNS:
+        found = ",".join(header) if header else "nothing"
+        raise AscentError(f"{where}: the header must be {','.join(CSV_COLUMNS)} (found {found})")
+    entries: list[tuple[str, dict]] = []
+    for i, cells in enumerate(rows[1:]):
         label = f"row {i + 1}"
-        if row["day"] != str(i + 1):
-            fail(f"{label} day = {row['day']!r} must be {i + 1} (days count 1, 2, 3... in order)")
-        entry = {}
-        for key in CSV_COLUMNS[1:]:
-            if row[key] == "":
-                continue
-            try:
-                entry[key] = float(row[key])
-            except ValueError:
-                fail(f"{label} {key} = {row[key]!r} must be a number")
-        entries.append(entry)
-    if not entries:
-        fail("no days after the header")
-    return tuple(_day_from_mapping(e, f"row {i + 1}", fail) for i, e in enumerate(entries))
+        with fail.each():
+            if len(cells) > len(CSV_COLUMNS):
+                fail(f"{label} has {len(cells)} cells; the header has {len(CSV_COLUMNS)}")
+            row = dict(zip(CSV_COLUMNS, [c.strip() for c in cells] + [""] * len(CSV_COLUMNS)))
+            if row["day"] != str(i + 1):
+                with fail.each():
+                    fail(
+                        f"{label} day = {row['day']!r} must be {i + 1} (days count 1, 2, 3... in order)"
+                    )
+            before = len(fail.lines)
+            entry = {}
+            for key in CSV_COLUMNS[1:]:
+                if row[key] == "":
+                    continue
+                try:
+                    entry[key] = float(row[key])
+                except ValueError:
+                    with fail.each():
+                        fail(f"{label} {key} = {row[key]!r} must be a number")
+            if len(fail.lines) == before:  # the cells read: now the day's own checks
+                entries.append((label, entry))
+    if not rows[1:]:
+        with fail.each():
+            fail("no days after the header")
+    days = [_day_from_mapping(e, label, fail) for label, e in entries]
+    fail.done()
+    return tuple(d for d in days if d is not None)
 
 
 def days_to_csv(days) -> str:

@@ -485,3 +485,43 @@ def _no_runtime_warning():
             return out
 
     return _Guard()
+
+
+def test_an_ascent_file_reports_every_problem_at_once(tmp_path):
+    # issue 14 item 1: the ascent loader follows the scenario loader's rules: every problem
+    # of the file at once, each line naming the file, key or day, value, range and unit.
+    from o2transit.model.ascent import AscentError, load_ascent
+
+    path = tmp_path / "trip.toml"
+    path.write_text(
+        "[baseline]\nhb_g_dl = 99\nfoo = 1\n[bogus]\nx = 1\n"
+        "[[day]]\nsleep_altitude_m = 99999\nfio2 = 3\n[[day]]\nsleep_altitude_m = 3000\n"
+    )
+    with pytest.raises(AscentError) as err:
+        load_ascent(path)
+    problems = err.value.problems
+    assert len(problems) == 5 and all(p.startswith(str(path)) for p in problems)
+    text = str(err.value)
+    for part in (
+        "'bogus'",
+        "hb_g_dl = 99 is outside the allowed range 2-25 g/dL",
+        "'foo'",
+        "[[day]] 1 sleep_altitude_m = 99999",
+        "[[day]] 1 fio2 = 3",
+    ):
+        assert part in text, part
+
+
+def test_a_csv_day_table_with_cr_line_ends_reads_and_reports_every_row(tmp_path):
+    from o2transit.model.ascent import AscentError, load_ascent
+
+    good = tmp_path / "mac.csv"
+    good.write_bytes(b"day,sleep_altitude_m,high_altitude_m,fio2\r1,2800,,\r2,3300,3600,\r")
+    assert [d.sleep_altitude_m for d in load_ascent(good).days] == [2800.0, 3300.0]
+    bad = tmp_path / "bad.csv"
+    bad.write_text("day,sleep_altitude_m,high_altitude_m,fio2\n1,x,,\n3,2800,,2\n")
+    with pytest.raises(AscentError) as err:
+        load_ascent(bad)
+    text = str(err.value)
+    assert "row 1 sleep_altitude_m = 'x' must be a number" in text
+    assert "row 2 day = '3' must be 2" in text and "row 2 fio2 = 2.0 is outside" in text
