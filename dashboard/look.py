@@ -12,7 +12,17 @@ import panel as pn
 
 from ..model.caution import CAUTION
 
-__all__ = ["ACCENT", "ARTERIAL", "CAUTION", "INK", "REFERENCE", "TABLE_CSS", "VENOUS", "caution_pane"]
+__all__ = [
+    "ACCENT",
+    "ARTERIAL",
+    "CAUTION",
+    "ERROR_STYLE",
+    "INK",
+    "REFERENCE",
+    "TABLE_CSS",
+    "VENOUS",
+    "caution_pane",
+]
 
 # Our palette: oxygenated ember, deoxygenated slate-violet, graphite for reference.
 ARTERIAL = "#c2410c"
@@ -20,6 +30,15 @@ VENOUS = "#4c3f91"
 REFERENCE = "#8a8f98"
 INK = "#1f2a30"
 ACCENT = "#0f5257"
+
+ERROR_STYLE = {
+    "background": "#fdecea",
+    "color": "#7a1414",
+    "padding": "4px 10px",
+    "border-radius": "4px",
+    "font-size": "14px",
+}
+"""How every screen shows a refusal (a bad entry, upload or address value): one style."""
 
 TABLE_CSS = f"""
 table.o2t {{ border-collapse: collapse; font-family: 'Liberation Sans', Arial, sans-serif;

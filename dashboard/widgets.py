@@ -16,7 +16,7 @@ from bokeh.models import CustomJS, Range1d
 from bokeh.plotting import figure
 
 from ..model.files import MAX_NESTING, MAX_TEXT_BYTES, decode_text, nesting_depth, parse_toml
-from .look import INK
+from .look import ERROR_STYLE, INK
 from .responsive import held, serving
 
 log = logging.getLogger(__name__)
@@ -244,13 +244,7 @@ class Upload(pn.viewable.Viewer):
             visible=False,
             css_classes=["o2-upload-msg"],
             sizing_mode="stretch_width",
-            styles={
-                "background": "#fdecea",
-                "color": "#7a1414",
-                "padding": "4px 10px",
-                "border-radius": "4px",
-                "font-size": "14px",
-            },
+            styles=dict(ERROR_STYLE),
             margin=(2, 10),
         )
         self._pending = False

@@ -9,17 +9,10 @@ import html
 
 import panel as pn
 
-from ..look import ACCENT, TABLE_CSS
+from ..look import ACCENT, ERROR_STYLE, TABLE_CSS
 from ..responsive import held
 from .state import BedsideState
 
-ERROR_STYLE = {
-    "background": "#fdecea",
-    "color": "#7a1414",
-    "padding": "4px 10px",
-    "border-radius": "4px",
-    "font-size": "14px",
-}
 OK_STYLE = {"color": "#1f4d3a", "font-size": "14px", "padding": "2px 4px"}
 NOTE_STYLE = {"color": "#46545c", "font-size": "13px"}
 SECTION_CSS = f"""

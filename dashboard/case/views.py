@@ -13,7 +13,7 @@ from pathlib import Path
 import panel as pn
 
 from ..bedside.wording import in_display_units
-from ..look import TABLE_CSS
+from ..look import ERROR_STYLE, TABLE_CSS
 from ..responsive import held, later_part
 from .formatting import fmt
 from .state import CaseState
@@ -293,13 +293,7 @@ class CaseControls(pn.viewable.Viewer):
             css_classes=["o2-error"],
             visible=False,
             sizing_mode="stretch_width",
-            styles={
-                "background": "#fdecea",
-                "color": "#7a1414",
-                "padding": "4px 10px",
-                "border-radius": "4px",
-                "font-size": "14px",
-            },
+            styles=dict(ERROR_STYLE),
         )
         state.param.watch(self._update, ["scenario_name", "baseline", "error_message"])
         self._update()
