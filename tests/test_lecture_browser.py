@@ -415,7 +415,8 @@ def test_factors_combine_and_show_their_shares(context, base_url):
     expect(caption).to_contain_text("Each factor moved alone from the reference: pH 6.90 +")
     expect(caption).to_contain_text("Temperature 42.0 °C +")
     expect(caption).to_contain_text("is their interaction")
-    shared = wait_address(page, r"combine=true")
+    # the address is written once, shortly after the last change (dashboard.responsive.Quiet)
+    shared = wait_address(page, r"^(?=.*combine=true)(?=.*factor=ph&ph=6\.9)")
     assert "factor=ph&ph=6.9" in shared and "temperature_c=42" in shared
     numbers = wait_readout(page, lambda text: text[0].split(":  ")[1].startswith("+"))
     again = open_lecture(context, shared)

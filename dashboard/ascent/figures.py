@@ -23,6 +23,7 @@ from bokeh.models import (
 from bokeh.plotting import figure
 
 from ..look import ACCENT, INK
+from ..responsive import set_data
 
 # Colour-blind-safe set (Okabe & Ito 2008, "Color universal design"), one per slot.
 SLOT_COLORS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
@@ -229,12 +230,12 @@ class ComparisonFigures:
             for slot in range(len(SLOT_COLORS)):
                 src = self.line_sources[key][slot]
                 if slot not in drawn:
-                    src.data = {"x": [], "y": []}
+                    set_data(src, {"x": [], "y": []})
                     continue
                 skey, s = drawn[slot]
                 x = [int(v) for v in s["day"]]
                 y = [float(v) for v in s[col]]
-                src.data = {"x": x, "y": y}
+                set_data(src, {"x": x, "y": y})
                 color = SLOT_COLORS[slot]
                 for i, (xi, yi) in enumerate(zip(x, y)):
                     flagged = bool(s["flagged"][i])
@@ -257,19 +258,21 @@ class ComparisonFigures:
                         f"night {xi}: {_night_text(s, i)} — "
                         f"{key_text(key, yi, unit, digits)}{extra}"
                     )
-            self.point_sources[key].data = pts
-            self.point_sources[key].selected.indices = []
+            if not _same_data(self.point_sources[key].data, pts):
+                set_data(self.point_sources[key], pts)
+                self.point_sources[key].selected.indices = []
         drawn = {int(s["slot"]): s for _skey, s in compared}
         for slot, band in enumerate(self.band_sources):
             s = drawn.get(slot)
-            band.data = (
+            set_data(
+                band,
                 {"x": [], "y1": [], "y2": []}
                 if s is None
                 else {
                     "x": [int(v) for v in s["day"]],
                     "y1": [float(v) for v in s["spo2_low_pct"]],
                     "y2": [float(v) for v in s["spo2_high_pct"]],
-                }
+                },
             )
         logged = {k: [] for k in ("x", "y", "key", "name", "fill", "text")}
         for skey, s in compared:
@@ -280,7 +283,7 @@ class ComparisonFigures:
                 logged["name"].append(s["name"])
                 logged["fill"].append(SLOT_COLORS[int(s["slot"])])
                 logged["text"].append(reading_text(s, i))
-        self.reading_source.data = logged
+        set_data(self.reading_source, logged)
         hi = {k: [] for k in ("x", "y0", "y1", "color", "name", "text")}
         for _skey, s in compared:
             slot = int(s["slot"])
@@ -296,7 +299,11 @@ class ComparisonFigures:
                     f"PaO2 {s['high_pao2'][i]:.{pd}f} {pressure}, SaO2 "
                     f"{s['high_sao2_pct'][i]:.1f} %"
                 )
-        self.high_source.data = hi
+        set_data(self.high_source, hi)
+        self.set_thresholds(thresholds_pct)
+
+    def set_thresholds(self, thresholds_pct=(90.0, 80.0)) -> None:
+        """Move the threshold lines of the SaO2 figure and their labels (nothing else)."""
         for span, label, t in zip(self.threshold_spans, self.threshold_labels, thresholds_pct):
             span.location = float(t)
             label.y = float(t)
@@ -308,6 +315,11 @@ class ComparisonFigures:
 
         f = self.figures
         return gridplot([[f["altitude"], f["pao2"]], [f["sao2"], f["cao2"]]], toolbar_location=None)
+
+
+def _same_data(old: dict, new: dict) -> bool:
+    """Whether a source's data already holds ``new`` (same columns, same values)."""
+    return set(old) == set(new) and all(list(old[k]) == list(new[k]) for k in new)
 
 
 def reading_text(s: dict, i: int) -> str:

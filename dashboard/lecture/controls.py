@@ -13,6 +13,7 @@ import io
 import panel as pn
 
 from ..look import INK
+from ..responsive import held, serving
 from .export import png_js, standalone_html
 from .keys import KeyCatcher
 from .state import FACTORS, LectureState
@@ -31,11 +32,22 @@ label { font-size: 17px; }
 
 
 def later(fn, *args):
-    """A callback that runs ``fn(*args)`` on the next tick with the document lock held.
+    """A click callback that runs ``fn(*args)`` on the next tick with the document lock held,
+    all its changes in one message and the figure in a second (:func:`responsive.held`; at
+    once without a server).
 
     Button events arrive outside the document lock (as in the case screen's controls).
     """
-    return lambda *_e: pn.state.execute(lambda: fn(*args), schedule=True)
+    run = held(lambda: fn(*args))
+    return lambda *_e: run() if serving() else fn(*args)
+
+
+def update_changed(widget, **values) -> None:
+    """``widget.param.update(**values)`` with only the values that differ from the widget's
+    (an unchanged value still costs its validation and watchers)."""
+    changed = {k: v for k, v in values.items() if getattr(widget, k) != v}
+    if changed:
+        widget.param.update(changed)
 
 
 def wrapping(*objects, css: str, **kwargs) -> pn.FlexBox:
@@ -314,7 +326,8 @@ class LectureControls(pn.viewable.Viewer):
         if two_state:
             self._choice.value = "fetal" if c["value"] >= 0.5 else "adult"
         else:
-            self._sliders[st.factor].param.update(
+            update_changed(
+                self._sliders[st.factor],
                 label=self._slider_name(c),
                 start=c["lo"],
                 end=c["hi"],
@@ -323,7 +336,8 @@ class LectureControls(pn.viewable.Viewer):
             )
         lo, hi = (st.case.pressure_to_display(v) for v in (5.0, 100.0))
         step = 0.1 if st.pressure_unit == "kPa" else 1.0
-        self._tissue.param.update(
+        update_changed(
+            self._tissue,
             label=f"Tissue PO2 ({st.pressure_unit})",
             start=lo,
             end=hi,

@@ -182,7 +182,8 @@ def apply_frame(fig, frame: dict) -> None:
     fig.y_range.end = top
     ticks = SATURATION_TICKS if view == "saturation" else list(range(0, int(top) + 1, 5))
     fig.yaxis[0].ticker.ticks = ticks
-    legend = fig.select_one({"name": "o2-lecture-legend"})
+    # the legend is one of the figure's side panels (no walk of every model, as select does)
+    legend = next(r for r in fig.below if getattr(r, "name", None) == "o2-lecture-legend")
     legend.items[LEGEND_ORDER.index("tissue_point")].label = value(tissue_label(frame))
 
 

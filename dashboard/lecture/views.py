@@ -9,7 +9,11 @@ Smooth motion: the server writes each new state, computed by the model, into a *
 drawn source in the browser from the arrays on screen to the target arrays over
 :data:`GLIDE_MS` (cubic ease in-out, ``requestAnimationFrame``, arrays changed in place and
 ``change.emit()``, so nothing is sent back to the server). Only numbers the model computed
-are interpolated; text changes at once.
+are interpolated; text changes at once (painted in the next frame).
+
+Numbers first (:mod:`dashboard.responsive`): the readout's target, the title and the axes go
+out with the change itself; the curves and points follow in a second message right after, and
+a source whose data did not change is not sent again.
 """
 
 from __future__ import annotations
@@ -17,6 +21,7 @@ from __future__ import annotations
 import panel as pn
 from bokeh.models import ColumnDataSource, CustomJS
 
+from ..responsive import Deferred, set_data
 from .controls import LectureControls
 from .figures import apply_frame, build_figure, frame_data
 from .state import LectureState
@@ -37,15 +42,21 @@ if (shown._o2_raf) { cancelAnimationFrame(shown._o2_raf); shown._o2_raf = null; 
 const fits = keys.every((k) => now[k] !== undefined && now[k].length === to[k].length);
 if (!fits) { shown.data = Object.fromEntries(keys.map((k) => [k, Array.from(to[k])])); return; }
 const start = {};
+let text = false;
 for (const k of keys) {
   start[k] = Array.from(now[k]);
   if (to[k].length && typeof to[k][0] !== "number") {
-    for (let i = 0; i < to[k].length; i++) now[k][i] = to[k][i];
+    for (let i = 0; i < to[k].length; i++) { text = text || now[k][i] !== to[k][i]; now[k][i] = to[k][i]; }
   }
 }
-const t0 = performance.now();
+// New text is painted in the coming frame, not one frame after the glide's first step.
+if (text) { shown.change.emit(); }
+// The clock starts at the first frame drawn, so a busy moment (a relayout) between the
+// message and that frame does not eat up the glide.
+let t0 = null;
 function tick(t) {
-  const u = Math.max(0, Math.min(1, (t - t0) / dur));  // a frame may be stamped before t0
+  if (t0 === null) { t0 = t; }
+  const u = Math.max(0, Math.min(1, (t - t0) / dur));
   const e = u < 0.5 ? 4 * u * u * u : 1 - Math.pow(-2 * u + 2, 3) / 2;
   for (const k of keys) {
     const a = start[k], b = to[k], out = now[k];
@@ -94,14 +105,22 @@ class LecturePlot(pn.viewable.Viewer):
             min_height=PLOT_MIN_HEIGHT,
             css_classes=["o2-lecture-plot"],
         )
+        self._draw = Deferred(self._draw_figure)
         state.param.watch(self._update, ["frame"])
 
     def _update(self, *_events) -> None:
+        """The readout, title and axes at once (the numbers, and what may change the layout),
+        the curves and points right after: their glide then starts on a settled layout."""
         frame = self._state.frame
         apply_frame(self.figure, frame)
+        set_data(self._targets["readout"], frame_data(frame)["readout"])
+        set_data(self.caption_source, {"text": [frame["caption"]]})
+        self._draw()
+
+    def _draw_figure(self) -> None:
+        frame = self._state.frame
         for k, v in frame_data(frame).items():
-            self._targets[k].data = v
-        self.caption_source.data = {"text": [frame["caption"]]}
+            set_data(self._targets[k], v)
 
     def __panel__(self):
         return self._pane
