@@ -14,6 +14,8 @@ those costs away; a screen applies them in a few lines (see ``dashboard/case/app
 * :func:`quicken` (``quicken(template)`` once the page is built): browser changes are
   applied without the 50 ms wait, all that one change does goes out in one message;
 * :func:`held` for button actions: the action on the next tick, in one message;
+* :func:`soon` for a view's hand-over to its state: inside the change under way, or
+  :func:`held` where no change is under way (a click);
 * :class:`Deferred` for figures: the numbers of a change go first, the figures in a second
   message right after; a figure on a part of the page that is not shown waits until it is
   (:class:`Gate`);
@@ -54,6 +56,7 @@ __all__ = [
     "quicken",
     "serving",
     "set_data",
+    "soon",
 ]
 
 TEMPLATE_OPTIONS = {"busy_indicator": None}
@@ -237,6 +240,12 @@ def _held_change(obj: Reactive, doc) -> None:
     _when_free(doc, lambda: _act(doc, lambda: type(obj)._change_event(obj, doc)))
 
 
+def _held_event(obj: Reactive, doc, event) -> None:
+    """A browser event (a click, a table edit) queued behind the changes that came before it:
+    a table's edit event then reads the edited value, not the one before."""
+    _when_free(doc, lambda: _act(doc, lambda: type(obj)._process_bokeh_event(obj, doc, event)))
+
+
 def _parts(roots):
     """Templates as their areas (a template's own ``select`` trips over its browser info)."""
     for root in roots:
@@ -261,6 +270,7 @@ def quicken(*roots) -> None:
             obj._debounce = 0
             obj._busy__ignore = _EVERYTHING
             obj._change_event = lambda doc, obj=obj: _held_change(obj, doc)
+            obj._process_bokeh_event = lambda doc, event, obj=obj: _held_event(obj, doc, event)
 
 
 def held(action: Callable[[], object]) -> Callable[[], None]:
@@ -273,6 +283,20 @@ def held(action: Callable[[], object]) -> Callable[[], None]:
         _when_free(doc, lambda: _act(doc, action))
 
     return lambda: pn.state.execute(run, schedule=True)
+
+
+def soon(action: Callable[..., object], *args) -> None:
+    """Run ``action(*args)`` as part of the user action under way.
+
+    Called from a quickened widget's watcher, it runs at once, inside that change's one hold
+    (its changes go out with the change's message, its :class:`Deferred` figures after);
+    called from a button click or elsewhere in a served page, it runs as :func:`held` runs
+    an action; outside a served page, at once.
+    """
+    if _acting or not serving():
+        action(*args)
+    else:
+        held(lambda: action(*args))()
 
 
 # ---------------------------------------------------------------------- numbers first

@@ -17,10 +17,12 @@ from .views import CaseControls, InputPanel, NumbersTable
 TITLE = "o2transit · oxygen path"
 
 
-def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template.BootstrapTemplate:
-    """Page for one session: inputs in the sidebar, curves, cascade and numbers in the main area."""
-    pn.extension()
-    state = CaseState() if state is None else state
+def page_shell() -> pn.template.BootstrapTemplate:
+    """The page without its content: the template and its header links.
+
+    A plain request gets only this; the content follows when the page connects
+    (``dashboard.app``), built by :func:`create_app` into the same kind of template.
+    """
     template = pn.template.BootstrapTemplate(
         title=TITLE,
         header_background=ACCENT,
@@ -29,6 +31,14 @@ def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template
         **TEMPLATE_OPTIONS,
     )
     template.header.append(screen_links("/"))
+    return template
+
+
+def create_app(state: CaseState | None = None, scenario_dir=None) -> pn.template.BootstrapTemplate:
+    """Page for one session: inputs in the sidebar, curves, cascade and numbers in the main area."""
+    pn.extension()
+    state = CaseState() if state is None else state
+    template = page_shell()
     bind_url(state, template)  # case from ?key=value on load; address follows every change
     template.sidebar.append(InputPanel(state))
     model_tab = pn.Column(

@@ -14,6 +14,7 @@ import panel as pn
 
 from ..look import ACCENT, INK
 from ..nav import screen_links
+from ..responsive import Quiet, quicken
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
 from .figures import PAPER
 from .maker_view import LessonMakerView
@@ -32,15 +33,29 @@ def bind_lecture_url(state: LectureState, notice: pn.pane.HTML) -> None:
     def sync(*_events) -> None:
         write_query(state.to_query(), owned)
 
+    later = Quiet(sync)  # written once, shortly after the last change of a burst
+
     def changed(*_events) -> None:
-        sync()
-        notice.visible = False  # the address now holds what is shown
+        later()
+        notice.visible = False  # the address will hold what is shown
 
     state.param.watch(changed, list(SHOWN_PARAMS))
     if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
         pn.state.onload(sync)  # after the browser has sent its own address
     else:
         sync()
+
+
+def page_shell(*objects) -> pn.Column:
+    """The page's outer column, holding ``objects``. A plain request gets it empty; the
+    content follows when the page connects (``dashboard.app``)."""
+    return pn.Column(
+        *objects,
+        sizing_mode="stretch_both",
+        styles={"background": PAPER, "color": INK},
+        margin=0,
+        css_classes=["o2-lecture"],
+    )
 
 
 def create_lecture_app(lesson_dir=None) -> pn.Column:
@@ -73,16 +88,6 @@ def create_lecture_app(lesson_dir=None) -> pn.Column:
         margin=0,
         css_classes=["o2-lecture-header"],
     )
-    return pn.Column(
-        header,
-        notice,
-        plot,
-        controls.caption,
-        controls,
-        controls.message,
-        maker,
-        sizing_mode="stretch_both",
-        styles={"background": PAPER, "color": INK},
-        margin=0,
-        css_classes=["o2-lecture"],
-    )
+    page = page_shell(header, notice, plot, controls.caption, controls, controls.message, maker)
+    quicken(page)  # browser changes at once, one message per change
+    return page

@@ -23,6 +23,9 @@ shows saturation or O2 content (:attr:`LectureState.view`).
 
 from __future__ import annotations
 
+import hashlib
+import stat
+from functools import lru_cache
 from pathlib import Path
 
 import param
@@ -66,6 +69,29 @@ SHOWN_PARAMS = (
 """The parameters that decide what the lecture page shows (frame and address follow them)."""
 
 
+@lru_cache(maxsize=64)
+def _lesson_version(path: str, _digest: str) -> Lesson:
+    return load_lesson(path)
+
+
+_SHARED_LESSON_MAX_BYTES = 1 << 20
+
+
+def shared_lesson(path) -> Lesson:
+    """A lesson file read and checked once per content of the file, shared by every session
+    (a :class:`Lesson` is frozen). Only a small regular file is shared; anything else, and a
+    refused file every time, goes through :func:`load_lesson`, whose message names the file
+    and the problem."""
+    try:
+        st = Path(path).stat()
+        if not stat.S_ISREG(st.st_mode) or st.st_size > _SHARED_LESSON_MAX_BYTES:
+            return load_lesson(path)
+        digest = hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except OSError:
+        return load_lesson(path)
+    return _lesson_version(str(path), digest)
+
+
 class LectureState(param.Parameterized):
     """What the lecture screen shows: a lesson step or one factor, and the derived frame."""
 
@@ -102,7 +128,7 @@ class LectureState(param.Parameterized):
         problems = []
         for path in lesson_files(lesson_dir):
             try:
-                lesson = load_lesson(path)
+                lesson = shared_lesson(path)
             except LessonError as exc:
                 problems.append(str(exc))
                 continue

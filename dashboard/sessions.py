@@ -1,0 +1,343 @@
+"""Sessions that cost little: a plain request gets the page's shell, the screen is built when
+the page connects, and what a closed session held is given back.
+
+Bokeh builds a whole session for every plain HTTP GET of a page, whether or not a browser
+ever opens its live connection (a crawler, a link preview, ``curl``, a reload cut short), and
+keeps it until the unused-session lifetime has passed. Measured on the case screen before this
+module (``bench/bench_load.py``): about 0.9 s of server CPU per GET, 1.5 s on the planner.
+Here a GET builds only the shell (the template or outer column, its header links, an
+"Opening" line: a few hundredths of a second), and the screen itself is built when the page,
+its scripts loaded and its live connection open, asks for its document (PULL-DOC): under the
+document's lock, into the shell's holders, before the reply is made, so the screen goes out
+in the reply and the browser renders the page once. A request that never connects costs the
+shell only. The screen's parts are made in :func:`dashboard.responsive.later_part`, as a
+lazy tab's are, so that they are styled like the rest of the page and every stylesheet
+comes from this server.
+
+Measured in ``bench/bench_load.py`` (shared 2-core machine, so read ratios): a plain GET of
+the case screen cost about 0.9 s of server CPU before and a few hundredths after.
+
+A session's document is destroyed ``unused_session_lifetime_milliseconds``
+(:data:`SESSION_OPTIONS`) after its page closed; then the garbage collector runs once
+(Panel's and param's objects hold each other in cycles) and the C allocator is asked to
+hand its free memory back to the system (``malloc_trim``, glibc only), coalesced so that
+50 closing pages cost one pass. Objects made before the first session (imports) are frozen
+out of the collector's sight (:func:`freeze_startup_objects`, called by ``serve``).
+
+Outside a served page (tests, notebooks, ``server_doc`` on a bare document) a factory builds
+the whole screen at once, as before.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import ctypes.util
+import gc
+import logging
+import weakref
+from collections import Counter
+from collections.abc import Callable
+
+import panel as pn
+from panel.io.state import set_curdoc
+from tornado.ioloop import IOLoop
+
+from .responsive import later_part
+
+__all__ = [
+    "BUILDS",
+    "SESSION_OPTIONS",
+    "column_page",
+    "freeze_startup_objects",
+    "release_memory",
+    "template_page",
+]
+
+log = logging.getLogger(__name__)
+
+BUILDS: Counter = Counter()
+"""Screen name -> how many times the whole screen was built (the tests count them)."""
+
+SESSION_OPTIONS = {
+    # Bokeh's defaults (17 s, 15 s) keep a closed page's session up to 32 s; a page whose
+    # GET was served but which has not connected yet is also "unused", so the lifetime
+    # must cover a slow browser's start-up on a loaded machine: 15 s is kept.
+    "check_unused_sessions_milliseconds": 3000,
+    "unused_session_lifetime_milliseconds": 15000,
+}
+"""``pn.serve`` keywords: how often unused sessions are looked for [ms], and how long a session
+with no open page is kept [ms]."""
+
+RELEASE_DELAY_S = 1.0
+"""A closed session's memory is given back this long after the (last) session was destroyed [s]."""
+
+OPENING_TEXT = "Opening the screen…"
+
+_libc = None
+_release_due = False
+
+
+def _trim_malloc() -> None:
+    """Ask glibc to return freed heap pages to the system (a no-op where there is no glibc)."""
+    global _libc
+    if _libc is None:
+        try:
+            _libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
+            _libc.malloc_trim.argtypes = [ctypes.c_size_t]
+        except (OSError, AttributeError):
+            _libc = False
+    if _libc:
+        _libc.malloc_trim(0)
+
+
+def release_memory() -> None:
+    """Collect the cycles closed sessions left and give the freed memory back."""
+    global _release_due
+    _release_due = False
+    gc.collect()
+    _trim_malloc()
+
+
+def freeze_startup_objects() -> None:
+    """Move every object alive now (modules, classes, the shared caches filled at import) out
+    of the garbage collector's sight, once, before any session exists.
+
+    A session's build allocates enough to set off several full collections, each of which
+    walked every object of the process; after this they walk only what sessions made
+    (about a quarter of a lecture screen's build time, measured in ``bench/bench_load.py``).
+    Nothing frozen here is garbage: a session's objects are made later and stay collectable.
+    """
+    gc.collect()
+    gc.freeze()
+
+
+def _session_destroyed(_context) -> None:
+    global _release_due
+    if _release_due:
+        return
+    _release_due = True
+    try:
+        IOLoop.current().call_later(RELEASE_DELAY_S, release_memory)
+    except RuntimeError:  # no loop running (a test destroying a document by hand)
+        release_memory()
+
+
+def _served_doc():
+    doc = pn.state.curdoc
+    if doc is None or doc.session_context is None:
+        return None
+    return doc
+
+
+def _opening() -> pn.pane.HTML:
+    return pn.pane.HTML(
+        OPENING_TEXT,
+        css_classes=["o2-opening"],
+        styles={"color": "#46545c", "font-size": "15px"},
+        margin=(12, 16),
+    )
+
+
+_PENDING = "_o2transit_build"
+"""The attribute of a served document that holds its screen's build until the page pulls it
+(on the document itself: a weak-keyed table would keep every never-connected document alive,
+since the build refers to its page's models and they to their document)."""
+
+
+def _build_when_connected(doc, name: str, build: Callable[[], object], fill) -> None:
+    def run() -> None:
+        BUILDS[name] += 1
+        # Panel puts off changes to a rendered model until the page has reported itself
+        # ready; here the page has not even got the document yet, so they are made at once
+        # and go out in the document itself.
+        connected = pn.state._connected.get(doc)
+        pn.state._connected[doc] = True
+        try:
+            with set_curdoc(doc):
+                try:
+                    with later_part():
+                        page = build()
+                    with doc.models.freeze():
+                        fill(page)
+                except Exception:  # the page gets one line, the log the details
+                    log.exception("building the %s screen failed", name)
+                    fill(None)
+        finally:
+            if connected is None:
+                pn.state._connected.pop(doc, None)
+            else:
+                pn.state._connected[doc] = connected
+
+    _install()
+    _quiet_loop()
+    doc.on_session_destroyed(_session_destroyed)
+    setattr(doc, _PENDING, run)
+
+
+_installed = False
+
+
+def _install() -> None:
+    """Build a pending screen when its page asks for the document (PULL-DOC), under the
+    document's lock, before the reply is made: the screen goes out in the reply itself, so
+    the browser renders the page once. While the screen is built the session has no
+    subscribers, so none of the building goes out as patches the page could not place."""
+    global _installed
+    if _installed:
+        return
+    from bokeh.server import session as bokeh_session
+
+    @bokeh_session._needs_document_lock
+    def _handle_pull(self, message, connection):
+        run = self.document.__dict__.pop(_PENDING, None)
+        if run is not None:
+            subscribed, self._subscribed_connections = self._subscribed_connections, set()
+            try:
+                run()
+            finally:
+                self._subscribed_connections = subscribed
+        return connection.protocol.create("PULL-DOC-REPLY", message.header["msgid"], self.document)
+
+    bokeh_session.ServerSession._handle_pull = _handle_pull
+    _quiet_closed_pages()
+    _installed = True
+
+
+_quiet_loops: weakref.WeakSet = weakref.WeakSet()
+
+
+def _quiet_loop() -> None:
+    """On this server's event loop, a write to a page that has gone is not reported.
+
+    Tornado writes each frame of a message in a task of its own; a frame whose page went
+    away while the server was busy fails with ``WebSocketClosedError``, and when nothing
+    awaits that task any more (its session was closed and its writer cancelled), asyncio
+    logs "Task exception was never retrieved" with a traceback. That failure is the page's
+    closing, not a fault: it is dropped here; every other report goes to the handler that
+    was there before.
+    """
+    from tornado.iostream import StreamClosedError
+    from tornado.websocket import WebSocketClosedError
+
+    try:
+        loop = IOLoop.current().asyncio_loop  # type: ignore[attr-defined]
+    except (RuntimeError, AttributeError):
+        return
+    if loop in _quiet_loops:
+        return
+    previous = loop.get_exception_handler()
+
+    def handler(loop, context) -> None:
+        if isinstance(context.get("exception"), (WebSocketClosedError, StreamClosedError)):
+            log.debug("a write to a page that had gone failed: %s", context.get("message"))
+            return
+        if previous is not None:
+            previous(loop, context)
+        else:
+            loop.default_exception_handler(context)
+
+    loop.set_exception_handler(handler)
+    _quiet_loops.add(loop)
+
+
+def _quiet_closed_pages() -> None:
+    """A page that went away while its update was being written costs nothing and says
+    nothing: Panel checks that the connection is open before it writes, but a connection
+    whose browser vanished (no close handshake) is found closed only by the write itself,
+    which then raised ``WebSocketClosedError`` out of Panel's write task, or left a frame's
+    failed write unread when the task was cancelled with the session (a server traceback
+    each, under load). Such a write now sends nothing and says nothing; the session is let
+    go as any closed page's is."""
+    from panel.io import document as panel_document
+    from tornado.iostream import StreamClosedError
+    from tornado.websocket import WebSocketClosedError
+
+    write = panel_document.dispatch_tornado
+    if getattr(write, "o2_quiet", False):
+        return
+
+    def seen(future) -> None:
+        # A frame's write that failed because the page had gone is looked at here, so that
+        # it is not reported later as "Task exception was never retrieved" when Panel's
+        # write task was cancelled with the session before it awaited every frame.
+        if future.cancelled():
+            return
+        exc = future.exception()
+        if exc is not None and not isinstance(exc, (WebSocketClosedError, StreamClosedError)):
+            log.warning("writing to a page failed: %s", exc)
+
+    def dispatch_tornado(conn, events=None, msg=None):
+        try:
+            futures = write(conn, events, msg)
+        except WebSocketClosedError:
+            log.debug("a page closed while its update was written; nothing sent")
+            return []
+        for future in futures:
+            future.add_done_callback(seen)
+        return futures
+
+    dispatch_tornado.o2_quiet = True  # type: ignore[attr-defined]
+    panel_document.dispatch_tornado = dispatch_tornado
+
+
+def _failed() -> pn.pane.HTML:
+    return pn.pane.HTML(
+        "This screen could not be opened; the server's log says why. Reload the page to try again.",
+        css_classes=["o2-opening-failed"],
+        styles={"color": "#a3261b", "font-size": "15px"},
+        margin=(12, 16),
+    )
+
+
+def template_page(name: str, shell: Callable[[], object], build: Callable[[], object]):
+    """A session factory for a screen whose page is a template.
+
+    ``shell()`` returns the template with its header and nothing else; ``build()`` the whole
+    screen in a template of the same kind, whose sidebar and main area are moved into the
+    shell's when the page connects.
+    """
+
+    def page():
+        doc = _served_doc()
+        if doc is None:
+            BUILDS[name] += 1
+            return build()
+        template = shell()
+        side = pn.Column(sizing_mode="stretch_width", margin=0)
+        main = pn.Column(_opening(), sizing_mode="stretch_width", margin=0)
+        template.sidebar.append(side)
+        template.main.append(main)
+
+        def fill(built) -> None:
+            if built is None:
+                main.objects = [_failed()]
+                return
+            side.objects = list(built.sidebar)
+            main.objects = list(built.main)
+
+        _build_when_connected(doc, name, build, fill)
+        return template
+
+    page.__doc__ = build.__doc__
+    return page
+
+
+def column_page(name: str, shell: Callable[..., object], build: Callable[[], object]):
+    """A session factory for a screen whose page is one column: ``shell()`` returns it
+    empty, ``build()`` the whole screen, whose parts move into the shell on connection."""
+
+    def page():
+        doc = _served_doc()
+        if doc is None:
+            BUILDS[name] += 1
+            return build()
+        column = shell(_opening())
+
+        def fill(built) -> None:
+            column.objects = [_failed()] if built is None else list(built.objects)
+
+        _build_when_connected(doc, name, build, fill)
+        return column
+
+    page.__doc__ = build.__doc__
+    return page
