@@ -198,12 +198,14 @@ def serve(port: int = 5006, address: str = "127.0.0.1", show: bool = True, **kwa
         The port is taken or the address is not this computer's; nothing was started.
     """
     check_port(address, port)
-    url = f"http://{address}:{port}/"
+    wildcard = address in ("0.0.0.0", "::", "")
+    url = f"http://{'127.0.0.1' if wildcard else address}:{port}/"
     print(f"o2transit dashboard at {url}", flush=True)
     if not _is_loopback(address):
+        others = f"http://{socket.gethostname()}:{port}/" if wildcard else url
         print(
             f"WARNING: listening on {address}: the page is reachable from the network, "
-            "not only from this computer.",
+            f"not only from this computer (other machines open {others}).",
             flush=True,
         )
     sessions.freeze_startup_objects()  # before any session: full collections skip them

@@ -105,7 +105,11 @@ def test_non_loopback_address_warns(capsys, monkeypatch):
     monkeypatch.setattr(pn, "serve", lambda *a, **k: k)
     port = _free_port()
     kwargs = serve(port=port, address="0.0.0.0", show=False)
-    assert "reachable from the network" in capsys.readouterr().out
+    out = capsys.readouterr().out
+    assert "reachable from the network" in out
+    # an address a browser can open: this computer's, and this machine's name for the others
+    assert f"dashboard at http://127.0.0.1:{port}/" in out and "0.0.0.0:" not in out.split("\n")[0]
+    assert f"http://{socket.gethostname()}:{port}/" in out
     # other machines open the page under names this one cannot list: every origin is allowed
     assert kwargs["websocket_origin"] == ["*"]
     loopback = serve(port=port, address="127.0.0.1", show=False)
