@@ -17,7 +17,9 @@ def oxygen_delivery(cardiac_output_l_min, cao2_ml_dl):
     >>> float(oxygen_delivery(5.0, 20.0))
     1000.0
     """
-    return 10.0 * np.asarray(cardiac_output_l_min, dtype=float) * np.asarray(cao2_ml_dl, dtype=float)
+    return (
+        10.0 * np.asarray(cardiac_output_l_min, dtype=float) * np.asarray(cao2_ml_dl, dtype=float)
+    )
 
 
 def venous_content_fick(cao2_ml_dl, vo2_ml_min, cardiac_output_l_min):
@@ -34,7 +36,8 @@ def venous_content_fick(cao2_ml_dl, vo2_ml_min, cardiac_output_l_min):
     14.98
     """
     return np.asarray(cao2_ml_dl, dtype=float) - np.asarray(vo2_ml_min, dtype=float) / (
-        10.0 * np.asarray(cardiac_output_l_min, dtype=float))
+        10.0 * np.asarray(cardiac_output_l_min, dtype=float)
+    )
 
 
 def extraction_ratio(cao2_ml_dl, cvo2_ml_dl):
@@ -60,7 +63,8 @@ def vo2_at_temperature(vo2_37_ml_min, temperature_c):
     302.5
     """
     return np.asarray(vo2_37_ml_min, dtype=float) * VO2_Q10_PER_C ** (
-        np.asarray(temperature_c, dtype=float) - 37.0)
+        np.asarray(temperature_c, dtype=float) - 37.0
+    )
 
 
 def body_surface_area(height_cm, weight_kg):

@@ -200,5 +200,7 @@ def test_a_value_of_the_wrong_type_names_the_allowed_range_and_unit(tmp_path):
 
 
 def test_a_top_level_key_is_sent_to_its_table(tmp_path):
-    with pytest.raises(ScenarioError, match=r"hb_g_dl is not a top-level key; put it in the \[blood\]"):
+    with pytest.raises(
+        ScenarioError, match=r"hb_g_dl is not a top-level key; put it in the \[blood\]"
+    ):
         load_scenario(_write(tmp_path, "hb_g_dl = 10\n"))
