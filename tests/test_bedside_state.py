@@ -7,6 +7,7 @@ them: units, refusals, wording, what becomes the live case and the baseline, and
 import datetime as dt
 
 import pytest
+from o2transit.dashboard.bedside.display import signed
 from o2transit.dashboard.bedside.state import EXAMPLE_GAS, MEASURED_KEYS, BedsideState
 from o2transit.dashboard.bedside.summary import BOKEH_JS, summary_html
 from o2transit.dashboard.case.state import CaseState
@@ -207,6 +208,12 @@ def test_what_ifs_ranked_resorted_and_applied_with_fitted_baseline(st):
     st.rank_by = "pao2"
     assert st.lever_table[0].key == "fio2_1.00"
     assert st.lever_rows()[0][1] == "FiO2 0.60 → 1.00"
+    # issue 16: the ranked table gives the value after each what-if, with its change
+    top = st.lever_table[0]
+    head, row = st.lever_head(), st.lever_rows()[0]
+    assert head[2] == "DO2 after (Δ), mL/min"
+    assert row[2] == f"{top.do2_ml_min:.0f} ({signed(top.delta_do2_ml_min, 0)})"
+    assert row[2].split(" ")[0] != "" and "(" in row[3]
     assert st.apply_lever("fio2_1.00"), st.lever_message
     assert st.case.fio2 == 1.0
     base = st.case.baseline

@@ -169,11 +169,11 @@ class LeverPlans(param.Parameterized):
         return [
             "#",
             "What-if",
-            "ΔDO2 (mL/min)",
-            f"ΔPaO2 ({p})",
-            "ΔSvO2 (%)",
-            f"ΔPvO2 ({p})",
-            "ΔO2ER (% points)",
+            "DO2 after (Δ), mL/min",
+            f"PaO2 after (Δ), {p}",
+            "SvO2 after (Δ), %",
+            f"PvO2 after (Δ), {p}",
+            "O2ER after (Δ), %",
             "Note",
         ]
 
@@ -191,11 +191,11 @@ class LeverPlans(param.Parameterized):
                 [
                     str(i),
                     lever_label(self.case, o.label),
-                    signed(o.delta_do2_ml_min, 0),
-                    signed(p(o.delta_pao2_mmhg), d),
-                    signed(100.0 * o.delta_svo2, 1),
-                    signed(p(o.delta_pvo2_mmhg), d),
-                    signed(100.0 * o.delta_extraction_ratio, 1),
+                    _after(o.do2_ml_min, o.delta_do2_ml_min, 0),
+                    _after(p(o.pao2_mmhg), p(o.delta_pao2_mmhg), d),
+                    _after(100.0 * o.svo2, 100.0 * o.delta_svo2, 1),
+                    _after(p(o.pvo2_mmhg), p(o.delta_pvo2_mmhg), d),
+                    _after(100.0 * o.extraction_ratio, 100.0 * o.delta_extraction_ratio, 1),
                     in_display_units(self.case, o.note),
                 ]
             )
@@ -215,3 +215,8 @@ class LeverPlans(param.Parameterized):
         why_not = self.fitting.apply_what_if(outcome.inputs, label, case_label)
         self.lever_message = why_not or (f"Live case: {label}. Baseline: the fitted case.")
         return not why_not
+
+
+def _after(value: float, delta: float, digits: int) -> str:
+    """A what-if's value after the change and its change, as shown: "1012 (+140)"."""
+    return f"{value:.{digits}f} ({signed(delta, digits)})"
