@@ -15,21 +15,9 @@ from o2transit.dashboard.bedside.summary import summary_html
 from o2transit.dashboard.case.state import CaseState
 from o2transit.model import kpa_to_mmhg
 from o2transit.model.plans import Change, Plan, solve_plan
+from septic_case import SEPTIC_GAS
 
-SEPTIC = {
-    "pao2_mmhg": 82.0,
-    "paco2_mmhg": 38.0,
-    "ph": 7.25,
-    "sao2": 0.93,
-    "hb_g_dl": 8.5,
-    "temperature_c": 39.0,
-    "fio2": 0.6,
-    "pvo2_mmhg": 36.0,
-    "svo2": 0.60,
-    "pvco2_mmhg": 45.0,
-    "cardiac_output_l_min": 7.0,
-    "altitude_m": 0.0,
-}
+SEPTIC = {**SEPTIC_GAS, "pvco2_mmhg": 45.0, "altitude_m": 0.0}
 
 
 @pytest.fixture

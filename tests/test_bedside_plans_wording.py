@@ -18,20 +18,9 @@ from o2transit.dashboard.bedside.wording import (
 )
 from o2transit.dashboard.case.state import CaseState
 from o2transit.model import bedside
+from septic_case import SEPTIC_GAS
 
-SEPTIC = {
-    "pao2_mmhg": 82.0,
-    "paco2_mmhg": 33.0,
-    "ph": 7.25,
-    "sao2": 0.93,
-    "hb_g_dl": 8.5,
-    "temperature_c": 39.0,
-    "fio2": 0.6,
-    "pvo2_mmhg": 36.0,
-    "svo2": 0.60,
-    "cardiac_output_l_min": 7.0,
-    "lactate_mmol_l": 4.1,
-}
+SEPTIC = {**SEPTIC_GAS, "paco2_mmhg": 33.0, "lactate_mmol_l": 4.1}
 
 
 @pytest.fixture

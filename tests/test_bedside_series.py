@@ -9,21 +9,10 @@ from o2transit.dashboard.bedside.shift_summary import series_section
 from o2transit.dashboard.bedside.state import BedsideState
 from o2transit.dashboard.case.state import CaseState
 from o2transit.model import fit_case, mmhg_to_kpa
+from septic_case import SEPTIC_GAS
 
 # The septic case of issue 16 (invented values), then two later gases of the shift.
-FIRST = {
-    "pao2_mmhg": 82.0,
-    "paco2_mmhg": 38.0,
-    "ph": 7.25,
-    "sao2": 0.93,
-    "hb_g_dl": 8.5,
-    "temperature_c": 39.0,
-    "fio2": 0.6,
-    "pvo2_mmhg": 36.0,
-    "svo2": 0.60,
-    "cardiac_output_l_min": 7.0,
-    "altitude_m": 0.0,
-}
+FIRST = {**SEPTIC_GAS, "altitude_m": 0.0}
 SECOND = {**FIRST, "pao2_mmhg": 74.0, "sao2": 0.92, "ph": 7.28, "temperature_c": 38.6}
 PASTED = (
     "time,pao2_kpa,paco2_kpa,ph,sao2_percent,hb_g_l,fio2,temperature_c,pvo2_kpa,"

@@ -15,20 +15,10 @@ from o2transit.model.series import (
     read_gas_csv,
     trend,
 )
+from septic_case import SEPTIC_GAS
 
 # An invented septic patient of our own over a shift (FiO2 0.6, Hb 8.5, 39 degC, CO 7).
-FIRST = {
-    "pao2_mmhg": 82.0,
-    "paco2_mmhg": 38.0,
-    "ph": 7.25,
-    "sao2": 0.93,
-    "hb_g_dl": 8.5,
-    "fio2": 0.6,
-    "temperature_c": 39.0,
-    "pvo2_mmhg": 36.0,
-    "svo2": 0.60,
-    "cardiac_output_l_min": 7.0,
-}
+FIRST = SEPTIC_GAS
 SECOND = {**FIRST, "pao2_mmhg": 74.0, "sao2": 0.92, "ph": 7.28, "temperature_c": 38.6}
 CSV_HEAD = "time,pao2_kpa,paco2_kpa,ph,sao2,hb_g_dl,fio2,temperature_c\n"
 THIRD = {**FIRST, "pao2_mmhg": 86.0, "sao2": 0.95, "fio2": 0.5, "temperature_c": 38.1}

@@ -17,20 +17,10 @@ from o2transit.model.spread import (
     tolerance_of,
     tolerance_ranges,
 )
+from septic_case import SEPTIC_GAS
 
 # An invented septic patient of our own: FiO2 0.6, Hb 8.5, 39 degC, pH 7.25, CO 7 L/min.
-GAS = {
-    "pao2_mmhg": 82.0,
-    "paco2_mmhg": 38.0,
-    "ph": 7.25,
-    "sao2": 0.93,
-    "hb_g_dl": 8.5,
-    "fio2": 0.6,
-    "temperature_c": 39.0,
-    "pvo2_mmhg": 36.0,
-    "svo2": 0.60,
-    "cardiac_output_l_min": 7.0,
-}
+GAS = SEPTIC_GAS
 
 
 def test_the_band_holds_every_curve_and_is_narrow_at_the_standard_p50():

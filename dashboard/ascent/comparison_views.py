@@ -229,37 +229,39 @@ class ExportButtons(pn.viewable.Viewer):
     def __init__(self, ws: AscentWorkspace, **params):
         super().__init__(**params)
         self._ws = ws
-        self._csv = pn.widgets.FileDownload(
-            callback=lambda: io.StringIO(comparison_csv(ws)),
-            filename="ascent-comparison.csv",
-            label="Full-precision CSV",
-            color="primary",
-            css_classes=["o2-asc-export-csv"],
-            stylesheets=[DOWNLOAD_CSS],
-            width=220,
+        exports = (  # (writer, file name, label, class suffix, width), in screen order
+            (
+                comparison_table_csv,
+                "ascent-comparison-table.csv",
+                "Table to read (CSV, % as shown)",
+                "table",
+                250,
+            ),
+            (
+                comparison_html,
+                "ascent-comparison.html",
+                "Comparison as an offline HTML page",
+                "html",
+                300,
+            ),
+            (comparison_csv, "ascent-comparison.csv", "Full-precision CSV", "csv", 220),
         )
-        self._table = pn.widgets.FileDownload(
-            callback=lambda: io.StringIO(comparison_table_csv(ws)),
-            filename="ascent-comparison-table.csv",
-            label="Table to read (CSV, % as shown)",
-            color="primary",
-            css_classes=["o2-asc-export-table"],
-            stylesheets=[DOWNLOAD_CSS],
-            width=250,
-        )
-        self._html = pn.widgets.FileDownload(
-            callback=lambda: io.StringIO(comparison_html(ws)),
-            filename="ascent-comparison.html",
-            label="Comparison as an offline HTML page",
-            color="primary",
-            css_classes=["o2-asc-export-html"],
-            stylesheets=[DOWNLOAD_CSS],
-            width=300,
-        )
+        self._buttons = [
+            pn.widgets.FileDownload(
+                callback=lambda write=write: io.StringIO(write(ws)),
+                filename=filename,
+                label=label,
+                color="primary",
+                css_classes=[f"o2-asc-export-{suffix}"],
+                stylesheets=[DOWNLOAD_CSS],
+                width=width,
+            )
+            for write, filename, label, suffix, width in exports
+        ]
         ws.param.watch(self._update, ["compared"])
         self._update()
         self._layout = pn.Column(
-            pn.Row(self._table, self._html, self._csv),
+            pn.Row(*self._buttons),
             pn.pane.HTML(
                 "The table to read has SaO2 and predicted SpO2 in %, pressures in the chosen "
                 "unit and values rounded as on screen; the CSV keeps full precision under the "
@@ -271,8 +273,8 @@ class ExportButtons(pn.viewable.Viewer):
         )
 
     def _update(self, *_events) -> None:
-        off = not self._ws.compared
-        self._csv.disabled = self._html.disabled = self._table.disabled = off
+        for button in self._buttons:
+            button.disabled = not self._ws.compared
 
     def __panel__(self):
         return self._layout

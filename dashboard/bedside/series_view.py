@@ -156,28 +156,21 @@ class SeriesPanel(BedsidePanel):
             line_alpha=0.6,
             legend_label="latest gas, fitted curve",
         )
-        curve.line("x", "y", source=self._art, color=ARTERIAL, line_width=1.5, line_dash="dashed")
-        curve.scatter(
-            "x",
-            "y",
-            source=self._art,
-            marker="circle",
-            size=10,
-            color=ARTERIAL,
-            line_color="white",
-            legend_label="arterial, in time order",
-        )
-        curve.line("x", "y", source=self._ven, color=VENOUS, line_width=1.5, line_dash="dashed")
-        curve.scatter(
-            "x",
-            "y",
-            source=self._ven,
-            marker="square",
-            size=10,
-            color=VENOUS,
-            line_color="white",
-            legend_label="venous, in time order",
-        )
+        for src, color, marker, name in (
+            (self._art, ARTERIAL, "circle", "arterial"),
+            (self._ven, VENOUS, "square", "venous"),
+        ):
+            curve.line("x", "y", source=src, color=color, line_width=1.5, line_dash="dashed")
+            curve.scatter(
+                "x",
+                "y",
+                source=src,
+                marker=marker,
+                size=10,
+                color=color,
+                line_color="white",
+                legend_label=f"{name}, in time order",
+            )
         for src in (self._art, self._ven):
             # The first gas is named left of its point, the last right of it.
             y_offset = 6 if src is self._art else -5  # arterial names above, venous beside
