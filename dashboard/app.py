@@ -40,7 +40,7 @@ create_app = sessions.template_page("case", page_shell, build_case_page)
 
 
 def _ascent_shell() -> pn.template.BootstrapTemplate:
-    from .ascent.app import page_shell as ascent_shell
+    from .ascent.shell import page_shell as ascent_shell
 
     return ascent_shell()
 
@@ -65,8 +65,12 @@ def _build_lecture() -> pn.Column:
     return create_lecture_app()
 
 
-create_ascent_page = sessions.template_page("ascent", _ascent_shell, _build_ascent)
-create_lecture_page = sessions.column_page("lecture", _lecture_shell, _build_lecture)
+create_ascent_page = sessions.template_page(
+    "ascent", _ascent_shell, _build_ascent, modules=(f"{__package__}.ascent.app",)
+)
+create_lecture_page = sessions.column_page(
+    "lecture", _lecture_shell, _build_lecture, modules=(f"{__package__}.lecture.app",)
+)
 
 
 SCREENS: dict[str, object] = {
@@ -128,7 +132,7 @@ def server_options() -> dict:
     none of its own.
     """
     options = {**responsive.SERVER_OPTIONS, **sessions.SESSION_OPTIONS}
-    transforms: list = [SecurityHeaders]
+    transforms: list = [SecurityHeaders, sessions.RequestActivity]
     if options.get("compress_response"):
         transforms.append(GZipContentEncoding)
     return {**options, "transforms": transforms}

@@ -8,7 +8,6 @@ One module per stage, in the order oxygen travels: ``air`` -> ``lungs`` ->
 from .acid_base import base_excess, bicarbonate, blood_co2_content, ph_from_base_excess
 from .air import PRESSURE_MODELS, barometric_pressure, inspired_po2, water_vapour_pressure
 from .ascent import AscentDay, AscentError, AscentProfile, load_ascent, run_ascent
-from .batch import BatchError, run_batch
 from .bedside import MEASURED_LIMITS, check_measured, derive
 from .casebook import (
     IDENTIFIER_WARNING,
@@ -26,7 +25,6 @@ from .circulation import (
     venous_content_fick,
     vo2_at_temperature,
 )
-from .cohort import derive_frame
 from .content import HUFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG, oxygen_content
 from .dissociation import (
     CURVE_ALIASES,
@@ -131,3 +129,21 @@ __all__ = [
     "vo2_at_temperature",
     "water_vapour_pressure",
 ]
+
+_LAZY = {"BatchError": ".batch", "run_batch": ".batch", "derive_frame": ".cohort"}
+"""Names whose modules load Arrow (a tenth of a second): imported on first use, so the
+dashboard, which never uses them, starts without them."""
+
+
+def __getattr__(name: str):
+    if name in _LAZY:
+        import importlib
+
+        value = getattr(importlib.import_module(_LAZY[name], __name__), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_LAZY))

@@ -52,6 +52,7 @@ def served_screens(routes: dict, probe: str, *, startup_s: float = 90, request_s
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
     from o2transit.dashboard.app import SecurityHeaders
+    from o2transit.dashboard.sessions import RequestActivity
 
     server = pn.serve(
         routes,
@@ -60,7 +61,8 @@ def served_screens(routes: dict, probe: str, *, startup_s: float = 90, request_s
         show=False,
         threaded=True,
         websocket_origin=[f"127.0.0.1:{port}", f"localhost:{port}"],
-        transforms=[SecurityHeaders],  # every browser test runs under the served page's CSP
+        # every browser test runs under the served page's CSP, and builds screens ahead
+        transforms=[SecurityHeaders, RequestActivity],
     )
     base = f"http://127.0.0.1:{port}"
     deadline = time.monotonic() + startup_s

@@ -37,16 +37,11 @@ class Records(logging.Handler):
         self.records.append(record)
 
 
-@pytest.fixture(scope="module")
-def base():
+def _server(lifetimes: dict):
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
-    options = {
-        **server_options(),
-        "check_unused_sessions_milliseconds": 100,
-        "unused_session_lifetime_milliseconds": LIFETIME_MS,
-    }
+    options = {**server_options(), **lifetimes}
     server = pn.serve(
         dict(SCREENS),
         address="127.0.0.1",
@@ -71,9 +66,30 @@ def base():
     server.join(timeout=5)
 
 
-def get_page(url: str) -> bytes:
-    with urllib.request.urlopen(url, timeout=60) as resp:
+@pytest.fixture(scope="module")
+def base():
+    """A server that lets an unconnected session go after LIFETIME_MS."""
+    lifetimes = {
+        "check_unused_sessions_milliseconds": 100,
+        "unused_session_lifetime_milliseconds": LIFETIME_MS,
+    }
+    yield from _server(lifetimes)
+
+
+@pytest.fixture(scope="module")
+def served():
+    """A server with the dashboard's own session lifetimes (a page may load for seconds)."""
+    yield from _server({})
+
+
+def get_page(url: str, headers: dict | None = None) -> bytes:
+    request = urllib.request.Request(url, headers=headers or {})
+    with urllib.request.urlopen(request, timeout=60) as resp:
         return resp.read()
+
+
+NAVIGATION = {"Sec-Fetch-Dest": "document", "Sec-Fetch-Mode": "navigate"}
+"""What a browser sends with the GET of a page it opens (Fetch Metadata)."""
 
 
 def frames(msgtype: str, content: dict) -> list[str]:
@@ -107,16 +123,18 @@ def find(value, css: str):
     return None
 
 
-async def connect(url: str):
-    """A page's live connection: returns the websocket and the pulled document's JSON."""
-    body = get_page(url)
+async def connect(url: str, headers: dict | None = None, wait_s: float = 0.0):
+    """A page's live connection: returns the websocket and the pulled document's JSON
+    (``wait_s`` between the GET and the connection, as a browser loads its scripts)."""
+    body = get_page(url, headers)
+    await asyncio.sleep(wait_s)
     token = re.search(rb'"token":\s*"([^"]+)"', body).group(1).decode()
     ws = await websocket_connect("ws" + url[4:].rstrip("/") + "/ws", subprotocols=["bokeh", token])
     await receive(ws)  # ACK
     for f in frames("PULL-DOC-REQ", {}):
         await ws.write_message(f)
     header, content = await receive(ws)
-    assert header["msgtype"] == "PULL-DOC-REPLY"
+    assert header["msgtype"] == "PULL-DOC-REPLY", json.dumps(content)[:1500]
     ready = {"kind": "MessageSent", "msg_type": "bokeh_event"}
     ready["msg_data"] = {"type": "event", "name": "document_ready", "values": {}}
     for f in frames("PATCH-DOC", {"events": [ready]}):
@@ -159,6 +177,43 @@ def test_the_screen_is_built_once_when_the_page_connects(base):
     asyncio.run(run())
 
 
+def test_a_browser_page_is_built_ahead_while_it_loads_its_scripts(served):
+    """A browser's GET (Fetch Metadata says it opens a document) starts the build while the
+    page loads; it is built once, and the pulled document holds the whole screen."""
+    before = sessions.BUILDS["lecture"]
+    get_page(served + "/lecture", NAVIGATION)
+    deadline = time.monotonic() + 30
+    while sessions.BUILDS["lecture"] == before and time.monotonic() < deadline:
+        time.sleep(0.05)
+    assert sessions.BUILDS["lecture"] == before + 1  # without any connection
+
+    async def run():
+        start = sessions.BUILDS["case"]
+        ws, doc = await connect(served + "/", NAVIGATION, wait_s=1.0)  # loading its scripts
+        try:
+            assert sessions.BUILDS["case"] == start + 1  # ahead, and not again on connection
+            assert find(doc, "o2-numbers") is not None
+            assert sessions.OPENING_TEXT not in json.dumps(doc)
+        finally:
+            ws.close()
+
+    asyncio.run(run())
+
+
+def test_a_page_connecting_before_its_build_ahead_is_built_once(served):
+    async def run():
+        start = sessions.BUILDS["case"]
+        ws, doc = await connect(served + "/", NAVIGATION)  # at once: the build may not have run
+        try:
+            await asyncio.sleep(0.5)
+            assert sessions.BUILDS["case"] == start + 1
+            assert find(doc, "o2-numbers") is not None
+        finally:
+            ws.close()
+
+    asyncio.run(run())
+
+
 def test_without_a_server_a_factory_builds_the_whole_screen():
     page = SCREENS["/lecture"]()
     models = page.get_root(Document()).references()
@@ -167,10 +222,12 @@ def test_without_a_server_a_factory_builds_the_whole_screen():
 
 
 def test_a_closed_session_frees_its_document(base):
+    known = {id(d) for d in served_docs("/lecture")}  # other tests' pages, other servers
+
     async def run():
         ws, _doc = await connect(base + "/lecture")
         await asyncio.sleep(0.2)
-        docs = [weakref.ref(d) for d in served_docs("/lecture")]
+        docs = [weakref.ref(d) for d in served_docs("/lecture") if id(d) not in known]
         assert docs
         ws.close()
         deadline = time.monotonic() + 20

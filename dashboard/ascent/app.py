@@ -12,8 +12,7 @@ from __future__ import annotations
 import panel as pn
 
 from ..look import ACCENT, caution_pane
-from ..nav import screen_links
-from ..responsive import TEMPLATE_OPTIONS, Quiet, quicken
+from ..responsive import Quiet, quicken
 from ..urlstate import read_query, show_url_messages, url_message_pane, write_query
 from .comparison_views import (
     CaseLink,
@@ -25,24 +24,10 @@ from .comparison_views import (
     Thresholds,
 )
 from .editor_view import ScheduleEditor
-from .export import PRINT_CSS
 from .readings_view import ReadingsPanel
+from .shell import page_shell
 from .state import PLAN_KEY, QUERY_KEY, UNIT_KEY, AscentWorkspace
 from .views import ScheduleLibrary, StatusLine, UnitToggle
-
-TITLE = "o2transit · ascent planner"
-
-PAGE_PRINT_CSS = (
-    PRINT_CSS
-    + """
-@media print {
-  #header, #sidebar, .pn-busy-container, .o2-nav { display: none !important; }
-  #main, #content, .main { margin: 0 !important; padding: 0 !important; width: 100% !important;
-    max-width: none !important; }
-}
-"""
-)
-"""The live planner on paper: the comparison without the sidebar, header and controls."""
 
 
 def _heading(text: str) -> pn.pane.HTML:
@@ -50,23 +35,6 @@ def _heading(text: str) -> pn.pane.HTML:
         f"<h3 style='margin:10px 0 2px 0;color:{ACCENT};font-size:17px'>{text}</h3>",
         sizing_mode="stretch_width",
     )
-
-
-def page_shell() -> pn.template.BootstrapTemplate:
-    """The page without its content: the template (with its print style and the table
-    widget's script) and its header links. A plain request gets only this; the content
-    follows when the page connects (``dashboard.app``)."""
-    pn.extension("tabulator")
-    template = pn.template.BootstrapTemplate(
-        title=TITLE,
-        header_background=ACCENT,
-        sidebar_width=470,
-        collapsed_sidebar=False,
-        raw_css=[PAGE_PRINT_CSS],
-        **TEMPLATE_OPTIONS,
-    )
-    template.header.append(screen_links("/ascent"))
-    return template
 
 
 def create_ascent_app(ws: AscentWorkspace | None = None) -> pn.template.BootstrapTemplate:

@@ -32,6 +32,7 @@ from .figures import (
     legend_html,
     summary_html,
 )
+from .shell import PRINT_CSS
 from .state import AscentWorkspace
 
 
@@ -174,23 +175,6 @@ def comparison_table_csv(ws: AscentWorkspace, when: dt.datetime | None = None) -
     )
     w.writerow(["Note", *[""] * (len(cols) - 1), note])
     return out.getvalue()
-
-
-PRINT_CSS = """
-@media print {
-  body { margin: 0; max-width: none; padding: 0; font-size: 11pt; }
-  h1 { font-size: 18pt; }
-  h2 { break-after: avoid; page-break-after: avoid; }
-  table { break-inside: auto; }
-  tr, .bk-root, .bk-Figure, figure { break-inside: avoid; page-break-inside: avoid; }
-  .caution { background: none; border: 1px solid #b7791f; }
-  .noprint { display: none !important; }
-  a { color: inherit; text-decoration: none; }
-}
-@page { margin: 14mm; }
-"""
-"""Print layout of the exported page (and, through :data:`dashboard.ascent.app`, the live
-planner): no margins to waste, headings kept with what follows, rows and figures whole."""
 
 
 PAGE_CSS = f"""
