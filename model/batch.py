@@ -299,18 +299,28 @@ def _parse(arr: pa.Array, decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
         # a boolean, a date, a list...: not a measurement, whatever its text
         given = pc.is_valid(arr).to_numpy(zero_copy_only=False)
         return np.full(len(arr), np.nan), given
-    s = pc.utf8_trim_whitespace(arr)
+    s = arr if _no_whitespace(arr) else pc.utf8_trim_whitespace(arr)
     if decimal_comma:
         s = pc.replace_substring(s, ",", ".")
-    s = pc.if_else(pc.equal(s, ""), pa.scalar(None, pa.string()), s)
+    if _any_blank(s):
+        s = pc.if_else(pc.equal(s, ""), pa.scalar(None, pa.string()), s)
+    # plain decimals need no regex; the few other cells (signs, exponents, words) do
+    number = _plain_decimals(s)
+    odd = np.flatnonzero(~number)
+    others = s.take(pa.array(odd)) if len(odd) else None
     try:
+        if others is not None:
+            pc.cast(others, pa.float64())  # fails as the whole column's cast would, cheaply
         values = pc.cast(s, pa.float64())
         return values.to_numpy(zero_copy_only=False), np.zeros(len(arr), dtype=bool)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
         pass
-    number = pc.fill_null(pc.match_substring_regex(s, _NUMBER), True)
-    bad = ~number.to_numpy(zero_copy_only=False)
-    kept = pc.if_else(number, s, pa.scalar(None, pa.string()))
+    if others is not None:
+        number[odd] = pc.fill_null(pc.match_substring_regex(others, _NUMBER), True).to_numpy(
+            zero_copy_only=False
+        )
+    bad = ~number
+    kept = pc.if_else(pa.array(number), s, pa.scalar(None, pa.string())) if bad.any() else s
     try:
         values = pc.cast(kept, pa.float64()).to_numpy(zero_copy_only=False)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):  # pragma: no cover - odd spellings
@@ -323,6 +333,47 @@ def _parse(arr: pa.Array, decimal_comma: bool) -> tuple[np.ndarray, np.ndarray]:
                 bad[i] = True
         values = np.array(out, dtype=float)
     return values, bad
+
+
+def _text_buffers(s: pa.Array) -> tuple[np.ndarray, np.ndarray]:
+    """The cells' offsets (from 0) and their characters as bytes, without copying."""
+    dtype: Any = np.int64 if pa.types.is_large_string(s.type) else np.int32
+    offsets = np.frombuffer(s.buffers()[1], dtype=dtype)[s.offset : s.offset + len(s) + 1]
+    data = s.buffers()[2]
+    if data is None or not len(s):
+        return np.zeros(len(s) + 1, dtype=np.int64), np.zeros(0, dtype=np.uint8)
+    start = int(offsets[0])
+    chars = np.frombuffer(data, dtype=np.uint8)[start : int(offsets[-1])]
+    return offsets.astype(np.int64) - start, chars
+
+
+def _no_whitespace(s: pa.Array) -> bool:
+    """True when no cell can start or end with white space (printable ASCII only)."""
+    _, chars = _text_buffers(s)
+    return not len(chars) or (int(chars.min()) > 0x20 and int(chars.max()) < 0x7F)
+
+
+def _any_blank(s: pa.Array) -> bool:
+    offsets, _ = _text_buffers(s)
+    return bool(np.any(offsets[1:] == offsets[:-1]))
+
+
+def _plain_decimals(s: pa.Array) -> np.ndarray:
+    """True where a cell is null or only digits with at most one point and at least one
+    digit (each such cell matches ``_NUMBER``)."""
+    offsets, chars = _text_buffers(s)
+    # one running sum: characters other than digit or point above bit 32, points below
+    point = chars == 46
+    code = (((chars < 48) | (chars > 57)) & ~point).astype(np.int64) << 32
+    code |= point
+    total = np.zeros(len(chars) + 1, dtype=np.int64)
+    np.cumsum(code, out=total[1:])
+    per_cell = np.diff(total[offsets])
+    points = per_cell & 0xFFFFFFFF
+    plain = (per_cell >> 32 == 0) & (points <= 1) & (np.diff(offsets) > points)
+    if s.null_count:
+        plain |= s.is_null().to_numpy(zero_copy_only=False)
+    return plain
 
 
 def _cell_text(arr: pa.Array, i: int) -> str:
@@ -480,33 +531,37 @@ def fixed_text(values, decimals: int, decimal_sep: str = ".") -> pa.Array:
     w_int = max(len(str(int(x.max()))) - decimals, 1)
     has_neg = bool(neg.any())
     width = has_neg + w_int + (1 + decimals if decimals else 0)
-    chars = np.empty((width, n), dtype=np.uint8)
-    keep = np.ones((width, n), dtype=bool)
+    # one row of `width` characters per cell, right-aligned after spaces, spaces trimmed
+    chars = np.empty((n, width), dtype=np.uint8)
     col = width - 1
     for _ in range(decimals):
-        x, r = np.divmod(x, 10)
-        chars[col] = r + 48
+        q = x // 10
+        chars[:, col] = x - q * 10 + 48
+        x = q
         col -= 1
     if decimals:
-        chars[col] = ord(decimal_sep)
+        chars[:, col] = ord(decimal_sep)
         col -= 1
-    x, r = np.divmod(x, 10)
-    chars[col] = r + 48
+    q = x // 10
+    chars[:, col] = x - q * 10 + 48
+    x = q
     col -= 1
+    blanks = np.zeros(n, dtype=np.int64)  # leading zeros of the integer part
     for _ in range(w_int - 1):
-        keep[col] = x > 0
-        x, r = np.divmod(x, 10)
-        chars[col] = r + 48
+        lead = x == 0
+        q = x // 10
+        chars[:, col] = x - q * 10 + 48 - 16 * lead  # a leading zero (48) as a space (32)
+        blanks += lead
+        x = q
         col -= 1
     if has_neg:
-        chars[0] = ord("-")
-        keep[0] = neg
-    keep[:, ~finite] = False
-    kept = keep.T
-    data = chars.T[kept]
-    offsets = np.zeros(n + 1, dtype=np.int32)
-    np.cumsum(kept.sum(axis=1), out=offsets[1:])
-    return pa.StringArray.from_buffers(n, pa.py_buffer(offsets), pa.py_buffer(data))
+        chars[:, 0] = 32
+        rows = np.flatnonzero(neg)
+        chars[rows, blanks[rows]] = ord("-")  # just before the first digit
+    chars[~finite] = 32
+    offsets = np.arange(0, (n + 1) * width, width, dtype=np.int32)
+    padded = pa.StringArray.from_buffers(n, pa.py_buffer(offsets), pa.py_buffer(chars))
+    return pc.utf8_ltrim(padded, " ")
 
 
 def _quoted(arr: pa.Array, delimiter: str) -> pa.Array:
@@ -560,23 +615,47 @@ def _escaped(arr: pa.Array, delimiter: str, plain: bool = False) -> pa.Array | N
         arr = _as_text(arr)
     if plain:
         return arr
-    special = "\\t" if delimiter == "\t" else "\\" + delimiter
-    if pc.any(pc.match_substring_regex(arr, "[\r\n\x1d\x1e]")).as_py():
+    if _cells_holding(arr, "\r\n" + _DELIM_MARK + _QUOTE_MARK).any():
         return None
-    needs = pc.match_substring_regex(arr, '["' + special + "]")
-    if not pc.any(needs).as_py():
+    needs = _cells_holding(arr, '"' + delimiter)
+    if not needs.any():
         return arr
     inner = pc.replace_substring(
         pc.replace_substring(arr, '"', _QUOTE_MARK * 2), delimiter, _DELIM_MARK
     )
     quoted = pc.binary_join_element_wise(_QUOTE_MARK, inner, _QUOTE_MARK, "")
-    return pc.if_else(needs, quoted, arr)
+    return pc.if_else(pa.array(needs), quoted, arr)
+
+
+def _cells_holding(arr: pa.Array, chars: str) -> np.ndarray:
+    """True where a text cell (not null) holds any of the ASCII characters ``chars``."""
+    offsets, data = _text_buffers(arr)
+    found = np.zeros(len(arr), dtype=bool)
+    text = data.tobytes()
+    present = [c for c in chars.encode("ascii") if bytes((c,)) in text]
+    if present:
+        hit = data == present[0]
+        for c in present[1:]:
+            hit |= data == c
+        where = np.flatnonzero(hit)
+        found[np.searchsorted(offsets, where, side="right") - 1] = True
+        if arr.null_count:
+            found &= arr.is_valid().to_numpy(zero_copy_only=False)
+    return found
 
 
 def _csv_lines(
-    chunk: _Chunk, derived, errors, outputs, delimiter, decimal_comma, end: str | None
-) -> bytes:
-    """The output rows of one chunk as CSV bytes: the input cells, the outputs, the end cell."""
+    chunk: _Chunk,
+    derived,
+    errors,
+    outputs,
+    delimiter,
+    decimal_comma,
+    end: str | None,
+    into: memoryview | None = None,
+) -> bytes | bytearray | int:
+    """The output rows of one chunk as CSV bytes: the input cells, the outputs, the end cell.
+    With ``into``, the rows are written there if they fit, and their length is returned."""
     n = len(errors)
     sep = "," if decimal_comma else "."
     columns: list[pa.Array] = list(chunk.columns)
@@ -599,25 +678,44 @@ def _csv_lines(
     plain.append(True)
     escaped = [_escaped(c, delimiter, p) for c, p in zip(columns, plain)]
     if any(c is None for c in escaped):
+        # the text outputs as they are (not with the stand-ins for Arrow's writer)
+        width = len(chunk.columns)
+        for k, key in enumerate(outputs):
+            if key != "error" and derived[key].dtype == object:
+                columns[width + k] = _text_column(derived, key)
         return _joined_lines(columns, delimiter)
     table = pa.Table.from_arrays(escaped, names=[f"c{i}" for i in range(len(escaped))])
+    options = pcsv.WriteOptions(include_header=False, delimiter=delimiter, quoting_style="none")
+    if into is not None:
+        sink = pa.FixedSizeBufferWriter(pa.py_buffer(into))
+        try:
+            pcsv.write_csv(table, sink, write_options=options)
+        except OSError:  # longer than the room: made apart below
+            pass
+        else:
+            size = sink.tell()
+            _put_back(np.frombuffer(into, dtype=np.uint8, count=size), delimiter)
+            return size
     sink = pa.BufferOutputStream()
-    pcsv.write_csv(
-        table,
-        sink,
-        write_options=pcsv.WriteOptions(
-            include_header=False, delimiter=delimiter, quoting_style="none"
-        ),
-    )
+    pcsv.write_csv(table, sink, write_options=options)
     data = sink.getvalue()
-    raw = np.frombuffer(data, dtype=np.uint8)
-    quote = raw == ord(_QUOTE_MARK)
-    if not quote.any():
+    if not _put_back(np.frombuffer(data, dtype=np.uint8), delimiter, dry=True):
         return data.to_pybytes()
-    out = raw.copy()
-    out[quote] = ord('"')
-    out[raw == ord(_DELIM_MARK)] = ord(delimiter)
-    return out.tobytes()
+    out = bytearray(data)
+    _put_back(np.frombuffer(out, dtype=np.uint8), delimiter)
+    return out
+
+
+def _put_back(raw: np.ndarray, delimiter: str, dry: bool = False) -> bool:
+    """The quote and the delimiter in place of their stand-ins (none if ``dry``); whether
+    there were any."""
+    quotes = np.flatnonzero(raw == ord(_QUOTE_MARK))
+    if not len(quotes):
+        return False
+    if not dry:
+        raw[quotes] = ord('"')
+        raw[np.flatnonzero(raw == ord(_DELIM_MARK))] = ord(delimiter)
+    return True
 
 
 def _joined_lines(columns: list[pa.Array], delimiter: str) -> bytes:
@@ -671,6 +769,8 @@ def _line_ends(data: bytes) -> np.ndarray:
     """Positions just after each ``\\n``, ``\\r\\n`` or lone ``\\r`` in ``data``."""
     arr = np.frombuffer(data, dtype=np.uint8)
     nl = arr == 10
+    if b"\r" not in data:
+        return np.flatnonzero(nl) + 1
     cr = arr == 13
     cr[:-1] &= ~nl[1:]  # \r\n ends at its \n
     return np.flatnonzero(nl | cr) + 1
@@ -735,7 +835,7 @@ class _Parser:
             table = pcsv.read_csv(
                 pa.py_buffer(block),
                 read_options=pcsv.ReadOptions(
-                    column_names=names, block_size=1 << 20, use_threads=True
+                    column_names=names, block_size=1 << 20, use_threads=False
                 ),
                 parse_options=pcsv.ParseOptions(
                     delimiter=self.delimiter, quote_char=False, ignore_empty_lines=True
@@ -895,11 +995,11 @@ class _TextSource:
                 return
             ends = _line_ends(data)
             if len(ends) > CHUNK_ROWS:
-                cut = int(ends[CHUNK_ROWS - 1])
+                cut, n_ends = int(ends[CHUNK_ROWS - 1]), CHUNK_ROWS
             elif eof:
-                cut = len(data)
+                cut, n_ends = len(data), len(ends)
             elif len(ends):
-                cut = int(ends[-1])
+                cut, n_ends = int(ends[-1]), len(ends)
             else:
                 if len(data) > MAX_LINE_BYTES:
                     raise BatchError(self._too_long(self.line))
@@ -907,7 +1007,7 @@ class _TextSource:
                 continue
             block, self.pending, self.eof = data[:cut], data[cut:], eof
             yield _Block(block, self.line)
-            self.line += len(_line_ends(block)) + (0 if block.endswith((b"\n", b"\r")) else 1)
+            self.line += n_ends + (0 if block.endswith((b"\n", b"\r")) else 1)
 
     def _csv_module_chunks(self) -> Iterator[_Chunk]:
         raw = io.BufferedReader(_ChainedReader(self.pending, self.handle), BLOCK_BYTES)
@@ -1067,9 +1167,9 @@ class _Output:
             self.abandon()
             raise
 
-    def write(self, data: bytes) -> None:
+    def write(self, data: bytes | bytearray | memoryview) -> None:
         if self.handle is None:  # a text-only sys.stdout (tests capturing output)
-            sys.stdout.write(data.decode("utf-8"))
+            sys.stdout.write(bytes(data).decode("utf-8"))
         else:
             self.handle.write(data)
 
@@ -1220,8 +1320,11 @@ class _Job:
     out_delimiter: str = ","
 
 
-def _compute(job: _Job, piece: _Block | _Chunk) -> tuple[int, int, Any]:
-    """(rows, rows with an error, CSV bytes or an Arrow table) of one piece of the input."""
+def _compute(
+    job: _Job, piece: _Block | _Chunk, into: memoryview | None = None
+) -> tuple[int, int, Any]:
+    """(rows, rows with an error, CSV bytes or an Arrow table) of one piece of the input;
+    with ``into``, CSV lines that fit are written there and their length is returned."""
     chunk = job.parser.parse(piece) if job.parser is not None else piece
     if not isinstance(chunk, _Chunk):
         return 0, 0, None
@@ -1246,16 +1349,42 @@ def _compute(job: _Job, piece: _Block | _Chunk) -> tuple[int, int, Any]:
                 job.out_delimiter,
                 decimal_comma,
                 None,
+                into,
             ),
         )
     columns = list(chunk.columns) + _arrow_outputs(derived, errors, job.outputs)
     return n, n_errors, pa.Table.from_arrays(columns, names=job.header + list(job.outputs))
 
 
-def _with_row_count(lines: bytes, rows: int) -> bytes:
-    """CSV lines whose last row gets the row count in its last (``END_COLUMN``) cell."""
-    assert lines.endswith(b"\n")
-    return lines[:-1] + str(rows).encode("ascii") + b"\n"
+_SLOT_IN_BYTES = 4 * 1024 * 1024
+_SLOT_OUT_BYTES = 16 * 1024 * 1024
+_SLOT_BYTES = _SLOT_IN_BYTES + _SLOT_OUT_BYTES
+"""Room for one block of input rows and for its CSV lines in the memory shared with the
+worker processes."""
+
+_SHARED: list[Any] = [None]
+"""The shared memory of the run in progress (worker processes are forked with it): one
+slot of :data:`_SLOT_BYTES` per chunk in flight, so that blocks and CSV lines pass
+between the command and its workers without being pickled through a pipe."""
+
+
+def _compute_shared(
+    job: _Job, piece: _Block | _Chunk, slot: int, in_bytes: int
+) -> tuple[int, int, Any]:
+    """:func:`_compute` in a worker process. A block of ``in_bytes`` > 0 is read from
+    shared ``slot``; CSV lines that fit go into it, and the result then holds
+    (slot, length) instead of the bytes."""
+    shared = _SHARED[0]
+    start = slot * _SLOT_BYTES
+    if in_bytes:
+        piece = _Block(shared[start : start + in_bytes], piece.line)
+    start += _SLOT_IN_BYTES
+    room = memoryview(shared)[start : start + _SLOT_OUT_BYTES]
+    n, n_errors, result = _compute(job, piece, room)
+    if isinstance(result, (bytes, bytearray)) and len(result) <= _SLOT_OUT_BYTES:
+        room[: len(result)] = result
+        result = len(result)
+    return n, n_errors, (slot, result) if isinstance(result, int) else result
 
 
 def _worker_start() -> None:
@@ -1278,6 +1407,15 @@ def _pool(workers: int | None) -> tuple[Executor, int]:
         ctx = mp.get_context("fork")
         return ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_worker_start), n
     return ThreadPoolExecutor(max_workers=n, thread_name_prefix="o2transit-batch"), n
+
+
+def _shared_memory(pool: Executor, n_workers: int, out_kind: str):
+    """Memory shared with worker processes forked after this call (CSV output only)."""
+    if out_kind != "csv" or not isinstance(pool, ProcessPoolExecutor):
+        return None
+    import mmap
+
+    return mmap.mmap(-1, (n_workers + 1) * _SLOT_BYTES)
 
 
 def _stop(pool: Executor) -> None:
@@ -1318,7 +1456,9 @@ def _run(
     head = (out_delimiter.join(_quoted(names, out_delimiter).to_pylist()) + "\n").encode()
     pieces = source.pieces() if hasattr(source, "pieces") else source.chunks()
     rows = n_errors = 0
-    held: bytes | None = None  # the last CSV lines, written with the row count at the end
+    # each chunk's lines go out at once but its last line end waits: the last line of the
+    # file gets the row count in its END_COLUMN cell first
+    line_end = b""
     # nothing between creating the temporary file and the try that removes it
     try:
         output = _Output(out_path, in_path, out_kind)
@@ -1328,31 +1468,47 @@ def _run(
     try:
         bar.update(0, 0.0)
         pending: list[Future] = []
+        shared = _SHARED[0] = _shared_memory(pool, n_workers, out_kind)
+        slots = n_workers + 1  # chunks in flight at most (see drain)
 
         def drain(keep: int) -> None:
-            nonlocal rows, n_errors, held, head
+            nonlocal rows, n_errors, line_end, head
             while len(pending) > keep:
                 n, e, result = pending.pop(0).result()
                 if not n:
                     continue
                 if output.kind == "csv":
-                    if held is not None:
-                        output.write(held)
-                    held, head = head + result, b""
+                    if isinstance(result, tuple):
+                        start = result[0] * _SLOT_BYTES + _SLOT_IN_BYTES
+                        lines = memoryview(shared)[start : start + result[1]]
+                    else:
+                        lines = memoryview(result)
+                    assert lines[-1:] == b"\n"
+                    output.write(line_end + head)
+                    output.write(lines[:-1])
+                    line_end, head = b"\n", b""
                 else:
                     output.write_table(result, metadata)
                 rows += n
                 n_errors += e
                 bar.update(rows, source.progress())
 
-        for piece in pieces:
-            pending.append(pool.submit(_compute, job, piece))
+        for i, piece in enumerate(pieces):
+            if shared is None:
+                pending.append(pool.submit(_compute, job, piece))
+            else:
+                slot, size = i % slots, 0
+                if isinstance(piece, _Block) and len(piece.data) <= _SLOT_IN_BYTES:
+                    size, start = len(piece.data), slot * _SLOT_BYTES
+                    shared[start : start + size] = piece.data
+                    piece = _Block(b"", piece.line)
+                pending.append(pool.submit(_compute_shared, job, piece, slot, size))
             drain(n_workers)
         drain(0)
         if not rows:
             raise BatchError(f"{in_path}: no data rows under the header; nothing to derive")
-        if held is not None:
-            output.write(_with_row_count(held, rows))
+        if line_end:
+            output.write(str(rows).encode("ascii") + line_end)
         bar.update(rows, 1.0, final=True)
         bar.close()
         output.finish(rows)
@@ -1360,6 +1516,8 @@ def _run(
         output.abandon()  # first: nothing below may stop it
         _stop(pool)
         raise
+    finally:
+        _SHARED[0] = None
     pool.shutdown(wait=True)
     where = "-" if output.to_stdout else str(output.path)
     return BatchSummary(rows, n_errors, where, output.kind)

@@ -498,18 +498,34 @@ class Derived(dict):
     text: dict[str, tuple[np.ndarray, tuple[str, ...]]]
 
 
-_JOINED: dict[tuple[tuple[str, ...], int], str] = {}
+_JOINED: dict[tuple[str, ...], dict[int, str]] = {}
+_JOINED_SIZE = [0]
 
 
-def _joined(messages: tuple[str, ...], combo: int) -> str:
-    """The messages whose bits are set in ``combo``, joined by "; " (remembered)."""
-    text = _JOINED.get((messages, combo))
-    if text is None:
-        if len(_JOINED) > 200_000:
-            _JOINED.clear()
-        text = "; ".join(m for b, m in enumerate(messages) if combo >> b & 1)
-        _JOINED[(messages, combo)] = text
-    return text
+def _joined(messages: tuple[str, ...], combos: list[int]) -> tuple[str, ...]:
+    """For each combination, the messages whose bits are set in it, joined by "; "
+    (remembered per tuple of messages, up to about 200,000 strings in all)."""
+    if _JOINED_SIZE[0] > 200_000:
+        _JOINED.clear()
+        _JOINED_SIZE[0] = 0
+    known = _JOINED.setdefault(messages, {})
+    texts: list[str] = []
+    for c in combos:
+        text = known.get(c)
+        if text is None:
+            high = c.bit_length() - 1  # the last message; the others are mostly known
+            rest = c ^ (1 << high) if c else 0
+            if not rest:
+                text = messages[high] if c else ""
+            else:
+                head = known.get(rest)
+                if head is None:
+                    head = "; ".join(m for b, m in enumerate(messages) if rest >> b & 1)
+                text = f"{head}; {messages[high]}"
+            known[c] = text
+            _JOINED_SIZE[0] += 1
+        texts.append(text)
+    return tuple(texts)
 
 
 class _Messages:
@@ -549,7 +565,7 @@ class _Messages:
             combos, inverse = np.unique(np.append(bits, 0), return_inverse=True)
             inverse = inverse.ravel()[:-1]
         key = tuple(self.messages)
-        strings = tuple(_joined(key, c) for c in combos.tolist())
+        strings = _joined(key, combos.tolist())
         return _Text(inverse, strings)
 
 

@@ -45,6 +45,17 @@ def _header(path: Path) -> list[str]:
         return next(csv.reader(line for line in f if not line.startswith("#")))
 
 
+def _in_own_process(args: list[str]) -> None:
+    """Python with ``args`` in a process of its own (single-threaded: batch forks workers)."""
+    import subprocess
+    import sys
+
+    done = subprocess.run(
+        [sys.executable, *args], capture_output=True, text=True, timeout=300, check=False
+    )
+    assert done.returncode == 0, done.stderr
+
+
 def _num(cell: str) -> float:
     return float(cell.replace(",", ".")) if cell else math.nan
 
@@ -309,9 +320,6 @@ def test_chunks_do_not_change_results(tmp_path):
 def test_worker_processes_give_the_same_bytes_as_one_worker(tmp_path):
     # The command computes chunks in worker processes (fork); a quoted block, a ragged row
     # and blank lines among several chunks must come out byte for byte as with one worker.
-    import subprocess
-    import sys
-
     src = tmp_path / "many.csv"
     base = "80,40,7.40,0.95,12,0.4,37"
     rows = [base] * (3 * CHUNK_ROWS)
@@ -329,14 +337,7 @@ def test_worker_processes_give_the_same_bytes_as_one_worker(tmp_path):
     outs = []
     for n in ("1", "3"):
         out = tmp_path / f"o{n}.csv"
-        done = subprocess.run(
-            [sys.executable, "-m", "o2transit", "batch", str(src), "-o", str(out), "--workers", n],
-            capture_output=True,
-            text=True,
-            timeout=300,
-            check=False,
-        )
-        assert done.returncode == 0, done.stderr
+        _in_own_process(["-m", "o2transit", "batch", str(src), "-o", str(out), "--workers", n])
         outs.append(out.read_bytes())
     assert outs[0] == outs[1]
     got = _rows(tmp_path / "o3.csv")
@@ -689,3 +690,114 @@ def test_an_input_without_rows_writes_nothing_to_standard_output(tmp_path, capsy
     assert main(["batch", str(src), "-o", "-"]) == 2
     captured = capsys.readouterr()
     assert captured.out == "" and "no data rows" in captured.err
+
+
+# --- the fast paths give what the plain definitions give ----------------------------------
+
+
+def test_number_cells_are_told_as_the_number_pattern_tells_them():
+    # _parse classifies plain decimals without the regex and sends only the other cells
+    # to it; every cell must come out as the pattern and float() make it (ASCII digits).
+    import re
+
+    import pyarrow as pa
+    from o2transit.model import batch as batch_module
+
+    plain = ["7.40", "12", "5.", ".5", "0", "007.1", "1.2.3", ".", ".."]
+    spelled = ["+1", "-2.5", "1e2", "2E-1", "+.5", "nan", "NaN", "-inf", "Infinity", " 7.4 "]
+    other = ["\t8", "", "  ", "x", "1,5", "0x10", "\u0663", "7.4x", "e5", "1.5e", "1_0", "\u00a07"]
+    cells: list[str | None] = [*plain, *spelled, *other, None]
+    pattern = re.compile(batch_module._NUMBER, re.ASCII)
+    for decimal_comma in (False, True):
+        values, bad = batch_module._parse(pa.array(cells, type=pa.string()), decimal_comma)
+        for cell, value, refused in zip(cells, values.tolist(), bad.tolist()):
+            text = "" if cell is None else cell.strip()
+            text = text.replace(",", ".") if decimal_comma else text
+            if not text:
+                assert math.isnan(value) and not refused, cell
+            elif pattern.fullmatch(text):
+                expected = float(text)
+                assert not refused and (value == expected or math.isnan(expected)), cell
+            else:
+                assert refused and math.isnan(value), cell
+    # a column of numbers only, some in other spellings, is read whole
+    values, bad = batch_module._parse(pa.array(["1e2", "-3", "4.5", "", None]), False)
+    assert values[:3].tolist() == [100.0, -3.0, 4.5] and np.isnan(values[3:]).all()
+    assert not bad.any()
+
+
+@pytest.mark.parametrize("chars", ['",', "\r\n\x1d\x1e", '"\t'])
+def test_cells_holding_finds_each_cell_with_one_of_the_characters(chars):
+    import pyarrow as pa
+    from o2transit.model import batch as batch_module
+
+    cells = [
+        "",
+        "a,b",
+        'say "hi"',
+        "tab\there",
+        "line\nend",
+        "\x1dmark",
+        "plain",
+        None,
+        "é,ü",
+        "\r",
+        "x" * 300 + ",",
+        ",",
+        '"',
+    ]
+    arr = pa.array(cells, type=pa.string())
+    for cut in (arr, arr.slice(3)):  # a slice has offsets that do not start at 0
+        found = batch_module._cells_holding(cut, chars)
+        expected = [c is not None and any(ch in c for ch in chars) for c in cut.to_pylist()]
+        assert found.tolist() == expected
+
+
+def test_blocks_and_lines_too_long_for_the_shared_memory_go_through_the_pipe(tmp_path):
+    # Worker processes take blocks from and put CSV lines into memory shared with the
+    # command; what does not fit is pickled instead. With room for almost nothing, the
+    # bytes must be those of one worker (no shared memory at all).
+    src = tmp_path / "many.csv"
+    base = "80,40,7.40,0.95,12,0.4,37"
+    rows = [f"bed {i},{base}" for i in range(2 * CHUNK_ROWS + 50)]
+    rows[3] = "bed 3,80,40,7.40,0.95,12,4,37"
+    rows[-20] = 'bed x,"80",40,7.40,0.95,12,0.4,37'  # from here on, chunks of the csv module
+    src.write_text("case_label," + ",".join(REQUIRED) + "\n" + "\n".join(rows) + "\n")
+    code = (
+        "import sys; from o2transit.model import batch as b; from o2transit.cli import main\n"
+        "if sys.argv[1] == 'small':\n"
+        "    b._SLOT_IN_BYTES, b._SLOT_OUT_BYTES = 5000, 600_000\n"
+        "    b._SLOT_BYTES = b._SLOT_IN_BYTES + b._SLOT_OUT_BYTES\n"
+        "sys.exit(main(['batch', sys.argv[2], '-o', sys.argv[3], '--workers', sys.argv[4]]))\n"
+    )
+    outs = []
+    for room, workers in (("usual", "1"), ("usual", "2"), ("small", "2")):
+        out = tmp_path / f"o_{room}_{workers}.csv"
+        _in_own_process(["-c", code, room, str(src), str(out), workers])
+        outs.append(out.read_bytes())
+    assert outs[0] == outs[1] == outs[2]
+    got = _rows(tmp_path / "o_small_2.csv")
+    assert len(got) == len(rows) and got[-1][END_COLUMN] == str(len(rows))
+    assert "fio2 = 4" in got[3]["error"]
+
+
+def test_a_cell_with_a_line_end_leaves_the_text_outputs_as_text(tmp_path):
+    """A chunk holding a quoted cell with a line end is written cell by cell; its reasons and
+    flags (which hold commas and colons) must come out quoted, not with the stand-in bytes
+    Arrow's writer path uses (found in review: 0x1e and 0x1d in the output)."""
+    src = tmp_path / "multiline.csv"
+    src.write_text(
+        "case,pao2_mmhg,paco2_mmhg,ph,sao2,hb_g_dl,fio2,temperature_c,svo2,pvo2_mmhg,"
+        "cardiac_output_l_min\n"
+        '"two\nlines",90,40,7.4,0.97,14,0.21,37,0.99,45,5\n'
+        "b,90,40,7.4,0.97,14,0.21,37,0.7,38,5\n",
+        encoding="utf-8",
+    )
+    out = tmp_path / "out.csv"
+    run_batch(src, out, stream=io.StringIO())
+    data = out.read_bytes()
+    assert b"\x1e" not in data and b"\x1d" not in data
+    rows = list(csv.DictReader(io.StringIO(data.decode("utf-8"), newline="")))
+    assert [r["case"] for r in rows] == ["two\nlines", "b"]
+    assert rows[0]["reasons"].startswith("CvO2 >= CaO2")
+    assert "; shunt, VO2 and extraction not computed" in rows[0]["reasons"]
