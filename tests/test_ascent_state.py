@@ -542,3 +542,15 @@ def test_html_export_has_a_print_layout_and_the_band(ws):
     assert "Predicted SpO2 at rest, low edge (%)" in page
     assert "Readings logged on the way" in page and "predicted SpO2" in page
     assert "West 1996 mountain model" in page
+
+
+def test_the_pressure_line_names_the_model_in_words():
+    from o2transit.dashboard.ascent.views import UnitToggle
+
+    ws = AscentWorkspace()
+    ws.load_examples()
+    text = UnitToggle(ws)._model.object
+    assert text == (
+        "Barometric pressure from the West 1996 mountain model, for every compared schedule."
+    )
+    assert "pressure_model" not in text  # a field name of the code, not words for a reader

@@ -211,13 +211,19 @@ class UnitToggle(pn.viewable.Viewer):
             for k in ws.compared
             if k in ws.schedules
         }
-        self._model.object = (
-            "Barometric pressure from the "
-            + html.escape(" and the ".join(sorted(models)))
-            + " (each schedule's pressure_model)."
-            if models
-            else ""
-        )
+        if not models:
+            self._model.object = ""
+        elif len(models) == 1:
+            self._model.object = (
+                f"Barometric pressure from the {html.escape(models.pop())}, for every "
+                "compared schedule."
+            )
+        else:  # schedules that give their own pressures beside ones that do not
+            self._model.object = (
+                "Barometric pressure from the "
+                + html.escape(" and the ".join(sorted(models)))
+                + ", as each schedule sets it."
+            )
 
     def __panel__(self):
         return self._layout
