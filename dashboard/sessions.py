@@ -148,7 +148,9 @@ _PENDING = "_o2transit_build"
 since the build refers to its page's models and they to their document)."""
 
 
-def _build_when_connected(doc, name: str, build: Callable[[], object], fill) -> None:
+def _build_when_connected(
+    doc, name: str, build: Callable[[], object], fill, modules: tuple[str, ...] = ()
+) -> None:
     def run() -> None:
         BUILDS[name] += 1
         # Panel puts off changes to a rendered model until the page has reported itself
@@ -176,7 +178,8 @@ def _build_when_connected(doc, name: str, build: Callable[[], object], fill) -> 
     _quiet_loop()
     doc.on_session_destroyed(_session_destroyed)
     setattr(doc, _PENDING, run)
-    if _navigating(doc):
+    if _navigating(doc):  # a browser: it connects as soon as its scripts have loaded
+        preload(modules)
         _build_ahead(doc)
 
 
@@ -210,10 +213,10 @@ _PRELOADING: set[str] = set()
 
 _AHEAD: dict[int, float] = {}
 """Documents whose screen is being built ahead of their page's connection (id -> when it was
-asked, monotonic s); an entry older than :data:`AHEAD_STALE_S` (its server stopped while it
-waited) no longer holds the next one back."""
-
+asked, monotonic s)."""
 AHEAD_STALE_S = 10.0
+"""An :data:`_AHEAD` entry this old (its server stopped while it waited) no longer holds the
+next build ahead back [s]."""
 
 
 def _navigating(doc) -> bool:
@@ -259,10 +262,11 @@ def _build_ahead(doc) -> None:
         try:
             # the browser fetches the page's scripts and styles first: while any of them is
             # being served the build waits, so that they are not held up behind it
-            waited = 0.0
-            while time.monotonic() - RequestActivity.last < AHEAD_IDLE_S and waited < AHEAD_WAIT_S:
+            deadline = time.monotonic() + AHEAD_WAIT_S
+            while time.monotonic() < deadline:
+                if time.monotonic() - RequestActivity.last >= AHEAD_IDLE_S:
+                    break
                 await asyncio.sleep(0.02)
-                waited += 0.02
             d = ref()
             session = getattr(getattr(d, "session_context", None), "_session", None)
             if d is None or session is None or session.destroyed:
@@ -442,8 +446,6 @@ def template_page(
         if doc is None:
             BUILDS[name] += 1
             return build()
-        if _navigating(doc):
-            preload(modules)
         template = shell()
         side = pn.Column(sizing_mode="stretch_width", margin=0)
         main = pn.Column(_opening(), sizing_mode="stretch_width", margin=0)
@@ -457,7 +459,7 @@ def template_page(
             side.objects = list(built.sidebar)
             main.objects = list(built.main)
 
-        _build_when_connected(doc, name, build, fill)
+        _build_when_connected(doc, name, build, fill, modules)
         return template
 
     page.__doc__ = build.__doc__
@@ -479,14 +481,12 @@ def column_page(
         if doc is None:
             BUILDS[name] += 1
             return build()
-        if _navigating(doc):
-            preload(modules)
         column = shell(_opening())
 
         def fill(built) -> None:
             column.objects = [_failed()] if built is None else list(built.objects)
 
-        _build_when_connected(doc, name, build, fill)
+        _build_when_connected(doc, name, build, fill, modules)
         return column
 
     page.__doc__ = build.__doc__

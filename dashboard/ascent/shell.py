@@ -28,8 +28,9 @@ PRINT_CSS = """
 }
 @page { margin: 14mm; }
 """
-"""Print layout of the exported page (and, through :data:`dashboard.ascent.app`, the live
-planner): no margins to waste, headings kept with what follows, rows and figures whole."""
+"""Print layout of the exported page (:mod:`dashboard.ascent.export`) and, within
+:data:`PAGE_PRINT_CSS`, of the live planner: no margins to waste, headings kept with what
+follows, rows and figures whole."""
 
 
 TITLE = "o2transit · ascent planner"
